@@ -1,0 +1,190 @@
+/**
+ * The inspection report: one plain JSON-serialisable object per mesh. Field meanings are documented
+ * in README.md ("The inspection report"); keep the two in step.
+ */
+
+export const ENGINE_VERSION = '0.1.0';
+
+export type Vec3 = [number, number, number];
+
+/** Axis-aligned box. An empty mesh gives min = max = [0, 0, 0]. */
+export interface Bbox {
+	min: Vec3;
+	max: Vec3;
+}
+
+/** Bin counts over ascending bin boundaries: counts[i] covers [bins[i], bins[i + 1]). */
+export interface Histogram {
+	/** What is measured, in words, e.g. 'edge length (model units), log-spaced bins'. */
+	measure: string;
+	/** counts.length + 1 ascending boundaries; the last bin includes its upper boundary. */
+	bins: number[];
+	counts: number[];
+}
+
+/** Which face of the mesh bounding box a hole lies on, if any. */
+export type BboxPlane = 'x-min' | 'x-max' | 'y-min' | 'y-max' | 'z-min' | 'z-max';
+
+/** One closed loop of boundary edges (a hole). */
+export interface HoleInfo {
+	edgeCount: number;
+	/** Sum of the loop's edge lengths, model units. */
+	perimeter: number;
+	/** Mean of the loop's vertex positions (each loop corner once). */
+	centroid: Vec3;
+	bbox: Bbox;
+	/** Set when every loop vertex lies on one plane of the mesh bounding box (within tolerances.planeRel × diagonal). */
+	onBboxPlane: BboxPlane | null;
+	/** Shell (index into `shells`) the loop belongs to. */
+	shell: number;
+}
+
+/** One connected shell: faces connected through shared edges (non-manifold edges connect too). */
+export interface ShellInfo {
+	faces: number;
+	/** Distinct vertices referenced by the shell's faces. */
+	vertices: number;
+	edges: number;
+	boundaryEdges: number;
+	boundaryLoops: number;
+	/** No boundary edges. */
+	closed: boolean;
+	/** No non-manifold edges and no non-manifold vertices in this shell. */
+	manifold: boolean;
+	orientable: boolean;
+	/** Every interior edge of the shell is used once in each direction. */
+	consistentlyOriented: boolean;
+	/** Fewest faces of this shell to flip to make it consistent (see README for non-orientable shells). */
+	flippedFaces: number;
+	/** V − E + F of this shell. */
+	eulerCharacteristic: number;
+	/** (2 − χ − b) / 2, or null when the shell is non-manifold or non-orientable. */
+	genus: number | null;
+	/** Divergence-theorem volume, positive when normals point outwards; meaningful only if closed. */
+	signedVolume: number;
+	area: number;
+	bbox: Bbox;
+}
+
+export interface FlowProjection {
+	/** Unit flow direction the silhouette is taken along. */
+	direction: Vec3;
+	/** Silhouette (frontal) area seen along the direction, model units². */
+	area: number;
+	/** Bound on |area − true silhouette area| from the rasterisation (see README). */
+	errorBound: number;
+	/** How the area was computed, in words. */
+	method: string;
+}
+
+export interface ProjectedArea {
+	/** Silhouette area seen along the x axis (projected on the y-z plane); likewise y and z. */
+	x: number;
+	y: number;
+	z: number;
+	/** Error bounds for x, y, z, in the same order. */
+	errorBounds: Vec3;
+	flow: FlowProjection;
+}
+
+export type HintKind = 'floating-shells' | 'clipped-by-bbox-plane' | 'sliver-cluster' | 'short-edges' | 'inside-out';
+
+/** A likely generator artefact, in plain words. */
+export interface Hint {
+	kind: HintKind;
+	message: string;
+	/** How many items (shells, holes, faces, edges) the hint is about. */
+	count: number;
+	/** Share of the total surface area involved, 0..1, where meaningful; else null. */
+	areaShare: number | null;
+}
+
+export interface SelfIntersectionSample {
+	a: number;
+	b: number;
+	point: Vec3;
+}
+
+export interface Tolerances {
+	/** Planarity tolerance for `onBboxPlane`, relative to the bbox diagonal. */
+	planeRel: number;
+	/** Faces with quality below this count as slivers for hints. */
+	sliverQuality: number;
+	/** Shells below this share of total area (and not the largest) count as tiny floating shells. */
+	tinyShellAreaShare: number;
+	/** Minimum number of slivers connected through edges that makes a "cluster". */
+	sliverClusterMin: number;
+	/** Threshold for `shortEdges`; 0 when no minEdgeLength option was given. */
+	minEdgeLength: number;
+	/** Raster resolution (cells along the longer side) for projected areas. */
+	rasterCells: number;
+	/** Hole list cap: the largest (by perimeter) this many are listed; all are counted. */
+	maxHolesListed: number;
+}
+
+export interface InspectionReport {
+	engineVersion: string;
+	format: string;
+	fileName: string;
+	vertices: number;
+	faces: number;
+	edges: number;
+	weldedVertices: number;
+	duplicatePositions: number;
+	polygonsSplit: number;
+	regions: { name: string; faces: number }[];
+
+	boundaryEdges: number;
+	boundaryLoops: number;
+	holes: HoleInfo[];
+	nonManifoldEdges: number;
+	nonManifoldVertices: number;
+	orientable: boolean;
+	consistentlyOriented: boolean;
+	flippedFaces: number;
+	components: number;
+	shells: ShellInfo[];
+	eulerCharacteristic: number;
+	genus: number | null;
+	watertight: boolean;
+
+	/** null when the self-intersection stage was skipped. */
+	selfIntersectingPairs: number | null;
+	selfIntersectionSample: SelfIntersectionSample[];
+
+	degenerateFaces: number;
+	duplicateFaces: number;
+	minEdgeLength: number;
+	maxEdgeLength: number;
+	shortEdges: number;
+	edgeLengthHistogram: Histogram;
+	faceQualityHistogram: Histogram;
+
+	bbox: Bbox;
+	area: number;
+	volume: number;
+	projectedArea: ProjectedArea;
+	wettedArea: number;
+
+	hints: Hint[];
+	/** Milliseconds per stage. */
+	timings: Record<string, number>;
+	tolerances: Tolerances;
+}
+
+export interface InspectOptions {
+	/** Flow direction for the frontal area; normalised. Default [1, 0, 0]. */
+	flowDirection?: Vec3;
+	/** Edges shorter than this are counted in `shortEdges`. Default 0 (none counted). */
+	minEdgeLength?: number;
+	/** Refuse meshes with more triangles than this. Default DEFAULT_MAX_FACES. */
+	maxFaces?: number;
+	/** Skip the self-intersection stage (selfIntersectingPairs becomes null). */
+	skipSelfIntersections?: boolean;
+	/** Cap on selfIntersectionSample length. Default 100. */
+	sampleLimit?: number;
+	/** Raster cells along the longer side of each projection. Default 1024. */
+	rasterCells?: number;
+	/** Name shown in the report. */
+	fileName?: string;
+}

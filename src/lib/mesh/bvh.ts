@@ -1,0 +1,164 @@
+/**
+ * Bounding-volume hierarchy over axis-aligned boxes in flat arrays: a linear BVH (Morton-code
+ * order, Lauterbach et al. 2009; split at the highest differing code bit, Karras 2012).
+ * Build is a radix sort plus one top-down pass: O(n) after the sort, O(n) memory.
+ */
+
+export interface FlatBvh {
+	nodeCount: number;
+	/** 6 per node: minX, minY, minZ, maxX, maxY, maxZ (closed boxes). */
+	bounds: Float64Array;
+	/** Index of the first child (the second is firstChild + 1), or −1 for a leaf. */
+	firstChild: Int32Array;
+	/** Leaves: first slot in `order` and how many slots. Inner nodes cover the union of their leaves. */
+	start: Uint32Array;
+	count: Uint32Array;
+	/** Slot → item id. Items of a leaf are order[start .. start + count − 1]. */
+	order: Uint32Array;
+}
+
+const MORTON_BITS = 10;
+
+/** Spreads the low 10 bits of v so that bit k lands on bit 3k. */
+function spread3(v: number): number {
+	v = (v | (v << 16)) & 0x030000ff;
+	v = (v | (v << 8)) & 0x0300f00f;
+	v = (v | (v << 4)) & 0x030c30c3;
+	v = (v | (v << 2)) & 0x09249249;
+	return v;
+}
+
+/**
+ * Builds the hierarchy over `itemCount` boxes, 6 floats each in `boxes` (min xyz, max xyz).
+ * Leaves hold at most `leafSize` items.
+ */
+export function buildBvh(boxes: Float64Array, itemCount: number, leafSize = 4): FlatBvh {
+	const n = itemCount;
+	let cminX = Infinity, cminY = Infinity, cminZ = Infinity;
+	let cmaxX = -Infinity, cmaxY = -Infinity, cmaxZ = -Infinity;
+	for (let i = 0, i6 = 0; i < n; i++, i6 += 6) {
+		const cx = boxes[i6] + boxes[i6 + 3], cy = boxes[i6 + 1] + boxes[i6 + 4], cz = boxes[i6 + 2] + boxes[i6 + 5];
+		if (cx < cminX) cminX = cx;
+		if (cx > cmaxX) cmaxX = cx;
+		if (cy < cminY) cminY = cy;
+		if (cy > cmaxY) cmaxY = cy;
+		if (cz < cminZ) cminZ = cz;
+		if (cz > cmaxZ) cmaxZ = cz;
+	}
+	const cells = (1 << MORTON_BITS) - 1;
+	const sx = cmaxX > cminX ? cells / (cmaxX - cminX) : 0;
+	const sy = cmaxY > cminY ? cells / (cmaxY - cminY) : 0;
+	const sz = cmaxZ > cminZ ? cells / (cmaxZ - cminZ) : 0;
+	let codes = new Uint32Array(n);
+	let order = new Uint32Array(n);
+	for (let i = 0, i6 = 0; i < n; i++, i6 += 6) {
+		const qx = ((boxes[i6] + boxes[i6 + 3] - cminX) * sx) | 0;
+		const qy = ((boxes[i6 + 1] + boxes[i6 + 4] - cminY) * sy) | 0;
+		const qz = ((boxes[i6 + 2] + boxes[i6 + 5] - cminZ) * sz) | 0;
+		codes[i] = (spread3(qx) | (spread3(qy) << 1) | (spread3(qz) << 2)) >>> 0;
+		order[i] = i;
+	}
+	// LSD radix sort of (code, item) by code: three 10-bit passes, stable.
+	let codes2 = new Uint32Array(n);
+	let order2 = new Uint32Array(n);
+	const hist = new Uint32Array(1024);
+	for (let shift = 0; shift < 30; shift += 10) {
+		hist.fill(0);
+		for (let i = 0; i < n; i++) hist[(codes[i] >>> shift) & 1023]++;
+		let sum = 0;
+		for (let b = 0; b < 1024; b++) {
+			const h = hist[b];
+			hist[b] = sum;
+			sum += h;
+		}
+		for (let i = 0; i < n; i++) {
+			const c = codes[i];
+			const dst = hist[(c >>> shift) & 1023]++;
+			codes2[dst] = c;
+			order2[dst] = order[i];
+		}
+		const tc = codes; codes = codes2; codes2 = tc;
+		const to = order; order = order2; order2 = to;
+	}
+
+	const maxNodes = Math.max(1, 2 * n - 1);
+	const firstChild = new Int32Array(maxNodes);
+	const start = new Uint32Array(maxNodes);
+	const count = new Uint32Array(maxNodes);
+	// Top-down split; children are allocated after their parent, so bounds can be filled in reverse.
+	const stack = new Int32Array(3 * 256);
+	let sp = 0;
+	let nodeCount = 1;
+	stack[sp++] = 0;
+	stack[sp++] = 0;
+	stack[sp++] = n;
+	while (sp > 0) {
+		const e = stack[--sp];
+		const s = stack[--sp];
+		const node = stack[--sp];
+		start[node] = s;
+		count[node] = e - s;
+		if (e - s <= leafSize) {
+			firstChild[node] = -1;
+			continue;
+		}
+		const c0 = codes[s], c1 = codes[e - 1];
+		let mid: number;
+		if (c0 === c1) mid = (s + e) >>> 1;
+		else {
+			const bit = 1 << (31 - Math.clz32(c0 ^ c1));
+			let lo = s + 1, hi = e - 1; // first slot whose code has `bit` set
+			while (lo < hi) {
+				const m = (lo + hi) >>> 1;
+				if (codes[m] & bit) hi = m;
+				else lo = m + 1;
+			}
+			mid = lo;
+		}
+		const l = nodeCount;
+		nodeCount += 2;
+		firstChild[node] = l;
+		if (sp + 6 > stack.length) throw new Error('BVH build stack overflow');
+		stack[sp++] = l;
+		stack[sp++] = s;
+		stack[sp++] = mid;
+		stack[sp++] = l + 1;
+		stack[sp++] = mid;
+		stack[sp++] = e;
+	}
+	const bounds = new Float64Array(6 * nodeCount);
+	for (let node = nodeCount - 1; node >= 0; node--) {
+		const o = 6 * node;
+		let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;
+		const fc = firstChild[node];
+		if (fc < 0) {
+			for (let k = start[node], end = k + count[node]; k < end; k++) {
+				const b = 6 * order[k];
+				if (boxes[b] < mnx) mnx = boxes[b];
+				if (boxes[b + 1] < mny) mny = boxes[b + 1];
+				if (boxes[b + 2] < mnz) mnz = boxes[b + 2];
+				if (boxes[b + 3] > mxx) mxx = boxes[b + 3];
+				if (boxes[b + 4] > mxy) mxy = boxes[b + 4];
+				if (boxes[b + 5] > mxz) mxz = boxes[b + 5];
+			}
+		} else {
+			const a = 6 * fc, b = a + 6;
+			mnx = Math.min(bounds[a], bounds[b]);
+			mny = Math.min(bounds[a + 1], bounds[b + 1]);
+			mnz = Math.min(bounds[a + 2], bounds[b + 2]);
+			mxx = Math.max(bounds[a + 3], bounds[b + 3]);
+			mxy = Math.max(bounds[a + 4], bounds[b + 4]);
+			mxz = Math.max(bounds[a + 5], bounds[b + 5]);
+		}
+		bounds[o] = mnx; bounds[o + 1] = mny; bounds[o + 2] = mnz;
+		bounds[o + 3] = mxx; bounds[o + 4] = mxy; bounds[o + 5] = mxz;
+	}
+	return {
+		nodeCount,
+		bounds,
+		firstChild: firstChild.slice(0, nodeCount),
+		start: start.slice(0, nodeCount),
+		count: count.slice(0, nodeCount),
+		order
+	};
+}

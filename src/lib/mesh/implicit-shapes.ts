@@ -1,0 +1,17 @@
+/**
+ * Seeded implicit fields (negative inside, positive outside) for marching-cubes test and bench
+ * meshes: sphere, torus, genus-g rings, and marine shapes (tow body, keel bulb, sensor pod) with
+ * seeded bumps. Units are arbitrary model units; each shape states the box it fits in.
+ */
+
+/** mulberry32: tiny 32-bit seeded PRNG (public-domain, common practice). Returns floats in [0, 1). */
+export function mulberry32(seed: number): () => number {
+	let a = seed >>> 0;
+	return () => {
+		a = (a + 0x6d2b79f5) >>> 0;
+		let t = a;
+		t = Math.imul(t ^ (t >>> 15), t | 1);
+		t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+		return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+	};
+}

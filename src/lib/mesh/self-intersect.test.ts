@@ -1,0 +1,203 @@
+import { describe, expect, it } from 'vitest';
+import { mulberry32 } from './implicit-shapes';
+import { findSelfIntersections } from './self-intersect';
+import type { MeshBuffers } from './types';
+
+function mesh(points: number[][], tris: number[][]): MeshBuffers {
+	return { positions: Float64Array.from(points.flat()), indices: Uint32Array.from(tris.flat()) };
+}
+
+// --- Brute-force oracle, independent of the production test: separating axis theorem on small
+// integer coordinates, where every product below is exact in float64. For closed convex sets the
+// Minkowski difference A ⊕ (−B) is a polytope whose facet normals are among the axes tried, so
+// "no strictly separating axis" is exactly "the closed sets meet".
+type V = [number, number, number];
+const sub = (a: V, b: V): V => [a[0] - b[0], a[1] - b[1], a[2] - b[2]];
+const cross = (a: V, b: V): V => [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]];
+const dot = (a: V, b: V) => a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
+const isZero = (a: V) => a[0] === 0 && a[1] === 0 && a[2] === 0;
+
+function separated(axes: V[], p: V[], q: V[]): boolean {
+	for (const ax of axes) {
+		if (isZero(ax)) continue;
+		const pp = p.map((v) => dot(ax, v)), qq = q.map((v) => dot(ax, v));
+		if (Math.max(...pp) < Math.min(...qq) || Math.max(...qq) < Math.min(...pp)) return true;
+	}
+	return false;
+}
+function edgesOf(p: V[]): V[] {
+	return p.length === 2 ? [sub(p[1], p[0])] : [sub(p[1], p[0]), sub(p[2], p[1]), sub(p[0], p[2])];
+}
+/** Closed convex hulls of p and q (each a triangle or a segment) meet. */
+function meets(p: V[], q: V[]): boolean {
+	const ep = edgesOf(p), eq = edgesOf(q);
+	const axes: V[] = [];
+	const normals: V[] = [];
+	if (p.length === 3) normals.push(cross(ep[0], ep[1]));
+	if (q.length === 3) normals.push(cross(eq[0], eq[1]));
+	axes.push(...normals);
+	for (const a of ep) for (const b of eq) axes.push(cross(a, b));
+	for (const n of normals) for (const e of [...ep, ...eq]) axes.push(cross(n, e));
+	return !separated(axes, p, q);
+}
+function oracleCount(m: MeshBuffers): { pairs: number; degenerate: number } {
+	const P = (v: number): V => [m.positions[3 * v], m.positions[3 * v + 1], m.positions[3 * v + 2]];
+	const n = m.indices.length / 3;
+	const tri = (t: number) => [m.indices[3 * t], m.indices[3 * t + 1], m.indices[3 * t + 2]];
+	const dead = (t: number) => {
+		const [a, b, c] = tri(t);
+		return isZero(cross(sub(P(b), P(a)), sub(P(c), P(a))));
+	};
+	let pairs = 0, degenerate = 0;
+	for (let i = 0; i < n; i++) if (dead(i)) degenerate++;
+	for (let i = 0; i < n; i++) {
+		if (dead(i)) continue;
+		for (let j = i + 1; j < n; j++) {
+			if (dead(j)) continue;
+			const A = tri(i), B = tri(j);
+			const shared = A.filter((v) => B.includes(v));
+			let hit: boolean;
+			if (shared.length === 0) hit = meets(A.map(P), B.map(P));
+			else if (shared.length === 3) hit = true;
+			else if (shared.length === 1) {
+				const oa = A.filter((v) => v !== shared[0]).map(P), ob = B.filter((v) => v !== shared[0]).map(P);
+				hit = meets(oa, B.map(P)) || meets(ob, A.map(P));
+			} else {
+				const [e0, e1] = shared.map(P);
+				const oa = P(A.find((v) => !shared.includes(v))!), ob = P(B.find((v) => !shared.includes(v))!);
+				const na = cross(sub(e1, e0), sub(oa, e0)), nb = cross(sub(e1, e0), sub(ob, e0));
+				hit = dot(cross(sub(e1, e0), sub(oa, e0)), sub(ob, e0)) === 0 && dot(na, nb) > 0;
+			}
+			if (hit) pairs++;
+		}
+	}
+	return { pairs, degenerate };
+}
+
+function randomSoup(seed: number, triCount: number, vertCount: number, range: number): MeshBuffers {
+	const rnd = mulberry32(seed);
+	const pts: number[][] = [];
+	for (let v = 0; v < vertCount; v++) pts.push([0, 1, 2].map(() => Math.floor(rnd() * range)));
+	const tris: number[][] = [];
+	for (let t = 0; t < triCount; t++) {
+		const a = Math.floor(rnd() * vertCount);
+		let b = Math.floor(rnd() * vertCount);
+		let c = Math.floor(rnd() * vertCount);
+		if (rnd() < 0.05) b = a; // some index-degenerate faces
+		if (rnd() < 0.03) c = Math.floor(rnd() * 2) ? a : b;
+		tris.push([a, b, c]);
+	}
+	return mesh(pts, tris);
+}
+
+describe('findSelfIntersections against a brute-force separating-axis oracle', () => {
+	for (const seed of [1, 2, 3, 4, 5, 6, 7, 8, 9, 10]) {
+		it(`matches the O(n²) oracle on a random integer soup, seed ${seed}`, () => {
+			const m = randomSoup(seed, 150, seed % 2 ? 40 : 120, seed % 3 ? 5 : 9);
+			const want = oracleCount(m);
+			const got = findSelfIntersections(m, { sampleLimit: 1e9 });
+			expect(got.degenerateSkipped).toBe(want.degenerate);
+			expect(got.pairs).toBe(want.pairs);
+			expect(got.sample.length).toBe(got.pairs);
+		});
+	}
+
+	it('matches the oracle on seed 99 soups with non-integer coordinates scaled by 2^-20', () => {
+		// Scaling by a power of two keeps every sign the same as on the integer soup.
+		const m = randomSoup(99, 200, 60, 7);
+		const want = oracleCount(m);
+		const scaled = { positions: m.positions.map((x) => x * 2 ** -20 + 1024), indices: m.indices };
+		expect(findSelfIntersections(m).pairs).toBe(want.pairs);
+		// Translation by 1024 is exact too (coordinates stay below 2^53 ulps apart), so the count holds.
+		expect(findSelfIntersections(scaled).pairs).toBe(want.pairs);
+	});
+
+	it('splits the pair space exactly by lower face index range (seed 7)', () => {
+		const m = randomSoup(7, 300, 80, 6);
+		const full = findSelfIntersections(m).pairs;
+		const n = m.indices.length / 3;
+		let sum = 0;
+		for (const [a, b] of [[0, 37], [37, 150], [150, n]] as [number, number][]) sum += findSelfIntersections(m, { faceRange: [a, b] }).pairs;
+		expect(sum).toBe(full);
+	});
+
+	it('splits the pair space exactly by traversal shards (seed 8)', () => {
+		const m = randomSoup(8, 400, 100, 8);
+		const full = findSelfIntersections(m).pairs;
+		for (const count of [2, 3, 5]) {
+			let sum = 0;
+			for (let index = 0; index < count; index++) sum += findSelfIntersections(m, { shard: { index, count }, taskTarget: 16 }).pairs;
+			expect(sum).toBe(full);
+		}
+	});
+});
+
+describe('findSelfIntersections pair rules on constructed cases', () => {
+	it('counts two disjoint-vertex triangles that touch at a single point', () => {
+		const m = mesh([[0, 0, 0], [2, 0, 0], [0, 2, 0], [1, 0, 0], [1, 0, 1], [1, -1, 1]], [[0, 1, 2], [3, 4, 5]]);
+		const r = findSelfIntersections(m);
+		expect(r.pairs).toBe(1);
+		expect(r.sample[0].point).toEqual([1, 0, 0]);
+	});
+
+	it('does not count triangles a tiny positive distance apart', () => {
+		const m = mesh([[0, 0, 0], [2, 0, 0], [0, 2, 0], [1, -1e-300, 0], [1, -1, 1], [1, -1, -1]], [[0, 1, 2], [3, 4, 5]]);
+		expect(findSelfIntersections(m).pairs).toBe(0);
+	});
+
+	it('counts two crossing triangles with a point on both', () => {
+		const m = mesh([[0, 0, 0], [4, 0, 0], [0, 4, 0], [1, 1, -1], [1, 1, 1], [3, -2, 0.5]], [[0, 1, 2], [3, 4, 5]]);
+		const r = findSelfIntersections(m);
+		expect(r.pairs).toBe(1);
+		expect(Math.abs(r.sample[0].point[2])).toBeLessThan(1e-12);
+	});
+
+	it('counts a coplanar overlap of faces with no shared vertex', () => {
+		const m = mesh([[0, 0, 0], [4, 0, 0], [0, 4, 0], [1, 1, 0], [5, 1, 0], [1, 5, 0]], [[0, 1, 2], [3, 4, 5]]);
+		expect(findSelfIntersections(m).pairs).toBe(1);
+	});
+
+	it('does not count a flat fan of faces around a shared vertex', () => {
+		const m = mesh([[0, 0, 0], [1, 0, 0], [0, 1, 0], [-1, 0, 0], [0, -1, 0]], [[0, 1, 2], [0, 2, 3], [0, 3, 4], [0, 4, 1]]);
+		expect(findSelfIntersections(m).pairs).toBe(0);
+	});
+
+	it('counts faces sharing a vertex when the opposite edge of one pierces the other', () => {
+		const m = mesh([[0, 0, 0], [4, 0, 0], [0, 4, 0], [1, 1, -1], [1, 1, 1]], [[0, 1, 2], [0, 3, 4]]);
+		expect(findSelfIntersections(m).pairs).toBe(1);
+	});
+
+	it('does not count faces sharing a vertex that only meet at it', () => {
+		const m = mesh([[0, 0, 0], [4, 0, 0], [0, 4, 0], [-1, -1, 1], [-1, 1, 1]], [[0, 1, 2], [0, 3, 4]]);
+		expect(findSelfIntersections(m).pairs).toBe(0);
+	});
+
+	it('counts a shared-edge fold (coplanar, same side) but not a flat or bent hinge', () => {
+		const pts = [[0, 0, 0], [1, 0, 0], [0, 1, 0], [0.5, 2, 0], [0.3, -1, 0], [0.5, 0.5, 1]];
+		expect(findSelfIntersections(mesh(pts, [[0, 1, 2], [1, 0, 3]])).pairs).toBe(1); // fold: 3 on the same side as 2
+		expect(findSelfIntersections(mesh(pts, [[0, 1, 2], [1, 0, 4]])).pairs).toBe(0); // flat neighbour
+		expect(findSelfIntersections(mesh(pts, [[0, 1, 2], [1, 0, 5]])).pairs).toBe(0); // bent hinge
+	});
+
+	it('counts a duplicate face once, whatever its winding', () => {
+		const pts = [[0, 0, 0], [1, 0, 0], [0, 1, 0]];
+		expect(findSelfIntersections(mesh(pts, [[0, 1, 2], [2, 1, 0]])).pairs).toBe(1);
+		expect(findSelfIntersections(mesh(pts, [[0, 1, 2], [1, 2, 0], [0, 2, 1]])).pairs).toBe(3);
+	});
+
+	it('skips zero-area faces and reports how many', () => {
+		const pts = [[0, 0, 0], [1, 0, 0], [2, 0, 0], [0, 1, 0], [0.5, -1, 0], [0.5, 1, 0]];
+		const r = findSelfIntersections(mesh(pts, [[0, 1, 2], [0, 0, 3], [0, 4, 5]]));
+		expect(r.degenerateSkipped).toBe(2);
+		expect(r.pairs).toBe(0);
+	});
+
+	it('reports clear errors for out-of-range indices and non-finite coordinates', () => {
+		expect(() => findSelfIntersections(mesh([[0, 0, 0]], [[0, 0, 5]]))).toThrow(/refers to vertex 5/);
+		expect(() => findSelfIntersections(mesh([[0, 0, NaN], [1, 0, 0], [0, 1, 0]], [[0, 1, 2]]))).toThrow(/non-finite/);
+	});
+
+	it('handles an empty mesh', () => {
+		expect(findSelfIntersections(mesh([], [])).pairs).toBe(0);
+	});
+});

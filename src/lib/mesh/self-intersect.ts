@@ -1,0 +1,537 @@
+/**
+ * Self-intersection count of a triangle mesh: a flat linear BVH (bvh.ts) traversed against itself
+ * for candidate pairs, then an exact closed-triangle test per pair.
+ *
+ * Pair rule (closed triangles, the usual one, so counts compare with other libraries):
+ * - no shared vertex: the pair counts when the triangles touch or cross at all, coplanar overlaps too;
+ * - one shared vertex: counts when the edge of one opposite the shared vertex meets the other face;
+ * - a shared edge: counts only when the faces fold onto each other (coplanar, same side of the edge);
+ * - the same three vertices: counts;
+ * - faces of exactly zero area are left out and reported in `degenerateSkipped`.
+ * Sharing is by vertex index, so unwelded copies of a vertex count as touching.
+ *
+ * Tolerance: none. Every sign is exact on the stored float64 coordinates (Shewchuk's adaptive
+ * orient2d/orient3d via robust-predicates, behind a float filter whose error bound is relative to the
+ * operands' magnitudes, so it scales with the model by construction). Faces that miss each other by
+ * any positive distance do not count, whatever the model size.
+ *
+ * Triangle test: a pair is rejected when one triangle lies strictly on one side of the other's plane
+ * (the first step of Möller 1997); otherwise closed triangles in different planes meet exactly when an
+ * edge of one meets the other (segment–triangle via orient3d signs of the Plücker type, as in
+ * Guigue–Devillers 2003), and coplanar ones are tested in a coordinate-plane projection with orient2d.
+ */
+import { buildBvh, type FlatBvh } from './bvh';
+import { ccw2, dropAxis, isDegenerateTriangle, side3 } from './predicates';
+import type { MeshBuffers } from './types';
+
+export interface SelfIntersectionSample {
+	/** Face indices, a < b. */
+	a: number;
+	b: number;
+	/** A point on the intersection of the two faces (float, for display). */
+	point: [number, number, number];
+}
+
+export interface SelfIntersectionStats {
+	buildMs: number;
+	traverseMs: number;
+	/** Triangle pairs whose boxes overlapped (each tested by the exact rule). */
+	candidatePairs: number;
+	/** Calls that fell through the float filter to the exact predicate, plus exact line tests. */
+	exactTests: number;
+	/** Tasks this call ran (see `shard`). */
+	tasks: number;
+}
+
+export interface SelfIntersectionResult {
+	pairs: number;
+	sample: SelfIntersectionSample[];
+	degenerateSkipped: number;
+	ms: number;
+	stats?: SelfIntersectionStats;
+}
+
+export interface SelfIntersectionOptions {
+	/** Most sample entries kept (default 100). */
+	sampleLimit?: number;
+	/**
+	 * Count only pairs whose smaller face index lies in [from, to). Disjoint ranges covering
+	 * [0, triCount) partition the pairs exactly. This filters pairs; the traversal still walks the
+	 * whole tree, so use `shard` to split work.
+	 */
+	faceRange?: [number, number];
+	/**
+	 * Split the traversal: the self-traversal is unrolled into a fixed list of independent node-pair
+	 * tasks (the same list for every call on the same mesh), and this call runs only the tasks it is
+	 * handed, either `index` of every `count` (static), or whatever `nextTask()` returns until it
+	 * returns −1 (dynamic, e.g. an Atomics counter shared between workers). Tasks partition the pair
+	 * space exactly, so shard counts sum to the full count.
+	 */
+	shard?: { index: number; count: number } | { nextTask: () => number };
+	/** How many tasks to unroll the traversal into (default 512; must match across shards). */
+	taskTarget?: number;
+}
+
+export const DEFAULT_SAMPLE_LIMIT = 100;
+export const DEFAULT_TASK_TARGET = 512;
+
+/** Triangle data in BVH slot order: slot k holds face faceOf[k]. */
+export interface PreparedMesh {
+	faceCount: number;
+	liveCount: number;
+	degenerateSkipped: number;
+	faceOf: Uint32Array;
+	verts: Uint32Array;
+	/** 9 coordinates per slot. */
+	tp: Float64Array;
+	/** 6 per slot: normal (b − a) × (c − a), then the absolute values needed by the float filter. */
+	pl: Float64Array;
+	/** 6 per slot: closed box. */
+	box: Float64Array;
+	bvh: FlatBvh;
+}
+
+/** Gathers the non-degenerate faces and builds the hierarchy. Throws on malformed buffers. */
+export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
+	const { positions, indices } = mesh;
+	if (indices.length % 3 !== 0) throw new Error(`Triangle index buffer length ${indices.length} is not a multiple of 3.`);
+	if (positions.length % 3 !== 0) throw new Error(`Position buffer length ${positions.length} is not a multiple of 3.`);
+	const faceCount = indices.length / 3;
+	const vertCount = positions.length / 3;
+	for (let i = 0; i < positions.length; i++) {
+		if (!Number.isFinite(positions[i])) throw new Error(`Vertex ${Math.floor(i / 3)} has a non-finite coordinate.`);
+	}
+	const live = new Uint32Array(faceCount);
+	let liveCount = 0;
+	for (let t = 0; t < faceCount; t++) {
+		const t3 = 3 * t;
+		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
+		if (a >= vertCount || b >= vertCount || c >= vertCount) {
+			throw new Error(`Face ${t} refers to vertex ${Math.max(a, b, c)}, but the mesh has ${vertCount} vertices.`);
+		}
+		if (!isDegenerateTriangle(positions, a, b, c)) live[liveCount++] = t;
+	}
+	const boxes = new Float64Array(6 * liveCount);
+	for (let k = 0; k < liveCount; k++) {
+		const t3 = 3 * live[k];
+		const a3 = 3 * indices[t3], b3 = 3 * indices[t3 + 1], c3 = 3 * indices[t3 + 2];
+		const o = 6 * k;
+		for (let d = 0; d < 3; d++) {
+			const pa = positions[a3 + d], pb = positions[b3 + d], pc = positions[c3 + d];
+			boxes[o + d] = Math.min(pa, pb, pc);
+			boxes[o + 3 + d] = Math.max(pa, pb, pc);
+		}
+	}
+	const bvh = buildBvh(boxes, liveCount, 4);
+	const faceOf = new Uint32Array(liveCount);
+	const verts = new Uint32Array(3 * liveCount);
+	const tp = new Float64Array(9 * liveCount);
+	const pl = new Float64Array(6 * liveCount);
+	const box = new Float64Array(6 * liveCount);
+	const order = bvh.order;
+	for (let k = 0; k < liveCount; k++) {
+		const item = order[k];
+		const t = live[item];
+		faceOf[k] = t;
+		const t3 = 3 * t;
+		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
+		verts[3 * k] = a;
+		verts[3 * k + 1] = b;
+		verts[3 * k + 2] = c;
+		const k9 = 9 * k;
+		const ax = positions[3 * a], ay = positions[3 * a + 1], az = positions[3 * a + 2];
+		const bx = positions[3 * b], by = positions[3 * b + 1], bz = positions[3 * b + 2];
+		const cx = positions[3 * c], cy = positions[3 * c + 1], cz = positions[3 * c + 2];
+		tp[k9] = ax; tp[k9 + 1] = ay; tp[k9 + 2] = az;
+		tp[k9 + 3] = bx; tp[k9 + 4] = by; tp[k9 + 5] = bz;
+		tp[k9 + 6] = cx; tp[k9 + 7] = cy; tp[k9 + 8] = cz;
+		const ux = bx - ax, uy = by - ay, uz = bz - az;
+		const vx = cx - ax, vy = cy - ay, vz = cz - az;
+		const k6 = 6 * k;
+		pl[k6] = uy * vz - uz * vy;
+		pl[k6 + 1] = uz * vx - ux * vz;
+		pl[k6 + 2] = ux * vy - uy * vx;
+		pl[k6 + 3] = Math.abs(uy * vz) + Math.abs(uz * vy);
+		pl[k6 + 4] = Math.abs(uz * vx) + Math.abs(ux * vz);
+		pl[k6 + 5] = Math.abs(ux * vy) + Math.abs(uy * vx);
+		const i6 = 6 * item;
+		for (let d = 0; d < 6; d++) box[k6 + d] = boxes[i6 + d];
+	}
+	bvh.order = new Uint32Array(0); // slots are already in BVH order
+	return { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, faceOf, verts, tp, pl, box, bvh };
+}
+
+/**
+ * Unrolls the self-traversal breadth-first into independent tasks, pairs (a, b) of nodes: a === b
+ * means "all pairs inside node a", a !== b "all pairs between a and b". Deterministic.
+ */
+export function makeTasks(bvh: FlatBvh, target: number): Int32Array {
+	let tasks: number[] = [0, 0];
+	if (bvh.nodeCount === 0 || bvh.count[0] === 0) return new Int32Array(0);
+	const { firstChild, bounds } = bvh;
+	for (let round = 0; round < 64 && tasks.length / 2 < target; round++) {
+		const next: number[] = [];
+		let grew = false;
+		for (let k = 0; k < tasks.length; k += 2) {
+			const a = tasks[k], b = tasks[k + 1];
+			const fa = firstChild[a], fb = firstChild[b];
+			if (a === b) {
+				if (fa < 0) next.push(a, a);
+				else {
+					grew = true;
+					next.push(fa, fa, fa + 1, fa + 1);
+					if (boxesOverlap(bounds, fa, fa + 1)) next.push(fa, fa + 1);
+				}
+			} else if (fa < 0 && fb < 0) next.push(a, b);
+			else {
+				grew = true;
+				// Split both sides when both are inner nodes, so tasks shrink evenly.
+				const as = fa < 0 ? [a] : [fa, fa + 1];
+				const bs = fb < 0 ? [b] : [fb, fb + 1];
+				for (const x of as) for (const y of bs) if (boxesOverlap(bounds, x, y)) next.push(x, y);
+			}
+		}
+		tasks = next;
+		if (!grew) break;
+	}
+	return Int32Array.from(tasks);
+}
+
+function boxesOverlap(bounds: Float64Array, a: number, b: number): boolean {
+	const a6 = 6 * a, b6 = 6 * b;
+	return (
+		bounds[a6] <= bounds[b6 + 3] && bounds[b6] <= bounds[a6 + 3] &&
+		bounds[a6 + 1] <= bounds[b6 + 4] && bounds[b6 + 1] <= bounds[a6 + 4] &&
+		bounds[a6 + 2] <= bounds[b6 + 5] && bounds[b6 + 2] <= bounds[a6 + 5]
+	);
+}
+
+/** Float filter bound for the plane-side determinant; Shewchuk's o3derrboundA is (7 + 56ε)ε ≈ 7.8e-16. */
+const SIDE_ERR = 1e-15;
+
+interface Ctx {
+	tp: Float64Array;
+	pl: Float64Array;
+	exact: number;
+	/** Scratch for the hit point of the last positive test. */
+	hit: Float64Array;
+}
+
+/** Exact sign of point p against the plane of slot k, float filter first. */
+function sidePlane(ctx: Ctx, k: number, px: number, py: number, pz: number): number {
+	const tp = ctx.tp, pl = ctx.pl;
+	const k9 = 9 * k, k6 = 6 * k;
+	const dx = px - tp[k9], dy = py - tp[k9 + 1], dz = pz - tp[k9 + 2];
+	const det = dx * pl[k6] + dy * pl[k6 + 1] + dz * pl[k6 + 2];
+	const bound = SIDE_ERR * (Math.abs(dx) * pl[k6 + 3] + Math.abs(dy) * pl[k6 + 4] + Math.abs(dz) * pl[k6 + 5]);
+	if (det > bound) return 1;
+	if (det < -bound) return -1;
+	ctx.exact++;
+	return side3(tp[k9], tp[k9 + 1], tp[k9 + 2], tp[k9 + 3], tp[k9 + 4], tp[k9 + 5], tp[k9 + 6], tp[k9 + 7], tp[k9 + 8], px, py, pz);
+}
+
+/** Picks the two kept coordinates of point p for projection `axis` (see dropAxis). */
+function projU(axis: number, x: number, y: number, z: number): number {
+	return axis === 0 ? y : axis === 1 ? z : x;
+}
+function projV(axis: number, x: number, y: number, z: number): number {
+	return axis === 0 ? z : axis === 1 ? x : y;
+}
+
+/** Closed 2D point-in-triangle for a non-degenerate triangle. */
+function inTri2(pu: number, pv: number, au: number, av: number, bu: number, bv: number, cu: number, cv: number): boolean {
+	const o = ccw2(au, av, bu, bv, cu, cv);
+	return ccw2(au, av, bu, bv, pu, pv) * o >= 0 && ccw2(bu, bv, cu, cv, pu, pv) * o >= 0 && ccw2(cu, cv, au, av, pu, pv) * o >= 0;
+}
+
+/** Proper crossing of 2D segments pq and rs (interiors cross at one point). */
+function properCross2(pu: number, pv: number, qu: number, qv: number, ru: number, rv: number, su: number, sv: number): boolean {
+	const d1 = ccw2(pu, pv, qu, qv, ru, rv), d2 = ccw2(pu, pv, qu, qv, su, sv);
+	if (d1 * d2 >= 0) return false;
+	const d3 = ccw2(ru, rv, su, sv, pu, pv), d4 = ccw2(ru, rv, su, sv, qu, qv);
+	return d3 * d4 < 0;
+}
+
+/** Closed 2D point-on-segment. */
+function onSeg2(pu: number, pv: number, qu: number, qv: number, xu: number, xv: number): boolean {
+	return (
+		ccw2(pu, pv, qu, qv, xu, xv) === 0 &&
+		Math.min(pu, qu) <= xu && xu <= Math.max(pu, qu) &&
+		Math.min(pv, qv) <= xv && xv <= Math.max(pv, qv)
+	);
+}
+
+function setHit(ctx: Ctx, x: number, y: number, z: number): void {
+	ctx.hit[0] = x;
+	ctx.hit[1] = y;
+	ctx.hit[2] = z;
+}
+
+/**
+ * Closed segment pq (p at tp[p9], q at tp[q9] of `src`) against closed triangle slot t, given the
+ * exact signs sp, sq of p and q against t's plane.
+ */
+function segTri(ctx: Ctx, px: number, py: number, pz: number, qx: number, qy: number, qz: number, sp: number, sq: number, t: number): boolean {
+	if ((sp > 0 && sq > 0) || (sp < 0 && sq < 0)) return false;
+	const tp = ctx.tp, t9 = 9 * t;
+	const ax = tp[t9], ay = tp[t9 + 1], az = tp[t9 + 2];
+	const bx = tp[t9 + 3], by = tp[t9 + 4], bz = tp[t9 + 5];
+	const cx = tp[t9 + 6], cy = tp[t9 + 7], cz = tp[t9 + 8];
+	if (sp === 0 && sq === 0) {
+		// Segment in the plane: 2D test in the triangle's best projection.
+		const axis = dropAxis(ax, ay, az, bx, by, bz, cx, cy, cz);
+		const pu = projU(axis, px, py, pz), pv = projV(axis, px, py, pz);
+		const qu = projU(axis, qx, qy, qz), qv = projV(axis, qx, qy, qz);
+		const au = projU(axis, ax, ay, az), av = projV(axis, ax, ay, az);
+		const bu = projU(axis, bx, by, bz), bv = projV(axis, bx, by, bz);
+		const cu = projU(axis, cx, cy, cz), cv = projV(axis, cx, cy, cz);
+		ctx.exact++;
+		if (inTri2(pu, pv, au, av, bu, bv, cu, cv)) return setHit(ctx, px, py, pz), true;
+		if (inTri2(qu, qv, au, av, bu, bv, cu, cv)) return setHit(ctx, qx, qy, qz), true;
+		if (onSeg2(pu, pv, qu, qv, au, av)) return setHit(ctx, ax, ay, az), true;
+		if (onSeg2(pu, pv, qu, qv, bu, bv)) return setHit(ctx, bx, by, bz), true;
+		if (onSeg2(pu, pv, qu, qv, cu, cv)) return setHit(ctx, cx, cy, cz), true;
+		if (
+			properCross2(pu, pv, qu, qv, au, av, bu, bv) ||
+			properCross2(pu, pv, qu, qv, bu, bv, cu, cv) ||
+			properCross2(pu, pv, qu, qv, cu, cv, au, av)
+		) {
+			return setHit(ctx, (px + qx) / 2, (py + qy) / 2, (pz + qz) / 2), true;
+		}
+		return false;
+	}
+	// The segment meets the plane at one point; the line pq passes through the closed triangle iff
+	// the three tetrahedra (p, q, edge) have no two strictly opposite signs.
+	ctx.exact++;
+	const o1 = side3(px, py, pz, qx, qy, qz, ax, ay, az, bx, by, bz);
+	const o2 = side3(px, py, pz, qx, qy, qz, bx, by, bz, cx, cy, cz);
+	if (o1 * o2 < 0) return false;
+	const o3 = side3(px, py, pz, qx, qy, qz, cx, cy, cz, ax, ay, az);
+	if (o1 * o3 < 0 || o2 * o3 < 0) return false;
+	// Hit point by float interpolation of the plane distances.
+	const t6 = 6 * t, pl = ctx.pl;
+	const dp = (px - ax) * pl[t6] + (py - ay) * pl[t6 + 1] + (pz - az) * pl[t6 + 2];
+	const dq = (qx - ax) * pl[t6] + (qy - ay) * pl[t6 + 1] + (qz - az) * pl[t6 + 2];
+	const s = sp === 0 ? 0 : sq === 0 ? 1 : dp / (dp - dq);
+	setHit(ctx, px + s * (qx - px), py + s * (qy - py), pz + s * (qz - pz));
+	return true;
+}
+
+/** Coplanar non-degenerate triangles i, j (slots): closed 2D overlap. */
+function coplanarTriTri(ctx: Ctx, i: number, j: number): boolean {
+	const tp = ctx.tp, i9 = 9 * i, j9 = 9 * j;
+	const axis = dropAxis(tp[i9], tp[i9 + 1], tp[i9 + 2], tp[i9 + 3], tp[i9 + 4], tp[i9 + 5], tp[i9 + 6], tp[i9 + 7], tp[i9 + 8]);
+	const u = axis === 0 ? 1 : axis === 1 ? 2 : 0;
+	const v = axis === 0 ? 2 : axis === 1 ? 0 : 1;
+	const au = tp[i9 + u], av = tp[i9 + v], bu = tp[i9 + 3 + u], bv = tp[i9 + 3 + v], cu = tp[i9 + 6 + u], cv = tp[i9 + 6 + v];
+	const du = tp[j9 + u], dv = tp[j9 + v], eu = tp[j9 + 3 + u], ev = tp[j9 + 3 + v], fu = tp[j9 + 6 + u], fv = tp[j9 + 6 + v];
+	ctx.exact++;
+	for (let k = 0; k < 3; k++) {
+		const o = j9 + 3 * k;
+		if (inTri2(tp[o + u], tp[o + v], au, av, bu, bv, cu, cv)) return setHit(ctx, tp[o], tp[o + 1], tp[o + 2]), true;
+	}
+	for (let k = 0; k < 3; k++) {
+		const o = i9 + 3 * k;
+		if (inTri2(tp[o + u], tp[o + v], du, dv, eu, ev, fu, fv)) return setHit(ctx, tp[o], tp[o + 1], tp[o + 2]), true;
+	}
+	for (let k = 0; k < 3; k++) {
+		const p = i9 + 3 * k, q = i9 + 3 * ((k + 1) % 3);
+		for (let m = 0; m < 3; m++) {
+			const r = j9 + 3 * m, s = j9 + 3 * ((m + 1) % 3);
+			if (properCross2(tp[p + u], tp[p + v], tp[q + u], tp[q + v], tp[r + u], tp[r + v], tp[s + u], tp[s + v])) {
+				// Point: midpoint of the two edge midpoints is inside neither exactly; use the crossing in 3D by 2D parameters.
+				const pu = tp[p + u], pv = tp[p + v], qu = tp[q + u], qv = tp[q + v];
+				const ru = tp[r + u], rv = tp[r + v], su = tp[s + u], sv = tp[s + v];
+				const den = (qu - pu) * (sv - rv) - (qv - pv) * (su - ru);
+				const w = den === 0 ? 0.5 : ((ru - pu) * (sv - rv) - (rv - pv) * (su - ru)) / den;
+				setHit(ctx, tp[p] + w * (tp[q] - tp[p]), tp[p + 1] + w * (tp[q + 1] - tp[p + 1]), tp[p + 2] + w * (tp[q + 2] - tp[p + 2]));
+				return true;
+			}
+		}
+	}
+	return false;
+}
+
+/** The pair rule on slots i, j (see the file comment). Writes a point into ctx.hit when true. */
+export function testPair(ctx: Ctx, verts: Uint32Array, i: number, j: number): boolean {
+	const i3 = 3 * i, j3 = 3 * j;
+	const a0 = verts[i3], a1 = verts[i3 + 1], a2 = verts[i3 + 2];
+	const b0 = verts[j3], b1 = verts[j3 + 1], b2 = verts[j3 + 2];
+	// Which corners of i are shared (bit k: corner k of i), and which corner of j each matches.
+	const m0 = a0 === b0 ? 0 : a0 === b1 ? 1 : a0 === b2 ? 2 : -1;
+	const m1 = a1 === b0 ? 0 : a1 === b1 ? 1 : a1 === b2 ? 2 : -1;
+	const m2 = a2 === b0 ? 0 : a2 === b1 ? 1 : a2 === b2 ? 2 : -1;
+	const shared = (m0 >= 0 ? 1 : 0) + (m1 >= 0 ? 1 : 0) + (m2 >= 0 ? 1 : 0);
+	const tp = ctx.tp, i9 = 9 * i, j9 = 9 * j;
+	if (shared === 0) {
+		const dx = tp[j9], dy = tp[j9 + 1], dz = tp[j9 + 2];
+		const ex = tp[j9 + 3], ey = tp[j9 + 4], ez = tp[j9 + 5];
+		const fx = tp[j9 + 6], fy = tp[j9 + 7], fz = tp[j9 + 8];
+		const s0 = sidePlane(ctx, i, dx, dy, dz), s1 = sidePlane(ctx, i, ex, ey, ez), s2 = sidePlane(ctx, i, fx, fy, fz);
+		if ((s0 > 0 && s1 > 0 && s2 > 0) || (s0 < 0 && s1 < 0 && s2 < 0)) return false;
+		const ax = tp[i9], ay = tp[i9 + 1], az = tp[i9 + 2];
+		const bx = tp[i9 + 3], by = tp[i9 + 4], bz = tp[i9 + 5];
+		const cx = tp[i9 + 6], cy = tp[i9 + 7], cz = tp[i9 + 8];
+		const r0 = sidePlane(ctx, j, ax, ay, az), r1 = sidePlane(ctx, j, bx, by, bz), r2 = sidePlane(ctx, j, cx, cy, cz);
+		if ((r0 > 0 && r1 > 0 && r2 > 0) || (r0 < 0 && r1 < 0 && r2 < 0)) return false;
+		if (s0 === 0 && s1 === 0 && s2 === 0) return coplanarTriTri(ctx, i, j);
+		return (
+			segTri(ctx, ax, ay, az, bx, by, bz, r0, r1, j) ||
+			segTri(ctx, bx, by, bz, cx, cy, cz, r1, r2, j) ||
+			segTri(ctx, cx, cy, cz, ax, ay, az, r2, r0, j) ||
+			segTri(ctx, dx, dy, dz, ex, ey, ez, s0, s1, i) ||
+			segTri(ctx, ex, ey, ez, fx, fy, fz, s1, s2, i) ||
+			segTri(ctx, fx, fy, fz, dx, dy, dz, s2, s0, i)
+		);
+	}
+	if (shared === 1) {
+		// Opposite edges: of i, the corners other than the shared one; of j likewise.
+		const si = m0 >= 0 ? 0 : m1 >= 0 ? 1 : 2;
+		const sj = m0 >= 0 ? m0 : m1 >= 0 ? m1 : m2;
+		const p = i9 + 3 * ((si + 1) % 3), q = i9 + 3 * ((si + 2) % 3);
+		const px = tp[p], py = tp[p + 1], pz = tp[p + 2], qx = tp[q], qy = tp[q + 1], qz = tp[q + 2];
+		if (segTri(ctx, px, py, pz, qx, qy, qz, sidePlane(ctx, j, px, py, pz), sidePlane(ctx, j, qx, qy, qz), j)) return true;
+		const r = j9 + 3 * ((sj + 1) % 3), s = j9 + 3 * ((sj + 2) % 3);
+		const rx = tp[r], ry = tp[r + 1], rz = tp[r + 2], sx = tp[s], sy = tp[s + 1], sz = tp[s + 2];
+		return segTri(ctx, rx, ry, rz, sx, sy, sz, sidePlane(ctx, i, rx, ry, rz), sidePlane(ctx, i, sx, sy, sz), i);
+	}
+	if (shared === 2) {
+		const oi = m0 < 0 ? 0 : m1 < 0 ? 1 : 2; // corner of i not shared
+		const oj = 3 - (m0 < 0 ? 0 : m0) - (m1 < 0 ? 0 : m1) - (m2 < 0 ? 0 : m2); // corner of j not shared
+		const o = j9 + 3 * oj;
+		const ox = tp[o], oy = tp[o + 1], oz = tp[o + 2];
+		if (sidePlane(ctx, i, ox, oy, oz) !== 0) return false;
+		// Coplanar: a fold when both opposite corners lie on the same side of the shared edge.
+		const e0 = i9 + 3 * ((oi + 1) % 3), e1 = i9 + 3 * ((oi + 2) % 3), oo = i9 + 3 * oi;
+		const axis = dropAxis(tp[i9], tp[i9 + 1], tp[i9 + 2], tp[i9 + 3], tp[i9 + 4], tp[i9 + 5], tp[i9 + 6], tp[i9 + 7], tp[i9 + 8]);
+		const u = axis === 0 ? 1 : axis === 1 ? 2 : 0;
+		const v = axis === 0 ? 2 : axis === 1 ? 0 : 1;
+		ctx.exact++;
+		const si = ccw2(tp[e0 + u], tp[e0 + v], tp[e1 + u], tp[e1 + v], tp[oo + u], tp[oo + v]);
+		const sj = ccw2(tp[e0 + u], tp[e0 + v], tp[e1 + u], tp[e1 + v], tp[o + u], tp[o + v]);
+		if (si !== sj) return false;
+		setHit(ctx, (tp[e0] + tp[e1]) / 2, (tp[e0 + 1] + tp[e1 + 1]) / 2, (tp[e0 + 2] + tp[e1 + 2]) / 2);
+		return true;
+	}
+	// Same three vertices.
+	setHit(ctx, (tp[i9] + tp[i9 + 3] + tp[i9 + 6]) / 3, (tp[i9 + 1] + tp[i9 + 4] + tp[i9 + 7]) / 3, (tp[i9 + 2] + tp[i9 + 5] + tp[i9 + 8]) / 3);
+	return true;
+}
+
+/** Runs the pair search on prepared data. Used directly by the worker shards. */
+export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions = {}, buildMs = 0): SelfIntersectionResult {
+	const t0 = performance.now();
+	const sampleLimit = opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT;
+	const rangeFrom = opts.faceRange ? opts.faceRange[0] : 0;
+	const rangeTo = opts.faceRange ? opts.faceRange[1] : Infinity;
+	const filtered = opts.faceRange !== undefined;
+	const { bvh, verts, box, faceOf } = prep;
+	const { firstChild, bounds, start, count } = bvh;
+	const ctx: Ctx = { tp: prep.tp, pl: prep.pl, exact: 0, hit: new Float64Array(3) };
+	const sample: SelfIntersectionSample[] = [];
+	let pairs = 0;
+	let candidates = 0;
+	let taskRuns = 0;
+
+	const tasks = makeTasks(bvh, opts.taskTarget ?? DEFAULT_TASK_TARGET);
+	const taskCount = tasks.length / 2;
+	const shard = opts.shard;
+	let staticIndex = 0;
+	let staticStep = 1;
+	let nextTask: (() => number) | null = null;
+	if (shard && 'nextTask' in shard) nextTask = shard.nextTask;
+	else if (shard) {
+		staticIndex = shard.index;
+		staticStep = shard.count;
+	}
+
+	let stack = new Int32Array(1024);
+	const testLeafPair = (sa: number, ea: number, sb: number, eb: number, same: boolean): void => {
+		for (let i = sa; i < ea; i++) {
+			const i6 = 6 * i;
+			const minX = box[i6], minY = box[i6 + 1], minZ = box[i6 + 2], maxX = box[i6 + 3], maxY = box[i6 + 4], maxZ = box[i6 + 5];
+			for (let j = same ? i + 1 : sb; j < eb; j++) {
+				const j6 = 6 * j;
+				if (box[j6] > maxX || box[j6 + 3] < minX || box[j6 + 1] > maxY || box[j6 + 4] < minY || box[j6 + 2] > maxZ || box[j6 + 5] < minZ) continue;
+				if (filtered) {
+					const lo = Math.min(faceOf[i], faceOf[j]);
+					if (lo < rangeFrom || lo >= rangeTo) continue;
+				}
+				candidates++;
+				if (testPair(ctx, verts, i, j)) {
+					pairs++;
+					if (sample.length < sampleLimit) {
+						const fi = faceOf[i], fj = faceOf[j];
+						sample.push({ a: Math.min(fi, fj), b: Math.max(fi, fj), point: [ctx.hit[0], ctx.hit[1], ctx.hit[2]] });
+					}
+				}
+			}
+		}
+	};
+
+	for (let task = nextTask ? nextTask() : staticIndex; task >= 0 && task < taskCount; task = nextTask ? nextTask() : task + staticStep) {
+		taskRuns++;
+		let sp = 0;
+		stack[sp++] = tasks[2 * task];
+		stack[sp++] = tasks[2 * task + 1];
+		while (sp > 0) {
+			const b = stack[--sp];
+			const a = stack[--sp];
+			const fa = firstChild[a];
+			if (a === b) {
+				if (fa < 0) testLeafPair(start[a], start[a] + count[a], start[a], start[a] + count[a], true);
+				else {
+					if (sp + 6 > stack.length) {
+						const grown = new Int32Array(stack.length * 2);
+						grown.set(stack);
+						stack = grown;
+					}
+					stack[sp++] = fa; stack[sp++] = fa;
+					stack[sp++] = fa + 1; stack[sp++] = fa + 1;
+					stack[sp++] = fa; stack[sp++] = fa + 1;
+				}
+				continue;
+			}
+			const a6 = 6 * a, b6 = 6 * b;
+			if (
+				bounds[a6] > bounds[b6 + 3] || bounds[b6] > bounds[a6 + 3] ||
+				bounds[a6 + 1] > bounds[b6 + 4] || bounds[b6 + 1] > bounds[a6 + 4] ||
+				bounds[a6 + 2] > bounds[b6 + 5] || bounds[b6 + 2] > bounds[a6 + 5]
+			) continue;
+			const fb = firstChild[b];
+			if (fa < 0 && fb < 0) {
+				testLeafPair(start[a], start[a] + count[a], start[b], start[b] + count[b], false);
+				continue;
+			}
+			if (sp + 4 > stack.length) {
+				const grown = new Int32Array(stack.length * 2);
+				grown.set(stack);
+				stack = grown;
+			}
+			// Descend the larger side (or the only inner one).
+			if (fb < 0 || (fa >= 0 && count[a] >= count[b])) {
+				stack[sp++] = fa; stack[sp++] = b;
+				stack[sp++] = fa + 1; stack[sp++] = b;
+			} else {
+				stack[sp++] = a; stack[sp++] = fb;
+				stack[sp++] = a; stack[sp++] = fb + 1;
+			}
+		}
+	}
+	sample.sort((x, y) => x.a - y.a || x.b - y.b);
+	const traverseMs = performance.now() - t0;
+	return {
+		pairs,
+		sample,
+		degenerateSkipped: prep.degenerateSkipped,
+		ms: buildMs + traverseMs,
+		stats: { buildMs, traverseMs, candidatePairs: candidates, exactTests: ctx.exact, tasks: taskRuns }
+	};
+}
+
+/** Counts self-intersecting face pairs of `mesh` (see the file comment for the rule). */
+export function findSelfIntersections(mesh: MeshBuffers, opts: SelfIntersectionOptions = {}): SelfIntersectionResult {
+	const t0 = performance.now();
+	const prep = prepareMesh(mesh);
+	return findInPrepared(prep, opts, performance.now() - t0);
+}

@@ -188,3 +188,22 @@ export interface InspectOptions {
 	/** Name shown in the report. */
 	fileName?: string;
 }
+
+/** What the self-intersection stage hands over (same shape as self-intersect.ts returns). */
+export interface SelfIntersectionInput {
+	pairs: number;
+	sample: { a: number; b: number; point: [number, number, number] }[];
+	degenerateSkipped: number;
+	ms: number;
+}
+
+export interface BuildReportOptions extends InspectOptions {
+	/** Result of the self-intersection stage; null or absent → selfIntersectingPairs: null. */
+	selfIntersections?: SelfIntersectionInput | null;
+	/** Stage timings measured by the caller (reading, …), merged into `timings`. */
+	timings?: Record<string, number>;
+	/** Precomputed collapsed-face mask (faces with a repeated vertex index). */
+	collapsed?: { mask: Uint8Array; count: number };
+}
+
+export { buildReport } from './build-report';

@@ -1,0 +1,250 @@
+/** Assembles the InspectionReport from topology, measures, projections and hints. */
+import { DEFAULT_MAX_FACES, type ParsedMesh } from './types';
+import { analyseTopology, collapsedFaces, type TopologyResult } from './topology';
+import { measureEdges, measureFaces, type FaceMeasures } from './quality';
+import { silhouetteArea, type SilhouetteScratch } from './projection';
+import { buildHints } from './hints';
+import { DEFAULT_TOLERANCES } from './tolerances';
+import {
+	ENGINE_VERSION,
+	type BboxPlane,
+	type BuildReportOptions,
+	type HoleInfo,
+	type InspectionReport,
+	type ShellInfo,
+	type Tolerances,
+	type Vec3
+} from './report';
+
+const PLANES: BboxPlane[] = ['x-min', 'y-min', 'z-min', 'x-max', 'y-max', 'z-max'];
+
+export function normaliseDirection(d: Vec3 | undefined): Vec3 {
+	const v = d ?? [1, 0, 0];
+	const l = Math.hypot(v[0], v[1], v[2]);
+	if (!(l > 0) || !Number.isFinite(l)) throw new RangeError(`flow direction ${JSON.stringify(v)} has no length`);
+	return [v[0] / l, v[1] / l, v[2] / l];
+}
+
+function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, tol: Tolerances): HoleInfo[] {
+	const p = parsed.positions;
+	const { loopCount, loopStart, loopEdges, loopVerts, shell } = topo.loops;
+	const { edgeLo, edgeHi } = topo.edges;
+	const bb = fm.bbox;
+	const diag = Math.hypot(bb.max[0] - bb.min[0], bb.max[1] - bb.min[1], bb.max[2] - bb.min[2]);
+	const eps = tol.planeRel * diag;
+	const holes: HoleInfo[] = [];
+	for (let l = 0; l < loopCount; l++) {
+		let per = 0, sx = 0, sy = 0, sz = 0;
+		let x0 = Infinity, y0 = Infinity, z0 = Infinity, x1 = -Infinity, y1 = -Infinity, z1 = -Infinity;
+		const s = loopStart[l], n = loopStart[l + 1] - s;
+		for (let i = s; i < s + n; i++) {
+			const e = loopEdges[i];
+			const a3 = 3 * edgeLo[e], b3 = 3 * edgeHi[e];
+			per += Math.hypot(p[b3] - p[a3], p[b3 + 1] - p[a3 + 1], p[b3 + 2] - p[a3 + 2]);
+			const v3 = 3 * loopVerts[i];
+			const x = p[v3], y = p[v3 + 1], z = p[v3 + 2];
+			sx += x;
+			sy += y;
+			sz += z;
+			if (x < x0) x0 = x;
+			if (x > x1) x1 = x;
+			if (y < y0) y0 = y;
+			if (y > y1) y1 = y;
+			if (z < z0) z0 = z;
+			if (z > z1) z1 = z;
+		}
+		const lmin = [x0, y0, z0], lmax = [x1, y1, z1];
+		let onPlane: BboxPlane | null = null;
+		for (let ax = 0; ax < 3 && !onPlane; ax++) {
+			if (lmax[ax] - bb.min[ax] <= eps) onPlane = PLANES[ax];
+			else if (bb.max[ax] - lmin[ax] <= eps) onPlane = PLANES[ax + 3];
+		}
+		holes.push({
+			edgeCount: n,
+			perimeter: per,
+			centroid: [sx / n, sy / n, sz / n],
+			bbox: { min: [x0, y0, z0], max: [x1, y1, z1] },
+			onBboxPlane: onPlane,
+			shell: shell[l]
+		});
+	}
+	return holes;
+}
+
+/** Build the full report (self-intersections come in through opts.selfIntersections). */
+export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): InspectionReport {
+	const timings: Record<string, number> = { ...(opts.timings ?? {}) };
+	const triCount = (parsed.indices.length / 3) | 0;
+	const vertCount = (parsed.positions.length / 3) | 0;
+	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
+	if (triCount > maxFaces) throw new RangeError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
+	const flow = normaliseDirection(opts.flowDirection);
+	const tol: Tolerances = {
+		...DEFAULT_TOLERANCES,
+		minEdgeLength: opts.minEdgeLength ?? 0,
+		rasterCells: opts.rasterCells ?? DEFAULT_TOLERANCES.rasterCells
+	};
+
+	let t0 = performance.now();
+	const collapsed = opts.collapsed ?? collapsedFaces(parsed.indices);
+	const topo = analyseTopology(parsed.indices, vertCount, collapsed.mask);
+	timings.topology = performance.now() - t0;
+
+	t0 = performance.now();
+	const fm = measureFaces(parsed.positions, parsed.indices, collapsed.mask);
+	const em = measureEdges(parsed.positions, topo.edges, tol.minEdgeLength);
+	timings.measures = performance.now() - t0;
+
+	t0 = performance.now();
+	const sh = topo.shells;
+	const shellCount = sh.shellCount;
+	const sArea = new Float64Array(shellCount), sVol = new Float64Array(shellCount);
+	const sBox = new Float64Array(6 * shellCount);
+	for (let s = 0; s < shellCount; s++) {
+		sBox[6 * s] = sBox[6 * s + 1] = sBox[6 * s + 2] = Infinity;
+		sBox[6 * s + 3] = sBox[6 * s + 4] = sBox[6 * s + 5] = -Infinity;
+	}
+	const p = parsed.positions, idx = parsed.indices;
+	for (let t = 0; t < triCount; t++) {
+		const s = sh.faceShell[t];
+		if (s < 0) continue;
+		sArea[s] += fm.faceArea[t];
+		sVol[s] += fm.faceVolume[t];
+		const b6 = 6 * s;
+		for (let k = 0; k < 3; k++) {
+			const v3 = 3 * idx[3 * t + k];
+			for (let a = 0; a < 3; a++) {
+				const x = p[v3 + a];
+				if (x < sBox[b6 + a]) sBox[b6 + a] = x;
+				if (x > sBox[b6 + 3 + a]) sBox[b6 + 3 + a] = x;
+			}
+		}
+	}
+	const shells: ShellInfo[] = [];
+	let genusSum: number | null = 0, wettedArea = 0;
+	for (let s = 0; s < shellCount; s++) {
+		const chi = sh.vertices[s] - sh.edges[s] + sh.faces[s];
+		const manifold = sh.nonManifoldEdges[s] === 0 && sh.nonManifoldVertices[s] === 0;
+		const orientable = sh.orientable[s] === 1;
+		const b = sh.boundaryLoops[s];
+		const genus = manifold && orientable ? (2 - chi - b) / 2 : null;
+		if (genus === null) genusSum = null;
+		else if (genusSum !== null) genusSum += genus;
+		const closed = sh.boundaryEdges[s] === 0;
+		if (closed) wettedArea += sArea[s];
+		const b6 = 6 * s;
+		shells.push({
+			faces: sh.faces[s],
+			vertices: sh.vertices[s],
+			edges: sh.edges[s],
+			boundaryEdges: sh.boundaryEdges[s],
+			boundaryLoops: b,
+			closed,
+			manifold,
+			orientable,
+			consistentlyOriented: sh.inconsistentEdges[s] === 0,
+			flippedFaces: sh.flippedFaces[s],
+			eulerCharacteristic: chi,
+			genus,
+			signedVolume: sVol[s],
+			area: sArea[s],
+			bbox: { min: [sBox[b6], sBox[b6 + 1], sBox[b6 + 2]], max: [sBox[b6 + 3], sBox[b6 + 4], sBox[b6 + 5]] }
+		});
+	}
+	const allHoles = holeTable(parsed, topo, fm, tol);
+	const listed =
+		allHoles.length <= tol.maxHolesListed
+			? allHoles
+			: allHoles
+					.map((h, i) => ({ h, i }))
+					.sort((x, y) => y.h.perimeter - x.h.perimeter || x.i - y.i)
+					.slice(0, tol.maxHolesListed)
+					.map((x) => x.h);
+	timings.shells = performance.now() - t0;
+
+	t0 = performance.now();
+	const scratch: SilhouetteScratch = { proj: new Float64Array(0), grid: new Uint8Array(0) };
+	const cells = tol.rasterCells;
+	const px = silhouetteArea(p, idx, collapsed.mask, topo.edges, [1, 0, 0], cells, scratch);
+	const py = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 1, 0], cells, scratch);
+	const pz = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 0, 1], cells, scratch);
+	const isAxis = (a: number) => Math.abs(flow[a]) === 1;
+	const pf = isAxis(0) ? px : isAxis(1) ? py : isAxis(2) ? pz : silhouetteArea(p, idx, collapsed.mask, topo.edges, flow, cells, scratch);
+	timings.projection = performance.now() - t0;
+
+	t0 = performance.now();
+	const hints = buildHints({
+		shells,
+		holes: allHoles,
+		area: fm.area,
+		faceQuality: fm.faceQuality,
+		skipFace: collapsed.mask,
+		indices: idx,
+		edges: topo.edges,
+		shortEdges: em.shortEdges,
+		tolerances: tol
+	});
+	timings.hints = performance.now() - t0;
+
+	const si = opts.selfIntersections ?? null;
+	if (si) timings.selfIntersections = si.ms;
+	let orientable = true, flippedFaces = 0;
+	for (const s of shells) {
+		if (!s.orientable) orientable = false;
+		flippedFaces += s.flippedFaces;
+	}
+	const regionCounts = parsed.regions.map((r) => ({ name: r.name, faces: r.faceCount }));
+	return {
+		engineVersion: ENGINE_VERSION,
+		format: parsed.format,
+		fileName: opts.fileName ?? '',
+		vertices: vertCount,
+		faces: triCount,
+		edges: topo.edges.edgeCount,
+		weldedVertices: parsed.stats.weldedVertices,
+		duplicatePositions: parsed.stats.duplicatePositions,
+		polygonsSplit: parsed.stats.polygonsSplit,
+		regions: regionCounts,
+		boundaryEdges: topo.boundaryEdges,
+		boundaryLoops: topo.loops.loopCount,
+		holes: listed,
+		nonManifoldEdges: topo.nonManifoldEdges,
+		nonManifoldVertices: topo.nonManifoldVertices,
+		orientable,
+		consistentlyOriented: topo.inconsistentEdges === 0,
+		flippedFaces,
+		components: shellCount,
+		shells,
+		eulerCharacteristic: topo.referencedVertices - topo.edges.edgeCount + topo.activeFaces,
+		genus: genusSum,
+		watertight: topo.boundaryEdges === 0 && topo.nonManifoldEdges === 0 && topo.nonManifoldVertices === 0,
+		selfIntersectingPairs: si ? si.pairs : null,
+		selfIntersectionSample: si ? si.sample.map((x) => ({ a: x.a, b: x.b, point: [x.point[0], x.point[1], x.point[2]] as Vec3 })) : [],
+		degenerateFaces: fm.degenerateCount,
+		duplicateFaces: topo.duplicateFaces,
+		minEdgeLength: em.minEdgeLength,
+		maxEdgeLength: em.maxEdgeLength,
+		shortEdges: em.shortEdges,
+		edgeLengthHistogram: em.histogram,
+		faceQualityHistogram: fm.qualityHistogram,
+		bbox: fm.bbox,
+		area: fm.area,
+		volume: fm.volume,
+		projectedArea: {
+			x: px.area,
+			y: py.area,
+			z: pz.area,
+			errorBounds: [px.errorBound, py.errorBound, pz.errorBound],
+			flow: {
+				direction: flow,
+				area: pf.area,
+				errorBound: pf.errorBound,
+				method: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${pf.cellSize.toPrecision(4)} units; bound = cell area × cells met by outline-candidate edges`
+			}
+		},
+		wettedArea,
+		hints,
+		timings,
+		tolerances: tol
+	};
+}

@@ -1,0 +1,400 @@
+/**
+ * Connectivity facts of a triangle soup over its edge table: shells, boundary loops, non-manifold
+ * edges and vertices, orientation. Exact (indices only), O(H α(H)) with union-find over faces and
+ * over face corners; scratch is allocated once per call.
+ */
+import { buildEdges, nextHalfedge, NO_EDGE, type EdgeTable } from './edges';
+
+export interface LoopTable {
+	loopCount: number;
+	/** Per loop: number of boundary edges. */
+	edgeCount: Uint32Array;
+	/** Per loop: shell index. */
+	shell: Int32Array;
+	/** Per loop: 1 when the walk ended at an unpaired boundary-edge end (an open chain, rare). */
+	open: Uint8Array;
+	/** Loop l's edges are loopEdges[loopStart[l] .. loopStart[l + 1]), in walk order. */
+	loopStart: Uint32Array;
+	loopEdges: Uint32Array;
+	/** Vertex where each listed edge is entered, parallel to loopEdges. */
+	loopVerts: Uint32Array;
+}
+
+export interface ShellTable {
+	shellCount: number;
+	/** Shell of each face; −1 for skipped faces. */
+	faceShell: Int32Array;
+	faces: Uint32Array;
+	vertices: Uint32Array;
+	edges: Uint32Array;
+	boundaryEdges: Uint32Array;
+	boundaryLoops: Uint32Array;
+	nonManifoldEdges: Uint32Array;
+	nonManifoldVertices: Uint32Array;
+	/** 1 when 2-colouring over manifold edges met no conflict. */
+	orientable: Uint8Array;
+	inconsistentEdges: Uint32Array;
+	flippedFaces: Uint32Array;
+}
+
+export interface TopologyResult {
+	edges: EdgeTable;
+	/** Faces taking part (not skipped). */
+	activeFaces: number;
+	referencedVertices: number;
+	boundaryEdges: number;
+	nonManifoldEdges: number;
+	nonManifoldVertices: number;
+	/** Edges whose halfedges are not balanced in direction (once each way for a 2-face edge). */
+	inconsistentEdges: number;
+	duplicateFaces: number;
+	/** 1 for faces that repeat an earlier face's vertex set (any order). */
+	duplicateFace: Uint8Array;
+	/** 1 for faces that would be flipped by the minimal per-patch flip set. */
+	flipFace: Uint8Array;
+	/** Number of fans around each vertex (saturates at 255); 0 for unreferenced vertices. */
+	vertexFans: Uint8Array;
+	shells: ShellTable;
+	loops: LoopTable;
+}
+
+function find(parent: Int32Array, x: number): number {
+	while (parent[x] !== x) {
+		const g = parent[parent[x]];
+		parent[x] = g;
+		x = g;
+	}
+	return x;
+}
+
+function union(parent: Int32Array, a: number, b: number): void {
+	a = find(parent, a);
+	b = find(parent, b);
+	if (a === b) return;
+	// Smaller index as root keeps roots stable and makes results independent of visit order.
+	if (a < b) parent[b] = a;
+	else parent[a] = b;
+}
+
+/** Faces with a repeated vertex index (collapsed): they carry no surface and take no part. */
+export function collapsedFaces(indices: Uint32Array): { mask: Uint8Array; count: number } {
+	const triCount = (indices.length / 3) | 0;
+	const mask = new Uint8Array(triCount);
+	let count = 0;
+	for (let t = 0, t3 = 0; t < triCount; t++, t3 += 3) {
+		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
+		if (a === b || b === c || a === c) {
+			mask[t] = 1;
+			count++;
+		}
+	}
+	return { mask, count };
+}
+
+export function analyseTopology(indices: Uint32Array, vertCount: number, skipFace: Uint8Array): TopologyResult {
+	const triCount = (indices.length / 3) | 0;
+	const heCount = 3 * triCount;
+	for (let i = 0; i < indices.length; i++) {
+		if (indices[i] >= vertCount) {
+			throw new RangeError(`face ${(i / 3) | 0} refers to vertex ${indices[i]}, but there are only ${vertCount} vertices`);
+		}
+	}
+	const et = buildEdges(indices, vertCount, skipFace);
+	const { edgeCount, edgeStart, heSorted, heEdge, edgeLo, edgeHi } = et;
+
+	// Shells: faces joined through any shared edge.
+	const faceParent = new Int32Array(triCount);
+	for (let t = 0; t < triCount; t++) faceParent[t] = t;
+	let boundaryEdges = 0, nonManifoldEdges = 0, inconsistentEdges = 0;
+	for (let e = 0; e < edgeCount; e++) {
+		const s = edgeStart[e], n = edgeStart[e + 1] - s;
+		if (n === 1) boundaryEdges++;
+		else if (n >= 3) nonManifoldEdges++;
+		const h0 = heSorted[s];
+		const f0 = (h0 / 3) | 0;
+		let forward = 0;
+		for (let i = 0; i < n; i++) {
+			const h = heSorted[s + i];
+			if (indices[h] === edgeLo[e]) forward++;
+			if (i > 0) union(faceParent, f0, (h / 3) | 0);
+		}
+		if (n >= 2 && 2 * forward !== n) inconsistentEdges++;
+	}
+	const faceShell = new Int32Array(triCount).fill(-1);
+	let shellCount = 0;
+	let activeFaces = 0;
+	for (let t = 0; t < triCount; t++) {
+		if (skipFace[t]) continue;
+		activeFaces++;
+		const r = find(faceParent, t);
+		// Roots are the smallest face of their set, so they are met first.
+		if (r === t) faceShell[t] = shellCount++;
+		else faceShell[t] = faceShell[r];
+	}
+
+	const sFaces = new Uint32Array(shellCount);
+	const sVerts = new Uint32Array(shellCount);
+	const sEdges = new Uint32Array(shellCount);
+	const sBoundary = new Uint32Array(shellCount);
+	const sLoops = new Uint32Array(shellCount);
+	const sNmEdges = new Uint32Array(shellCount);
+	const sNmVerts = new Uint32Array(shellCount);
+	const sOrientable = new Uint8Array(shellCount).fill(1);
+	const sInconsistent = new Uint32Array(shellCount);
+	const sFlipped = new Uint32Array(shellCount);
+	for (let t = 0; t < triCount; t++) if (faceShell[t] >= 0) sFaces[faceShell[t]]++;
+	for (let e = 0; e < edgeCount; e++) {
+		const s = edgeStart[e], n = edgeStart[e + 1] - s;
+		const sh = faceShell[(heSorted[s] / 3) | 0];
+		sEdges[sh]++;
+		if (n === 1) sBoundary[sh]++;
+		else if (n >= 3) sNmEdges[sh]++;
+		if (n >= 2) {
+			let forward = 0;
+			for (let i = 0; i < n; i++) if (indices[heSorted[s + i]] === edgeLo[e]) forward++;
+			if (2 * forward !== n) sInconsistent[sh]++;
+		}
+	}
+
+	// Orientation: BFS 2-colouring of faces across two-face edges. colour 1 = flip this face.
+	// Each BFS patch keeps the smaller colour class as its flip set.
+	const colour = new Int8Array(triCount).fill(-1);
+	const queue = new Int32Array(Math.max(1, triCount));
+	const flipFace = new Uint8Array(triCount);
+	for (let seed = 0; seed < triCount; seed++) {
+		if (skipFace[seed] || colour[seed] >= 0) continue;
+		let head = 0, tail = 0;
+		queue[tail++] = seed;
+		colour[seed] = 0;
+		let ones = 0;
+		const sh = faceShell[seed];
+		while (head < tail) {
+			const f = queue[head++];
+			const cf = colour[f];
+			for (let k = 0; k < 3; k++) {
+				const h = 3 * f + k;
+				const e = heEdge[h];
+				const s = edgeStart[e];
+				if (edgeStart[e + 1] - s !== 2) continue;
+				const o = heSorted[s] === h ? heSorted[s + 1] : heSorted[s];
+				const g = (o / 3) | 0;
+				// Same start vertex = same direction = one of the two must flip.
+				const want = indices[o] === indices[h] ? cf ^ 1 : cf;
+				if (colour[g] < 0) {
+					colour[g] = want;
+					if (want) ones++;
+					queue[tail++] = g;
+				} else if (colour[g] !== want) sOrientable[sh] = 0;
+			}
+		}
+		const patchSize = tail;
+		const flipOnes = ones <= patchSize - ones;
+		for (let i = 0; i < patchSize; i++) {
+			const f = queue[i];
+			if ((colour[f] === 1) === flipOnes) flipFace[f] = 1;
+		}
+		sFlipped[sh] += flipOnes ? ones : patchSize - ones;
+	}
+
+	// Fans: union face corners around each vertex through the edges they share there.
+	// Corner c = 3t + k sits at vertex indices[c]; halfedge h starts at corner h, ends at corner next(h).
+	const cornerParent = new Int32Array(heCount);
+	for (let c = 0; c < heCount; c++) cornerParent[c] = c;
+	for (let e = 0; e < edgeCount; e++) {
+		const s = edgeStart[e], n = edgeStart[e + 1] - s;
+		if (n < 2) continue;
+		const lo = edgeLo[e];
+		const h0 = heSorted[s];
+		const lo0 = indices[h0] === lo ? h0 : nextHalfedge(h0);
+		const hi0 = indices[h0] === lo ? nextHalfedge(h0) : h0;
+		for (let i = 1; i < n; i++) {
+			const h = heSorted[s + i];
+			const startIsLo = indices[h] === lo;
+			union(cornerParent, lo0, startIsLo ? h : nextHalfedge(h));
+			union(cornerParent, hi0, startIsLo ? nextHalfedge(h) : h);
+		}
+	}
+	const vertexFans = new Uint8Array(vertCount);
+	for (let c = 0; c < heCount; c++) {
+		if (skipFace[(c / 3) | 0]) continue;
+		if (find(cornerParent, c) === c) {
+			const v = indices[c];
+			if (vertexFans[v] < 255) vertexFans[v]++;
+		}
+	}
+	let referencedVertices = 0, nonManifoldVertices = 0;
+	for (let v = 0; v < vertCount; v++) {
+		if (vertexFans[v] > 0) referencedVertices++;
+		if (vertexFans[v] > 1) nonManifoldVertices++;
+	}
+	// Vertices per shell, and pinch vertices inside one shell. A vertex with several fans may have
+	// them in different shells (two cubes touching at a corner: each cube alone is manifold).
+	const pinchSeen = new Map<number, number>();
+	for (let c = 0; c < heCount; c++) {
+		if (skipFace[(c / 3) | 0] || cornerParent[c] !== c) continue;
+		const v = indices[c];
+		const sh = faceShell[(c / 3) | 0];
+		if (vertexFans[v] === 1) {
+			sVerts[sh]++;
+			continue;
+		}
+		const key = v * shellCount + sh;
+		const seen = pinchSeen.get(key) ?? 0;
+		if (seen === 0) sVerts[sh]++;
+		else if (seen === 1) sNmVerts[sh]++;
+		pinchSeen.set(key, seen + 1);
+	}
+
+	// Boundary loops. Each boundary edge has two ends (slot 2i at lo, 2i + 1 at hi, i its boundary
+	// number); ends in the same fan are paired, so loops pass correctly through pinch vertices.
+	const bEdge = new Uint32Array(boundaryEdges);
+	for (let e = 0, i = 0; e < edgeCount; e++) if (edgeStart[e + 1] - edgeStart[e] === 1) bEdge[i++] = e;
+	const partner = new Int32Array(2 * boundaryEdges).fill(-1);
+	const pending = new Int32Array(heCount).fill(-1); // fan root corner → unpaired end slot
+	for (let i = 0; i < boundaryEdges; i++) {
+		const e = bEdge[i];
+		const h = heSorted[edgeStart[e]];
+		const startIsLo = indices[h] === edgeLo[e];
+		const cLo = find(cornerParent, startIsLo ? h : nextHalfedge(h));
+		const cHi = find(cornerParent, startIsLo ? nextHalfedge(h) : h);
+		for (let end = 0; end < 2; end++) {
+			const root = end === 0 ? cLo : cHi;
+			const slot = 2 * i + end;
+			const p = pending[root];
+			if (p < 0) pending[root] = slot;
+			else {
+				partner[slot] = p;
+				partner[p] = slot;
+				pending[root] = -1;
+			}
+		}
+	}
+	const visited = new Uint8Array(boundaryEdges);
+	const loopEdges = new Uint32Array(boundaryEdges);
+	const loopVerts = new Uint32Array(boundaryEdges);
+	const loopStartList: number[] = [0];
+	const loopShellList: number[] = [];
+	const loopOpenList: number[] = [];
+	let written = 0;
+	for (let i0 = 0; i0 < boundaryEdges; i0++) {
+		if (visited[i0]) continue;
+		// If this edge lies on an open chain, first walk back to the chain's end so the whole chain is one loop.
+		let startI = i0, startSlotIn = 2 * i0;
+		{
+			let i = i0, inSlot = 2 * i0;
+			for (;;) {
+				const p = partner[inSlot];
+				if (p < 0) {
+					startI = i;
+					startSlotIn = inSlot;
+					break;
+				}
+				const j = p >> 1;
+				if (j === i0) break;
+				i = j;
+				inSlot = p ^ 1;
+			}
+		}
+		let i = startI, inSlot = startSlotIn, open = 0;
+		for (;;) {
+			visited[i] = 1;
+			const e = bEdge[i];
+			loopEdges[written] = e;
+			loopVerts[written] = (inSlot & 1) === 0 ? edgeLo[e] : edgeHi[e];
+			written++;
+			const outSlot = inSlot ^ 1;
+			const p = partner[outSlot];
+			if (p < 0) {
+				open = 1;
+				break;
+			}
+			const j = p >> 1;
+			if (visited[j]) break;
+			i = j;
+			inSlot = p;
+		}
+		loopStartList.push(written);
+		const sh = faceShell[(heSorted[edgeStart[bEdge[startI]]] / 3) | 0];
+		loopShellList.push(sh);
+		loopOpenList.push(open);
+		sLoops[sh]++;
+	}
+	const loopCount = loopShellList.length;
+	const loopStart = Uint32Array.from(loopStartList);
+	const loopEdgeCount = new Uint32Array(loopCount);
+	for (let l = 0; l < loopCount; l++) loopEdgeCount[l] = loopStart[l + 1] - loopStart[l];
+
+	// Duplicate faces: same vertex set, any order. Key = (edge of the two smallest, largest vertex).
+	const duplicateFace = new Uint8Array(triCount);
+	let duplicateFaces = 0;
+	{
+		let size = 1;
+		while (size < 2 * activeFaces + 2) size <<= 1;
+		const mask = size - 1;
+		const keys = new Float64Array(size).fill(-1);
+		for (let t = 0; t < triCount; t++) {
+			if (skipFace[t]) continue;
+			const t3 = 3 * t;
+			const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
+			// Halfedge opposite the largest vertex joins the two smallest.
+			let hk: number, top: number;
+			if (a > b && a > c) (hk = t3 + 1), (top = a);
+			else if (b > c) (hk = t3 + 2), (top = b);
+			else (hk = t3), (top = c);
+			const key = heEdge[hk] * vertCount + top;
+			let slot = (Math.imul(heEdge[hk], 0x9e3779b1) ^ Math.imul(top, 0x85ebca6b)) & mask;
+			for (;;) {
+				const k = keys[slot];
+				if (k === -1) {
+					keys[slot] = key;
+					break;
+				}
+				if (k === key) {
+					duplicateFace[t] = 1;
+					duplicateFaces++;
+					break;
+				}
+				slot = (slot + 1) & mask;
+			}
+		}
+	}
+
+	return {
+		edges: et,
+		activeFaces,
+		referencedVertices,
+		boundaryEdges,
+		nonManifoldEdges,
+		nonManifoldVertices,
+		inconsistentEdges,
+		duplicateFaces,
+		duplicateFace,
+		flipFace,
+		vertexFans,
+		shells: {
+			shellCount,
+			faceShell,
+			faces: sFaces,
+			vertices: sVerts,
+			edges: sEdges,
+			boundaryEdges: sBoundary,
+			boundaryLoops: sLoops,
+			nonManifoldEdges: sNmEdges,
+			nonManifoldVertices: sNmVerts,
+			orientable: sOrientable,
+			inconsistentEdges: sInconsistent,
+			flippedFaces: sFlipped
+		},
+		loops: {
+			loopCount,
+			edgeCount: loopEdgeCount,
+			shell: Int32Array.from(loopShellList),
+			open: Uint8Array.from(loopOpenList),
+			loopStart,
+			loopEdges,
+			loopVerts
+		}
+	};
+}
+
+export { NO_EDGE };

@@ -1,0 +1,125 @@
+// Demo data for `npm start`: a small marine-robotics team, one person per role, three projects.
+// Idempotent: rows are found by their natural keys (e-mail, slug) and only created when missing.
+import { and, eq } from 'drizzle-orm';
+import { hashPassword, newUserId } from '../src/lib/server/auth/password';
+import { closeDb, getDb } from '../src/lib/server/db';
+import { gateProfile, part, project, team, user, userRole, type Role } from '../src/lib/server/db/schema';
+import { DEFAULT_GATE_RULES, type GateRules } from '../src/lib/gate/profile';
+
+export const DEMO_PASSWORD = 'shellgate-demo';
+
+const PEOPLE: { email: string; name: string; roles: Role[] }[] = [
+	{ email: 'admin@example.test', name: 'Ada Admin', roles: ['admin'] },
+	{ email: 'engineer@example.test', name: 'Eli Engineer', roles: ['engineer'] },
+	{ email: 'designer@example.test', name: 'Dana Designer', roles: ['designer'] },
+	{ email: 'reviewer@example.test', name: 'Rui Reviewer', roles: ['reviewer'] }
+];
+
+const PROJECTS: {
+	slug: string;
+	name: string;
+	description: string;
+	units: 'mm' | 'm';
+	flow: [number, number, number];
+	cell: number;
+	rules: Partial<GateRules>;
+	parts: { slug: string; name: string }[];
+}[] = [
+	{
+		slug: 'sensor-pods',
+		name: 'Sensor-pod housings',
+		description: 'Hull-mounted pods for the side-scan and the CTD probe of the SD-4 survey drone.',
+		units: 'mm',
+		flow: [1, 0, 0],
+		cell: 2,
+		rules: {},
+		parts: [
+			{ slug: 'side-scan-pod', name: 'Side-scan pod' },
+			{ slug: 'ctd-pod', name: 'CTD probe pod' }
+		]
+	},
+	{
+		slug: 'tow-bodies',
+		name: 'Tow bodies',
+		description: 'Towed magnetometer bodies; the ring-wing variant is genus 1 on purpose.',
+		units: 'mm',
+		flow: [1, 0, 0],
+		cell: 4,
+		rules: { maxShells: 1 },
+		parts: [
+			{ slug: 'mag-tow-body', name: 'Magnetometer tow body' },
+			{ slug: 'ring-wing-body', name: 'Ring-wing tow body' }
+		]
+	},
+	{
+		slug: 'keel-bulbs',
+		name: 'Keel bulbs',
+		description: 'Ballast bulbs for the sail drone keel, shaped by the optimiser.',
+		units: 'm',
+		flow: [1, 0, 0],
+		cell: 0.005,
+		rules: { expectedGenus: 0 },
+		parts: [{ slug: 'keel-bulb-a', name: 'Keel bulb A' }]
+	}
+];
+
+export async function seed(): Promise<{ created: number }> {
+	const db = getDb();
+	let created = 0;
+	let [t] = await db.select().from(team).where(eq(team.name, 'Tidewater Survey Robotics')).limit(1);
+	if (!t) {
+		const [r] = await db.insert(team).values({ name: 'Tidewater Survey Robotics' }).$returningId();
+		t = { id: r.id, name: 'Tidewater Survey Robotics', createdAt: new Date() };
+		created++;
+	}
+	const passwordHash = await hashPassword(DEMO_PASSWORD);
+	const ids: Record<string, string> = {};
+	for (const p of PEOPLE) {
+		const [u] = await db.select().from(user).where(eq(user.email, p.email)).limit(1);
+		if (u) {
+			ids[p.email] = u.id;
+			continue;
+		}
+		const id = newUserId();
+		await db.transaction(async (tx) => {
+			await tx.insert(user).values({ id, email: p.email, name: p.name, teamId: t.id, passwordHash });
+			await tx.insert(userRole).values(p.roles.map((role) => ({ userId: id, role })));
+		});
+		ids[p.email] = id;
+		created++;
+	}
+	for (const pr of PROJECTS) {
+		let [row] = await db.select().from(project).where(eq(project.slug, pr.slug)).limit(1);
+		if (!row) {
+			await db.transaction(async (tx) => {
+				const [r] = await tx
+					.insert(project)
+					.values({ teamId: t.id, slug: pr.slug, name: pr.name, description: pr.description, units: pr.units, flowX: pr.flow[0], flowY: pr.flow[1], flowZ: pr.flow[2], targetCellSize: pr.cell })
+					.$returningId();
+				await tx.insert(gateProfile).values({ projectId: r.id, version: 1, rules: { ...DEFAULT_GATE_RULES, ...pr.rules }, createdBy: ids['admin@example.test'] });
+			});
+			[row] = await db.select().from(project).where(eq(project.slug, pr.slug)).limit(1);
+			created++;
+		}
+		for (const pa of pr.parts) {
+			const [exists] = await db.select().from(part).where(and(eq(part.projectId, row.id), eq(part.slug, pa.slug))).limit(1);
+			if (!exists) {
+				await db.insert(part).values({ projectId: row.id, slug: pa.slug, name: pa.name });
+				created++;
+			}
+		}
+	}
+	return { created };
+}
+
+if (import.meta.url === `file://${process.argv[1]}`) {
+	seed()
+		.then(({ created }) => {
+			console.log(created ? `demo data: ${created} rows created` : 'demo data: already present, nothing added');
+		})
+		.catch((e) => {
+			console.error('seeding failed:', e.message);
+			process.exitCode = 1;
+		})
+		.finally(() => closeDb());
+}

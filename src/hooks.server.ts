@@ -1,0 +1,99 @@
+import { error, redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
+import { and, eq, isNull } from 'drizzle-orm';
+import { getLucia, hashToken, loadSessionUser } from '$lib/server/auth';
+import { accessFor } from '$lib/server/auth/guard';
+import { getDb } from '$lib/server/db';
+import { apiToken } from '$lib/server/db/schema';
+import { startBackground } from '$lib/server/background';
+
+startBackground();
+
+function json(status: number, message: string): Response {
+	return new Response(JSON.stringify({ message }), {
+		status,
+		headers: { 'content-type': 'application/json; charset=utf-8' }
+	});
+}
+
+function isDbDown(e: unknown): boolean {
+	const code = (e as { code?: string })?.code ?? '';
+	return ['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ER_CON_COUNT_ERROR', 'ECONNRESET'].includes(code);
+}
+
+async function authenticate(event: Parameters<Handle>[0]['event']) {
+	event.locals.user = null;
+	event.locals.session = null;
+	const db = getDb();
+	const bearer = event.request.headers.get('authorization');
+	if (bearer?.startsWith('Bearer ') && event.url.pathname.startsWith('/api/')) {
+		const token = bearer.slice(7).trim();
+		const [row] = await db
+			.select()
+			.from(apiToken)
+			.where(and(eq(apiToken.tokenHash, hashToken(token)), isNull(apiToken.revokedAt)))
+			.limit(1);
+		if (row) {
+			event.locals.user = await loadSessionUser(db, row.userId);
+			// Last use is informative only; a lost update here is harmless.
+			void db.update(apiToken).set({ lastUsedAt: new Date() }).where(eq(apiToken.id, row.id)).catch(() => {});
+		}
+		return;
+	}
+	const lucia = getLucia();
+	const sessionId = event.cookies.get(lucia.sessionCookieName);
+	if (!sessionId) return;
+	const { session, user } = await lucia.validateSession(sessionId);
+	const secure = event.url.protocol === 'https:';
+	if (session && session.fresh) {
+		const c = lucia.createSessionCookie(session.id);
+		event.cookies.set(c.name, c.value, { ...c.attributes, secure, path: '/' });
+	}
+	if (!session) {
+		const c = lucia.createBlankSessionCookie();
+		event.cookies.set(c.name, c.value, { ...c.attributes, secure, path: '/' });
+		return;
+	}
+	event.locals.session = session;
+	event.locals.user = user ? await loadSessionUser(db, user.id) : null;
+}
+
+export const handle: Handle = async ({ event, resolve }) => {
+	const path = event.url.pathname;
+	if (path.startsWith('/_app/') || path === '/favicon.svg') return resolve(event);
+	const isApi = path.startsWith('/api/');
+	try {
+		await authenticate(event);
+	} catch (e) {
+		if (isDbDown(e)) {
+			const msg = 'The database is not reachable right now. Nothing was changed; try again in a moment.';
+			return isApi ? json(503, msg) : new Response(msg, { status: 503, headers: { 'content-type': 'text/plain; charset=utf-8' } });
+		}
+		throw e;
+	}
+	const access = accessFor(path);
+	const u = event.locals.user;
+	if (access !== 'public') {
+		if (!u) {
+			if (isApi) return json(401, 'Authentication required: send a session cookie or an "Authorization: Bearer" API token.');
+			redirect(303, `/sign-in?next=${encodeURIComponent(path + event.url.search)}`);
+		}
+		if (Array.isArray(access) && !access.some((r) => u.roles.includes(r))) {
+			const msg = `This page needs the ${access.join(' or ')} role.`;
+			if (isApi) return json(403, msg);
+			error(403, msg);
+		}
+	}
+	const response = await resolve(event);
+	response.headers.set('x-content-type-options', 'nosniff');
+	response.headers.set('referrer-policy', 'same-origin');
+	response.headers.set('x-frame-options', 'DENY');
+	return response;
+};
+
+export const handleError: HandleServerError = ({ error: err, status, message }) => {
+	if (isDbDown(err)) {
+		return { message: 'The database is not reachable right now. Nothing was changed; try again in a moment.' };
+	}
+	if (status >= 500) console.error('[shellgate] unexpected error:', (err as Error)?.stack ?? err);
+	return { message: status >= 500 ? 'Something went wrong on the server. It has been logged.' : message };
+};

@@ -1,0 +1,61 @@
+// Settings from the environment, read in one place so the app, the standalone worker and the scripts agree.
+// Plain process.env (not $env) because the worker and scripts run outside SvelteKit.
+import path from 'node:path';
+
+function num(name: string, fallback: number): number {
+	const raw = process.env[name];
+	if (raw === undefined || raw === '') return fallback;
+	const n = Number(raw);
+	if (!Number.isFinite(n) || n < 0) throw new Error(`${name} must be a non-negative number, got "${raw}"`);
+	return n;
+}
+
+export const config = {
+	get databaseUrl() {
+		const url = process.env.DATABASE_URL;
+		if (!url) throw new Error('DATABASE_URL is not set (npm start sets it for the private MariaDB)');
+		return url;
+	},
+	get dataDir() {
+		return path.resolve(process.env.SHELLGATE_DATA_DIR || '.data');
+	},
+	get smtpHost() {
+		return process.env.SMTP_HOST || '127.0.0.1';
+	},
+	get smtpPort() {
+		return num('SMTP_PORT', 2525);
+	},
+	get mailFrom() {
+		return process.env.MAIL_FROM || 'Shellgate <shellgate@example.test>';
+	},
+	get mailboxDir() {
+		return path.resolve(process.env.MAILBOX_DIR || path.join(this.dataDir, 'mailbox'));
+	},
+	get devMailbox() {
+		return process.env.SHELLGATE_DEV_MAILBOX === '1';
+	},
+	get origin() {
+		return process.env.ORIGIN || `http://127.0.0.1:${process.env.PORT || 3000}`;
+	},
+	get storage(): 'local' | 's3' {
+		return process.env.STORAGE === 's3' ? 's3' : 'local';
+	},
+	get uploadLimitBytes() {
+		return num('UPLOAD_LIMIT_MB', 512) * 1024 * 1024;
+	},
+	get maxFaces() {
+		return num('MAX_FACES', 20_000_000);
+	},
+	get checkWorkers() {
+		return num('CHECK_WORKERS', 1);
+	},
+	get checkTimeLimitMs() {
+		return num('CHECK_TIME_LIMIT_S', 300) * 1000;
+	},
+	get checkMemoryLimitMb() {
+		return num('CHECK_MEMORY_LIMIT_MB', 4096);
+	},
+	get checkAttempts() {
+		return num('CHECK_ATTEMPTS', 3);
+	}
+};

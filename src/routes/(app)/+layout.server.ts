@@ -1,0 +1,7 @@
+import { requireRole } from '$lib/server/auth';
+import type { LayoutServerLoad } from './$types';
+
+export const load: LayoutServerLoad = ({ locals }) => {
+	const user = requireRole(locals);
+	return { user };
+};

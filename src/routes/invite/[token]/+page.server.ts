@@ -1,0 +1,5 @@
+import { passwordLinkRoute } from '$lib/server/auth/password-links';
+
+const route = passwordLinkRoute('invite');
+export const load = route.load;
+export const actions = route.actions;

@@ -91,7 +91,14 @@ export function parseNumber(bytes: Uint8Array, start: number, end: number, out: 
 		exp += eneg ? -e : e;
 	}
 	if (p !== end) return slowNumber(bytes, start, end, out);
-	if (m > 9007199254740991 || exp > 22 || exp < -22) return slowNumber(bytes, start, end, out);
+	if (m > 9007199254740991 || exp > 22 || exp < -22) {
+		// Plain decimal outside the fast path (e.g. 17 significant digits): exact via parseFloat.
+		let s = '';
+		for (let i = start; i < end; i++) s += String.fromCharCode(bytes[i]);
+		const v = parseFloat(s);
+		if (v - v !== 0) out.err = NOT_FINITE;
+		return v;
+	}
 	const v = exp >= 0 ? m * POW10[exp] : m / POW10[-exp];
 	return neg ? -v : v;
 }

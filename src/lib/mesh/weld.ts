@@ -32,61 +32,66 @@ function tableSizeFor(n: number): number {
  */
 export function weldFloat32Bits(bits: Uint32Array, cornerCount: number): WeldResult {
 	const indices = new Uint32Array(cornerCount);
-	// Meshes usually have about half as many vertices as triangles; start there and grow.
-	let size = tableSizeFor(Math.max(16, cornerCount >>> 3));
+	// Slot s holds [x, y, z, id + 1] in one 16-byte run (0 in the last word = empty), so a probe
+	// touches one cache line. Meshes have about half as many vertices as triangles (a sixth of the
+	// corners); start there and double when half full.
+	let size = tableSizeFor(Math.max(16, Math.ceil(cornerCount / 6)));
 	let mask = size - 1;
-	let table = new Int32Array(size).fill(-1);
-	let uniq = new Uint32Array(3 * Math.max(16, cornerCount >>> 3));
+	let table = new Uint32Array(4 * size);
 	let vertCount = 0;
 	for (let c = 0; c < cornerCount; c++) {
 		const c3 = 3 * c;
 		const x = bits[c3], y = bits[c3 + 1], z = bits[c3 + 2];
 		let h = Math.imul(x, 0x9e3779b1) ^ Math.imul(y, 0x85ebca77) ^ Math.imul(z, 0xc2b2ae3d);
 		h ^= h >>> 15;
-		let slot = h & mask;
-		let id = table[slot];
-		while (id !== -1) {
-			const u3 = 3 * id;
-			if (uniq[u3] === x && uniq[u3 + 1] === y && uniq[u3 + 2] === z) break;
-			slot = (slot + 1) & mask;
-			id = table[slot];
+		let s4 = (h & mask) << 2;
+		let id1 = table[s4 + 3];
+		while (id1 !== 0) {
+			if (table[s4] === x && table[s4 + 1] === y && table[s4 + 2] === z) break;
+			s4 = (s4 + 4) & (4 * size - 1);
+			id1 = table[s4 + 3];
 		}
-		if (id === -1) {
-			id = vertCount++;
-			if (3 * id + 3 > uniq.length) {
-				const grown = new Uint32Array(Math.min(3 * cornerCount, 2 * uniq.length));
-				grown.set(uniq);
-				uniq = grown;
-			}
-			const u3 = 3 * id;
-			uniq[u3] = x;
-			uniq[u3 + 1] = y;
-			uniq[u3 + 2] = z;
-			table[slot] = id;
+		if (id1 === 0) {
+			id1 = ++vertCount;
+			table[s4] = x;
+			table[s4 + 1] = y;
+			table[s4 + 2] = z;
+			table[s4 + 3] = id1;
 			if (2 * vertCount > size) {
 				size *= 2;
 				mask = size - 1;
-				table = rehash32(uniq, vertCount, size);
+				table = rehash32(table, size);
 			}
 		}
-		indices[c] = id;
+		indices[c] = id1 - 1;
 	}
-	const asFloat = new Float32Array(uniq.buffer, 0, 3 * vertCount);
+	const asFloat = new Float32Array(table.buffer);
 	const positions = new Float64Array(3 * vertCount);
-	for (let i = 0; i < 3 * vertCount; i++) positions[i] = asFloat[i];
+	for (let s = 0; s < size; s++) {
+		const id1 = table[4 * s + 3];
+		if (id1 === 0) continue;
+		const v3 = 3 * (id1 - 1);
+		positions[v3] = asFloat[4 * s];
+		positions[v3 + 1] = asFloat[4 * s + 1];
+		positions[v3 + 2] = asFloat[4 * s + 2];
+	}
 	return { positions, indices, vertCount, weldedVertices: cornerCount - vertCount };
 }
 
-function rehash32(uniq: Uint32Array, vertCount: number, size: number): Int32Array {
+function rehash32(old: Uint32Array, size: number): Uint32Array {
 	const mask = size - 1;
-	const table = new Int32Array(size).fill(-1);
-	for (let id = 0; id < vertCount; id++) {
-		const u3 = 3 * id;
-		let h = Math.imul(uniq[u3], 0x9e3779b1) ^ Math.imul(uniq[u3 + 1], 0x85ebca77) ^ Math.imul(uniq[u3 + 2], 0xc2b2ae3d);
+	const table = new Uint32Array(4 * size);
+	for (let o = 0; o < old.length; o += 4) {
+		if (old[o + 3] === 0) continue;
+		const x = old[o], y = old[o + 1], z = old[o + 2];
+		let h = Math.imul(x, 0x9e3779b1) ^ Math.imul(y, 0x85ebca77) ^ Math.imul(z, 0xc2b2ae3d);
 		h ^= h >>> 15;
-		let slot = h & mask;
-		while (table[slot] !== -1) slot = (slot + 1) & mask;
-		table[slot] = id;
+		let s4 = (h & mask) << 2;
+		while (table[s4 + 3] !== 0) s4 = (s4 + 4) & (4 * size - 1);
+		table[s4] = x;
+		table[s4 + 1] = y;
+		table[s4 + 2] = z;
+		table[s4 + 3] = old[o + 3];
 	}
 	return table;
 }

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { mulberry32 } from './implicit-shapes';
+import { genusRings, mulberry32, sphere, torus, towBody } from './implicit-shapes';
+import { gridFor, marchingCubes } from './marching-cubes';
 import { findSelfIntersections } from './self-intersect';
 import type { MeshBuffers } from './types';
 
@@ -199,5 +200,43 @@ describe('findSelfIntersections pair rules on constructed cases', () => {
 
 	it('handles an empty mesh', () => {
 		expect(findSelfIntersections(mesh([], [])).pairs).toBe(0);
+	});
+});
+
+describe('findSelfIntersections on marching-cubes surfaces', () => {
+	for (const [shape, cell] of [[sphere(1), 0.04], [torus(1, 0.35), 0.03], [genusRings(3), 0.05], [towBody(1), 0.03]] as const) {
+		it(`finds no pairs on a closed marching-cubes ${shape.name}`, () => {
+			const m = marchingCubes(shape.field, gridFor(shape.min, shape.max, cell));
+			const r = findSelfIntersections(m);
+			expect(r.degenerateSkipped).toBe(0);
+			expect(r.pairs).toBe(0);
+		});
+	}
+
+	it('finds pairs on two overlapping spheres, with points on the circle where they cross', () => {
+		// Unit spheres centred at x = 0 and x = 0.8 cross on the circle x = 0.4, y² + z² = 1 − 0.16.
+		const cell = 0.05;
+		const s = sphere(1);
+		const a = marchingCubes(s.field, gridFor(s.min, s.max, cell));
+		const b = marchingCubes((x, y, z) => s.field(x - 0.8, y, z), gridFor([-0.2, -1, -1], [1.8, 1, 1], cell));
+		const va = a.positions.length / 3;
+		const positions = new Float64Array(a.positions.length + b.positions.length);
+		positions.set(a.positions);
+		positions.set(b.positions, a.positions.length);
+		const indices = new Uint32Array(a.indices.length + b.indices.length);
+		indices.set(a.indices);
+		for (let k = 0; k < b.indices.length; k++) indices[a.indices.length + k] = b.indices[k] + va;
+		const r = findSelfIntersections({ positions, indices }, { sampleLimit: 500 });
+		expect(r.pairs).toBeGreaterThan(100);
+		expect(r.sample.length).toBe(Math.min(500, r.pairs));
+		const fa = a.indices.length / 3;
+		for (const { a: i, b: j, point } of r.sample) {
+			expect(i).toBeLessThan(fa); // one face from each sphere
+			expect(j).toBeGreaterThanOrEqual(fa);
+			const [x, y, z] = point;
+			// Tolerance: the facets sit within about cell²/(8r) ≈ 3e-4 of the spheres, plus interpolation error.
+			expect(Math.abs(x - 0.4)).toBeLessThan(0.01);
+			expect(Math.abs(Math.hypot(y, z) - Math.sqrt(0.84))).toBeLessThan(0.01);
+		}
 	});
 });

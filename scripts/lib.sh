@@ -89,16 +89,16 @@ wait_port() {
 	done
 }
 
-# stop_pid PID NAME: SIGTERM, wait up to 30 s, then SIGKILL.
+# stop_pid PID NAME [TIMEOUT_S]: SIGTERM, wait up to TIMEOUT_S (30), then SIGKILL.
 stop_pid() {
-	local pid=$1 name=$2 i=0
+	local pid=$1 name=$2 limit=$((${3:-30} * 10)) i=0
 	[ -n "$pid" ] || return 0
 	kill -0 "$pid" 2>/dev/null || return 0
 	kill -TERM "$pid" 2>/dev/null || true
 	while kill -0 "$pid" 2>/dev/null; do
 		i=$((i + 1))
-		if [ "$i" -gt 300 ]; then
-			warn "$name (pid $pid) ignored SIGTERM for 30 s; killing it"
+		if [ "$i" -gt "$limit" ]; then
+			warn "$name (pid $pid) was still running ${3:-30} s after SIGTERM; killing it"
 			kill -KILL "$pid" 2>/dev/null || true
 			break
 		fi
@@ -187,5 +187,17 @@ db_create() {
 	SQL
 }
 
-# run_ts FILE ARGS: TypeScript through tsx's loader in this very process, so SIGTERM reaches it.
+# run_ts FILE ARGS: TypeScript through tsx's loader in one node process (no npx/tsx wrapper).
+# Background services are started as `node --import tsx FILE &` directly, never through this
+# function, so that $! is node itself and SIGTERM reaches it.
 run_ts() { node --import tsx "$@"; }
+
+# vite_build ARGS: vite build without rolldown's flood of circular-import notes from dependencies.
+vite_build() {
+	local out rc=0
+	out=$(mktemp)
+	npx vite build "$@" >"$out" 2>&1 || rc=$?
+	grep -v -e '^Circular dependency: node_modules/' -e '^`config.kit.csrf.checkOrigin` has been deprecated' "$out" || true
+	rm -f "$out"
+	return "$rc"
+}

@@ -44,7 +44,9 @@ try {
 			: `migrate: applied ${fresh.length} of ${entries.length} migrations`
 	);
 } catch (e) {
-	console.error('migrate: failed:', (e as Error).message);
+	const err = e as Error & { cause?: { message?: string } };
+	console.error(`migrate: failed: ${err.message.split('\n')[0]}${err.cause?.message ? `\nmigrate: cause: ${err.cause.message}` : ''}`);
+	console.error('migrate: a local database made from older, since rewritten migrations can be reset by deleting .data/mariadb');
 	process.exitCode = 1;
 } finally {
 	await connection.end();

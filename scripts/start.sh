@@ -24,7 +24,9 @@ cleanup() {
 	trap '' INT TERM
 	trap - EXIT
 	echo
-	stop_pid "$APP_PID" app
+	log "stopping"
+	# adapter-node exits once its event loop drains; an app holding timers gets 10 s.
+	stop_pid "$APP_PID" app 10
 	stop_pid "$SMTP_PID" "mail catcher"
 	db_stop
 }
@@ -53,7 +55,7 @@ export SHELLGATE_DATA_DIR=$DATA_DIR
 export SHELLGATE_DEV_MAILBOX=${SHELLGATE_DEV_MAILBOX:-1}
 
 port_open "$SMTP_PORT" && die "port $SMTP_PORT is already in use; set SMTP_PORT to a free port"
-run_ts scripts/fake-smtp.ts </dev/null &
+node --import tsx scripts/fake-smtp.ts </dev/null &
 SMTP_PID=$!
 wait_port "$SMTP_PORT" "$SMTP_PID" "mail catcher" || die "the mail catcher did not start"
 
@@ -70,7 +72,7 @@ if [ -f build/handler.js ] && [ -z "$(find src static package-lock.json svelte.c
 else
 	BUILD_T0=$(now_s)
 	log "building the app (vite build)"
-	npx vite build --logLevel error
+	vite_build --logLevel error
 	log "build took $(since "$BUILD_T0") s"
 fi
 

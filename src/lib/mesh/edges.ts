@@ -1,6 +1,6 @@
 /**
- * Undirected edge table by two stable counting-sort passes over halfedges (by hi, then by lo):
- * O(H + V) time, no per-edge objects. Halfedge h = 3t + k runs from indices[h] to
+ * Undirected edge table: halfedges bucketed by smaller endpoint, each bucket sorted by the larger;
+ * O(H + V) for bounded valence, no per-edge objects. Halfedge h = 3t + k runs from indices[h] to
  * indices[3t + (k + 1) % 3].
  */
 
@@ -31,74 +31,91 @@ export function buildEdges(indices: Uint32Array, vertCount: number, skipFace?: U
 	const heCount = indices.length;
 	const triCount = (heCount / 3) | 0;
 	const heEdge = new Uint32Array(heCount).fill(NO_EDGE);
-	let active = heCount;
-	if (skipFace) {
-		active = 0;
-		for (let t = 0; t < triCount; t++) if (!skipFace[t]) active += 3;
-	}
+	let active = 0;
+	for (let t = 0; t < triCount; t++) if (!skipFace || !skipFace[t]) active += 3;
+	// Bucket halfedges by their smaller endpoint (one counting-sort scatter), then sort each bucket
+	// by the larger endpoint. Buckets hold about three halfedges on average; a large bucket (a
+	// vertex of very high valence) is sorted natively, so the worst case stays O(H log H).
 	const counts = new Uint32Array(vertCount + 1);
-	const byHi = new Uint32Array(active);
-	const sorted = new Uint32Array(active);
-
-	// Pass 1: bucket halfedges by their larger endpoint.
+	const heHi = new Uint32Array(heCount);
 	for (let t = 0; t < triCount; t++) {
 		if (skipFace && skipFace[t]) continue;
 		const t3 = 3 * t;
 		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
-		counts[(a > b ? a : b) + 1]++;
-		counts[(b > c ? b : c) + 1]++;
-		counts[(c > a ? c : a) + 1]++;
-	}
-	for (let v = 0; v < vertCount; v++) counts[v + 1] += counts[v];
-	for (let t = 0; t < triCount; t++) {
-		if (skipFace && skipFace[t]) continue;
-		const t3 = 3 * t;
-		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
-		byHi[counts[a > b ? a : b]++] = t3;
-		byHi[counts[b > c ? b : c]++] = t3 + 1;
-		byHi[counts[c > a ? c : a]++] = t3 + 2;
-	}
-	// Pass 2: stable bucket by smaller endpoint.
-	counts.fill(0);
-	for (let i = 0; i < active; i++) {
-		const h = byHi[i];
-		const a = indices[h], b = indices[nextHalfedge(h)];
 		counts[(a < b ? a : b) + 1]++;
+		counts[(b < c ? b : c) + 1]++;
+		counts[(c < a ? c : a) + 1]++;
+		heHi[t3] = a < b ? b : a;
+		heHi[t3 + 1] = b < c ? c : b;
+		heHi[t3 + 2] = c < a ? a : c;
 	}
 	for (let v = 0; v < vertCount; v++) counts[v + 1] += counts[v];
-	for (let i = 0; i < active; i++) {
-		const h = byHi[i];
-		const a = indices[h], b = indices[nextHalfedge(h)];
-		sorted[counts[a < b ? a : b]++] = h;
+	const sorted = new Uint32Array(active);
+	const fill = counts.slice(0, vertCount);
+	for (let t = 0; t < triCount; t++) {
+		if (skipFace && skipFace[t]) continue;
+		const t3 = 3 * t;
+		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
+		sorted[fill[a < b ? a : b]++] = t3;
+		sorted[fill[b < c ? b : c]++] = t3 + 1;
+		sorted[fill[c < a ? c : a]++] = t3 + 2;
 	}
-	// Runs of equal (lo, hi) are edges. byHi is reused as the per-edge scratch.
-	const edgeLo = byHi; // overwritten in place below: index e ≤ i always
-	const edgeHiFull = new Uint32Array(active);
-	const edgeStartFull = new Uint32Array(active + 1);
-	let e = -1;
-	let prevLo = -1, prevHi = -1;
-	// byHi[i] is read before edgeLo[e] (e ≤ i) is written, but it is not read again: safe.
-	for (let i = 0; i < active; i++) {
-		const h = sorted[i];
-		const a = indices[h], b = indices[nextHalfedge(h)];
-		const lo = a < b ? a : b, hi = a < b ? b : a;
-		if (lo !== prevLo || hi !== prevHi) {
-			e++;
-			edgeLo[e] = lo;
-			edgeHiFull[e] = hi;
-			edgeStartFull[e] = i;
-			prevLo = lo;
-			prevHi = hi;
+	let big: Float64Array | null = null;
+	let bigCopy: Uint32Array | null = null;
+	for (let v = 0; v < vertCount; v++) {
+		const s = counts[v], n = counts[v + 1] - s;
+		if (n < 2) continue;
+		if (n <= 32) {
+			// Insertion sort by (hi, halfedge): halfedges arrive ascending, so ties keep order.
+			for (let i = s + 1; i < s + n; i++) {
+				const h = sorted[i], hh = heHi[h];
+				let j = i - 1;
+				while (j >= s && heHi[sorted[j]] > hh) {
+					sorted[j + 1] = sorted[j];
+					j--;
+				}
+				sorted[j + 1] = h;
+			}
+		} else {
+			// Key hi · n + slot stays below 2^53 for any mesh under the face limit (hi, n < 2^26).
+			if (!big || big.length < n) big = new Float64Array(Math.max(n, 1024));
+			if (!bigCopy || bigCopy.length < n) bigCopy = new Uint32Array(Math.max(n, 1024));
+			const keys = big.subarray(0, n);
+			for (let i = 0; i < n; i++) {
+				bigCopy[i] = sorted[s + i];
+				keys[i] = heHi[sorted[s + i]] * n + i;
+			}
+			keys.sort();
+			for (let i = 0; i < n; i++) sorted[s + i] = bigCopy[keys[i] % n];
 		}
-		heEdge[h] = e;
+	}
+	// Runs of equal (lo, hi) are edges.
+	const edgeLo = new Uint32Array(active);
+	const edgeHi = new Uint32Array(active);
+	const edgeStart = new Uint32Array(active + 1);
+	let e = -1;
+	for (let v = 0; v < vertCount; v++) {
+		const s = counts[v], end = counts[v + 1];
+		let prevHi = -1;
+		for (let i = s; i < end; i++) {
+			const h = sorted[i], hi = heHi[h];
+			if (hi !== prevHi) {
+				e++;
+				edgeLo[e] = v;
+				edgeHi[e] = hi;
+				edgeStart[e] = i;
+				prevHi = hi;
+			}
+			heEdge[h] = e;
+		}
 	}
 	const edgeCount = e + 1;
-	edgeStartFull[edgeCount] = active;
+	edgeStart[edgeCount] = active;
 	return {
 		edgeCount,
 		edgeLo: edgeLo.subarray(0, edgeCount),
-		edgeHi: edgeHiFull.subarray(0, edgeCount),
-		edgeStart: edgeStartFull.subarray(0, edgeCount + 1),
+		edgeHi: edgeHi.subarray(0, edgeCount),
+		edgeStart: edgeStart.subarray(0, edgeCount + 1),
 		heSorted: sorted,
 		heEdge
 	};

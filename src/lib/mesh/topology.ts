@@ -91,7 +91,20 @@ export function collapsedFaces(indices: Uint32Array): { mask: Uint8Array; count:
 	return { mask, count };
 }
 
-export function analyseTopology(indices: Uint32Array, vertCount: number, skipFace: Uint8Array): TopologyResult {
+/** stageMs, if given, receives milliseconds per internal step (for the bench). */
+export function analyseTopology(
+	indices: Uint32Array,
+	vertCount: number,
+	skipFace: Uint8Array,
+	stageMs?: Record<string, number>
+): TopologyResult {
+	let tMark = performance.now();
+	const mark = (name: string) => {
+		if (!stageMs) return;
+		const now = performance.now();
+		stageMs[name] = now - tMark;
+		tMark = now;
+	};
 	const triCount = (indices.length / 3) | 0;
 	const heCount = 3 * triCount;
 	for (let i = 0; i < indices.length; i++) {
@@ -102,6 +115,7 @@ export function analyseTopology(indices: Uint32Array, vertCount: number, skipFac
 	const et = buildEdges(indices, vertCount, skipFace);
 	const { edgeCount, edgeStart, heSorted, heEdge, edgeLo, edgeHi } = et;
 
+	mark('edges');
 	// Shells: faces joined through any shared edge.
 	const faceParent = new Int32Array(triCount);
 	for (let t = 0; t < triCount; t++) faceParent[t] = t;
@@ -132,6 +146,7 @@ export function analyseTopology(indices: Uint32Array, vertCount: number, skipFac
 		else faceShell[t] = faceShell[r];
 	}
 
+	mark('shells');
 	const sFaces = new Uint32Array(shellCount);
 	const sVerts = new Uint32Array(shellCount);
 	const sEdges = new Uint32Array(shellCount);
@@ -156,6 +171,7 @@ export function analyseTopology(indices: Uint32Array, vertCount: number, skipFac
 		}
 	}
 
+	mark('shellEdges');
 	// Orientation: BFS 2-colouring of faces across two-face edges. colour 1 = flip this face.
 	// Each BFS patch keeps the smaller colour class as its flip set.
 	const colour = new Int8Array(triCount).fill(-1);
@@ -196,6 +212,7 @@ export function analyseTopology(indices: Uint32Array, vertCount: number, skipFac
 		sFlipped[sh] += flipOnes ? ones : patchSize - ones;
 	}
 
+	mark('orientation');
 	// Fans: union face corners around each vertex through the edges they share there.
 	// Corner c = 3t + k sits at vertex indices[c]; halfedge h starts at corner h, ends at corner next(h).
 	const cornerParent = new Int32Array(heCount);
@@ -227,6 +244,7 @@ export function analyseTopology(indices: Uint32Array, vertCount: number, skipFac
 		if (vertexFans[v] > 0) referencedVertices++;
 		if (vertexFans[v] > 1) nonManifoldVertices++;
 	}
+	mark('fans');
 	// Vertices per shell, and pinch vertices inside one shell. A vertex with several fans may have
 	// them in different shells (two cubes touching at a corner: each cube alone is manifold).
 	const pinchSeen = new Map<number, number>();
@@ -245,6 +263,7 @@ export function analyseTopology(indices: Uint32Array, vertCount: number, skipFac
 		pinchSeen.set(key, seen + 1);
 	}
 
+	mark('pinch');
 	// Boundary loops. Each boundary edge has two ends (slot 2i at lo, 2i + 1 at hi, i its boundary
 	// number); ends in the same fan are paired, so loops pass correctly through pinch vertices.
 	const bEdge = new Uint32Array(boundaryEdges);
@@ -324,41 +343,53 @@ export function analyseTopology(indices: Uint32Array, vertCount: number, skipFac
 	const loopEdgeCount = new Uint32Array(loopCount);
 	for (let l = 0; l < loopCount; l++) loopEdgeCount[l] = loopStart[l + 1] - loopStart[l];
 
-	// Duplicate faces: same vertex set, any order. Key = (edge of the two smallest, largest vertex).
+	mark('loops');
+	// Duplicate faces: same vertex set, any order. Two such faces share the edge joining their two
+	// smallest vertices and have the same third vertex; on a two-face edge that is one comparison,
+	// on a non-manifold edge a small map over the faces there.
 	const duplicateFace = new Uint8Array(triCount);
 	let duplicateFaces = 0;
-	{
-		let size = 1;
-		while (size < 2 * activeFaces + 2) size <<= 1;
-		const mask = size - 1;
-		const keys = new Float64Array(size).fill(-1);
-		for (let t = 0; t < triCount; t++) {
-			if (skipFace[t]) continue;
-			const t3 = 3 * t;
-			const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
-			// Halfedge opposite the largest vertex joins the two smallest.
-			let hk: number, top: number;
-			if (a > b && a > c) (hk = t3 + 1), (top = a);
-			else if (b > c) (hk = t3 + 2), (top = b);
-			else (hk = t3), (top = c);
-			const key = heEdge[hk] * vertCount + top;
-			let slot = (Math.imul(heEdge[hk], 0x9e3779b1) ^ Math.imul(top, 0x85ebca6b)) & mask;
-			for (;;) {
-				const k = keys[slot];
-				if (k === -1) {
-					keys[slot] = key;
-					break;
-				}
-				if (k === key) {
-					duplicateFace[t] = 1;
-					duplicateFaces++;
-					break;
-				}
-				slot = (slot + 1) & mask;
+	for (let t = 0; t < triCount; t++) {
+		if (skipFace[t]) continue;
+		const t3 = 3 * t;
+		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
+		// Halfedge opposite the largest vertex joins the two smallest.
+		let hk: number, top: number;
+		if (a > b && a > c) (hk = t3 + 1), (top = a);
+		else if (b > c) (hk = t3 + 2), (top = b);
+		else (hk = t3), (top = c);
+		const e = heEdge[hk];
+		const s = edgeStart[e], n = edgeStart[e + 1] - s;
+		if (n < 2) continue;
+		if (n === 2) {
+			const o = heSorted[s] === hk ? heSorted[s + 1] : heSorted[s];
+			const g = (o / 3) | 0;
+			if (g < t && indices[o % 3 === 0 ? o + 2 : o - 1] === top) {
+				duplicateFace[t] = 1;
+				duplicateFaces++;
 			}
+			continue;
+		}
+	}
+	// Non-manifold edges: among faces whose two smallest vertices are this edge, repeated third vertices.
+	const thirdSeen = new Set<number>();
+	for (let e = 0; e < edgeCount; e++) {
+		const s = edgeStart[e], n = edgeStart[e + 1] - s;
+		if (n < 3) continue;
+		thirdSeen.clear();
+		const hi = edgeHi[e];
+		for (let i = 0; i < n; i++) {
+			const o = heSorted[s + i];
+			const third = indices[o % 3 === 0 ? o + 2 : o - 1];
+			if (third < hi) continue; // this face's two smallest are not (lo, hi)
+			if (thirdSeen.has(third)) {
+				duplicateFace[(o / 3) | 0] = 1;
+				duplicateFaces++;
+			} else thirdSeen.add(third);
 		}
 	}
 
+	mark('duplicates');
 	return {
 		edges: et,
 		activeFaces,

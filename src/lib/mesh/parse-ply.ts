@@ -148,14 +148,13 @@ export function parsePly(bytes: Uint8Array, opts: ReadOptions = {}): ParsedMesh 
 	}
 	checkFaceLimit(fEl.count, maxFaces, `PLY (declares ${fmt(fEl.count)} faces)`);
 
-	// Refuse counts the data cannot hold before allocating anything sized by them.
+	// Refuse counts the data cannot hold before allocating anything sized by them (a loose lower
+	// bound: 2 bytes per ASCII value, list counts only; the readers report exact truncation).
 	const remaining = bytes.length - h.dataStart;
 	let minBytes = 0;
 	for (const el of h.elements) {
 		let row = 0;
 		for (const q of el.props) row += h.format === 'ascii' ? 2 : q.countType >= 0 ? SIZE[q.countType] : SIZE[q.type];
-		if (el === fEl && h.format !== 'ascii') row += 3 * SIZE[listProp.type];
-		if (el === fEl && h.format === 'ascii') row += 6;
 		const need = row * el.count;
 		minBytes += need;
 		if (minBytes > remaining) {

@@ -1,4 +1,4 @@
-import { error, redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
+import { redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
 import { and, eq, isNull } from 'drizzle-orm';
 import { getLucia, hashToken, loadSessionUser } from '$lib/server/auth';
 import { accessFor } from '$lib/server/auth/guard';
@@ -77,10 +77,10 @@ export const handle: Handle = async ({ event, resolve }) => {
 			if (isApi) return json(401, 'Authentication required: send a session cookie or an "Authorization: Bearer" API token.');
 			redirect(303, `/sign-in?next=${encodeURIComponent(path + event.url.search)}`);
 		}
-		if (Array.isArray(access) && !access.some((r) => u.roles.includes(r))) {
-			const msg = `This page needs the ${access.join(' or ')} role.`;
-			if (isApi) return json(403, msg);
-			error(403, msg);
+		// Pages lacking the role are refused by their layout's requireRole (so the app's error page
+		// renders); API routes are refused here.
+		if (Array.isArray(access) && !access.some((r) => u.roles.includes(r)) && isApi) {
+			return json(403, `This route needs the ${access.join(' or ')} role.`);
 		}
 	}
 	const response = await resolve(event);

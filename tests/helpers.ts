@@ -1,0 +1,23 @@
+import { expect, type Page } from '@playwright/test';
+
+export const DEMO_PASSWORD = 'shellgate-demo';
+export const ROLES = ['engineer', 'designer', 'reviewer', 'admin'] as const;
+
+export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
+	await page.goto('/sign-in');
+	await page.getByLabel('E-mail').fill(email);
+	await page.getByLabel('Password').fill(password);
+	await page.getByRole('button', { name: 'Sign in' }).click();
+}
+
+export async function signInAs(page: Page, role: (typeof ROLES)[number]) {
+	await signIn(page, `${role}@example.test`);
+	await expect(page.getByTestId('whoami')).toBeVisible();
+}
+
+export async function signOut(page: Page) {
+	await page.getByRole('button', { name: 'Sign out' }).click();
+	await expect(page).toHaveURL(/\/sign-in/);
+}
+
+export const shot = (name: string) => `test-results/screens/${name}.png`;

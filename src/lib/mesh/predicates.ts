@@ -3,7 +3,12 @@
  * with the sign convention this engine uses: positive means counter-clockwise / in front of the
  * CCW normal. robust-predicates itself returns the opposite sign (checked in predicates.test.ts).
  */
-import { orient2d, orient3d } from 'robust-predicates';
+import { orient2d as orient2dImport, orient3d as orient3dImport } from 'robust-predicates';
+
+// Bound once: some loaders (tsx, vite-node) turn each use of an imported binding into a getter call,
+// which costs more than the float filter in the hot loops.
+const orient2d = orient2dImport;
+const orient3d = orient3dImport;
 
 /** Sign (−1, 0, 1) of the area of 2D triangle a, b, c; +1 when counter-clockwise. Exact. */
 export function ccw2(ax: number, ay: number, bx: number, by: number, cx: number, cy: number): number {

@@ -21,8 +21,13 @@
  * Guigue–Devillers 2003), and coplanar ones are tested in a coordinate-plane projection with orient2d.
  */
 import { buildBvh, type FlatBvh } from './bvh';
-import { ccw2, dropAxis, isDegenerateTriangle, side3 } from './predicates';
+import { ccw2 as ccw2Import, dropAxis as dropAxisImport, isDegenerateTriangle, side3 as side3Import } from './predicates';
 import type { MeshBuffers } from './types';
+
+// Bound once (see predicates.ts: some loaders make each use of an import a getter call).
+const ccw2 = ccw2Import;
+const dropAxis = dropAxisImport;
+const side3 = side3Import;
 
 export interface SelfIntersectionSample {
 	/** Face indices, a < b. */
@@ -446,41 +451,21 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 	}
 
 	let stack = new Int32Array(1024);
-	const testLeafPair = (sa: number, ea: number, sb: number, eb: number, same: boolean): void => {
-		for (let i = sa; i < ea; i++) {
-			const i6 = 6 * i;
-			const minX = box[i6], minY = box[i6 + 1], minZ = box[i6 + 2], maxX = box[i6 + 3], maxY = box[i6 + 4], maxZ = box[i6 + 5];
-			for (let j = same ? i + 1 : sb; j < eb; j++) {
-				const j6 = 6 * j;
-				if (box[j6] > maxX || box[j6 + 3] < minX || box[j6 + 1] > maxY || box[j6 + 4] < minY || box[j6 + 2] > maxZ || box[j6 + 5] < minZ) continue;
-				if (filtered) {
-					const lo = Math.min(faceOf[i], faceOf[j]);
-					if (lo < rangeFrom || lo >= rangeTo) continue;
-				}
-				candidates++;
-				if (testPair(ctx, verts, i, j)) {
-					pairs++;
-					if (sample.length < sampleLimit) {
-						const fi = faceOf[i], fj = faceOf[j];
-						sample.push({ a: Math.min(fi, fj), b: Math.max(fi, fj), point: [ctx.hit[0], ctx.hit[1], ctx.hit[2]] });
-					}
-				}
-			}
-		}
-	};
-
+	const hit = ctx.hit;
 	for (let task = nextTask ? nextTask() : staticIndex; task >= 0 && task < taskCount; task = nextTask ? nextTask() : task + staticStep) {
 		taskRuns++;
 		let sp = 0;
 		stack[sp++] = tasks[2 * task];
 		stack[sp++] = tasks[2 * task + 1];
 		while (sp > 0) {
+			let sa = 0, ea = 0, sb = 0, eb = 0, same = false;
 			const b = stack[--sp];
 			const a = stack[--sp];
 			const fa = firstChild[a];
 			if (a === b) {
-				if (fa < 0) testLeafPair(start[a], start[a] + count[a], start[a], start[a] + count[a], true);
-				else {
+				if (fa < 0) {
+					sa = start[a]; ea = sa + count[a]; sb = sa; eb = ea; same = true;
+				} else {
 					if (sp + 6 > stack.length) {
 						const grown = new Int32Array(stack.length * 2);
 						grown.set(stack);
@@ -489,9 +474,9 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 					stack[sp++] = fa; stack[sp++] = fa;
 					stack[sp++] = fa + 1; stack[sp++] = fa + 1;
 					stack[sp++] = fa; stack[sp++] = fa + 1;
+					continue;
 				}
-				continue;
-			}
+			} else {
 			const a6 = 6 * a, b6 = 6 * b;
 			if (
 				bounds[a6] > bounds[b6 + 3] || bounds[b6] > bounds[a6 + 3] ||
@@ -499,22 +484,44 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 				bounds[a6 + 2] > bounds[b6 + 5] || bounds[b6 + 2] > bounds[a6 + 5]
 			) continue;
 			const fb = firstChild[b];
-			if (fa < 0 && fb < 0) {
-				testLeafPair(start[a], start[a] + count[a], start[b], start[b] + count[b], false);
+			if (fa >= 0 || fb >= 0) {
+				if (sp + 4 > stack.length) {
+					const grown = new Int32Array(stack.length * 2);
+					grown.set(stack);
+					stack = grown;
+				}
+				// Descend the larger side (or the only inner one).
+				if (fb < 0 || (fa >= 0 && count[a] >= count[b])) {
+					stack[sp++] = fa; stack[sp++] = b;
+					stack[sp++] = fa + 1; stack[sp++] = b;
+				} else {
+					stack[sp++] = a; stack[sp++] = fb;
+					stack[sp++] = a; stack[sp++] = fb + 1;
+				}
 				continue;
 			}
-			if (sp + 4 > stack.length) {
-				const grown = new Int32Array(stack.length * 2);
-				grown.set(stack);
-				stack = grown;
+			sa = start[a]; ea = sa + count[a]; sb = start[b]; eb = sb + count[b]; same = false;
 			}
-			// Descend the larger side (or the only inner one).
-			if (fb < 0 || (fa >= 0 && count[a] >= count[b])) {
-				stack[sp++] = fa; stack[sp++] = b;
-				stack[sp++] = fa + 1; stack[sp++] = b;
-			} else {
-				stack[sp++] = a; stack[sp++] = fb;
-				stack[sp++] = a; stack[sp++] = fb + 1;
+			// Leaf against leaf (or a leaf against itself): box test, then the exact pair rule.
+			for (let i = sa; i < ea; i++) {
+				const i6 = 6 * i;
+				const minX = box[i6], minY = box[i6 + 1], minZ = box[i6 + 2], maxX = box[i6 + 3], maxY = box[i6 + 4], maxZ = box[i6 + 5];
+				for (let j = same ? i + 1 : sb; j < eb; j++) {
+					const j6 = 6 * j;
+					if (box[j6] > maxX || box[j6 + 3] < minX || box[j6 + 1] > maxY || box[j6 + 4] < minY || box[j6 + 2] > maxZ || box[j6 + 5] < minZ) continue;
+					if (filtered) {
+						const lo = Math.min(faceOf[i], faceOf[j]);
+						if (lo < rangeFrom || lo >= rangeTo) continue;
+					}
+					candidates++;
+					if (testPair(ctx, verts, i, j)) {
+						pairs++;
+						if (sample.length < sampleLimit) {
+							const fi = faceOf[i], fj = faceOf[j];
+							sample.push({ a: Math.min(fi, fj), b: Math.max(fi, fj), point: [hit[0], hit[1], hit[2]] });
+						}
+					}
+				}
 			}
 		}
 	}

@@ -65,32 +65,28 @@ export function parseBinaryStl(bytes: Uint8Array, opts: ReadOptions = {}): Parse
 	const cornerCount = 3 * triCount;
 	const bits = new Uint32Array(3 * cornerCount);
 	let bad = 0;
-	// Triangle records start 2 bytes off a 4-byte boundary on every other triangle, so on a
-	// little-endian host read aligned 32-bit words for even triangles and pairs of 16-bit halves
-	// for odd ones; DataView elsewhere.
+	// Triangle records start 2 bytes off a 4-byte boundary on every other triangle. On a
+	// little-endian host, read even triangles as aligned 32-bit words from the file and odd ones
+	// from a copy shifted by 2 bytes (one memcpy), so the hot loop is plain Uint32Array reads.
 	const hostLe = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
-	if (hostLe && bytes.byteOffset % 4 === 0) {
-		const u32 = new Uint32Array(bytes.buffer, bytes.byteOffset, bytes.length >>> 2);
-		const u16 = new Uint16Array(bytes.buffer, bytes.byteOffset, bytes.length >>> 1);
+	if (hostLe) {
+		const aligned = (shift: number): Uint32Array => {
+			if (shift === 0 && bytes.byteOffset % 4 === 0) return new Uint32Array(bytes.buffer, bytes.byteOffset, bytes.length >>> 2);
+			const copy = new Uint8Array(bytes.length + 4);
+			copy.set(bytes, shift);
+			return new Uint32Array(copy.buffer, 0, copy.length >>> 2);
+		};
+		const even = aligned(0), odd = aligned(2);
 		for (let t = 0; t < triCount; t++) {
 			const k = 9 * t;
-			const o = STL_HEADER_BYTES + STL_TRIANGLE_BYTES * t + 12;
-			if ((t & 1) === 0) {
-				const w = o >>> 2;
-				for (let j = 0; j < 9; j++) {
-					let b = u32[w + j];
-					if (b === 0x80000000) b = 0;
-					bits[k + j] = b;
-					bad |= (b & 0x7f800000) === 0x7f800000 ? 1 : 0;
-				}
-			} else {
-				const hw = o >>> 1;
-				for (let j = 0; j < 9; j++) {
-					let b = (u16[hw + 2 * j] | (u16[hw + 2 * j + 1] << 16)) >>> 0;
-					if (b === 0x80000000) b = 0;
-					bits[k + j] = b;
-					bad |= (b & 0x7f800000) === 0x7f800000 ? 1 : 0;
-				}
+			const odd1 = t & 1;
+			const words = odd1 ? odd : even;
+			const w = (STL_HEADER_BYTES + STL_TRIANGLE_BYTES * t + 12 + 2 * odd1) >>> 2;
+			for (let j = 0; j < 9; j++) {
+				let b = words[w + j];
+				if (b === 0x80000000) b = 0;
+				bits[k + j] = b;
+				bad |= (b & 0x7f800000) === 0x7f800000 ? 1 : 0;
 			}
 		}
 	} else {

@@ -79,22 +79,26 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
 	if (triCount > maxFaces) throw new RangeError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
 	const flow = normaliseDirection(opts.flowDirection);
+	const progress = (stage: string, percent: number) => opts.onProgress?.(stage, percent);
 	const tol: Tolerances = {
 		...DEFAULT_TOLERANCES,
 		minEdgeLength: opts.minEdgeLength ?? 0,
 		rasterCells: opts.rasterCells ?? DEFAULT_TOLERANCES.rasterCells
 	};
 
+	progress('topology', 0);
 	let t0 = performance.now();
 	const collapsed = opts.collapsed ?? collapsedFaces(parsed.indices);
 	const topo = analyseTopology(parsed.indices, vertCount, collapsed.mask);
 	timings.topology = performance.now() - t0;
 
+	progress('measures', 45);
 	t0 = performance.now();
 	const fm = measureFaces(parsed.positions, parsed.indices, collapsed.mask);
 	const em = measureEdges(parsed.positions, topo.edges, tol.minEdgeLength);
 	timings.measures = performance.now() - t0;
 
+	progress('shells', 65);
 	t0 = performance.now();
 	const sh = topo.shells;
 	const shellCount = sh.shellCount;
@@ -162,6 +166,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 					.map((x) => x.h);
 	timings.shells = performance.now() - t0;
 
+	progress('projection', 70);
 	t0 = performance.now();
 	const scratch: SilhouetteScratch = { proj: new Float64Array(0), grid: new Uint8Array(0) };
 	const cells = tol.rasterCells;
@@ -172,6 +177,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	const pf = isAxis(0) ? px : isAxis(1) ? py : isAxis(2) ? pz : silhouetteArea(p, idx, collapsed.mask, topo.edges, flow, cells, scratch);
 	timings.projection = performance.now() - t0;
 
+	progress('hints', 95);
 	t0 = performance.now();
 	const hints = buildHints({
 		shells,

@@ -16,7 +16,12 @@ export interface EdgeTable {
 	heSorted: Uint32Array;
 	/** Edge of each halfedge; NO_EDGE for halfedges of skipped faces. Length 3 × triangles. */
 	heEdge: Uint32Array;
+	/** The other halfedge of a two-face edge; OPP_BOUNDARY or OPP_NON_MANIFOLD otherwise. */
+	heOpp: Int32Array;
 }
+
+export const OPP_BOUNDARY = -1;
+export const OPP_NON_MANIFOLD = -2;
 
 /** Next halfedge around the same triangle. */
 export function nextHalfedge(h: number): number {
@@ -50,15 +55,23 @@ export function buildEdges(indices: Uint32Array, vertCount: number, skipFace?: U
 		heHi[t3 + 2] = c < a ? a : c;
 	}
 	for (let v = 0; v < vertCount; v++) counts[v + 1] += counts[v];
+	// sortedHi travels with sorted so the bucket sorts read contiguous memory.
 	const sorted = new Uint32Array(active);
+	const sortedHi = new Uint32Array(active);
 	const fill = counts.slice(0, vertCount);
 	for (let t = 0; t < triCount; t++) {
 		if (skipFace && skipFace[t]) continue;
 		const t3 = 3 * t;
 		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
-		sorted[fill[a < b ? a : b]++] = t3;
-		sorted[fill[b < c ? b : c]++] = t3 + 1;
-		sorted[fill[c < a ? c : a]++] = t3 + 2;
+		let i = fill[a < b ? a : b]++;
+		sorted[i] = t3;
+		sortedHi[i] = heHi[t3];
+		i = fill[b < c ? b : c]++;
+		sorted[i] = t3 + 1;
+		sortedHi[i] = heHi[t3 + 1];
+		i = fill[c < a ? c : a]++;
+		sorted[i] = t3 + 2;
+		sortedHi[i] = heHi[t3 + 2];
 	}
 	let big: Float64Array | null = null;
 	let bigCopy: Uint32Array | null = null;
@@ -68,13 +81,15 @@ export function buildEdges(indices: Uint32Array, vertCount: number, skipFace?: U
 		if (n <= 32) {
 			// Insertion sort by (hi, halfedge): halfedges arrive ascending, so ties keep order.
 			for (let i = s + 1; i < s + n; i++) {
-				const h = sorted[i], hh = heHi[h];
+				const h = sorted[i], hh = sortedHi[i];
 				let j = i - 1;
-				while (j >= s && heHi[sorted[j]] > hh) {
+				while (j >= s && sortedHi[j] > hh) {
 					sorted[j + 1] = sorted[j];
+					sortedHi[j + 1] = sortedHi[j];
 					j--;
 				}
 				sorted[j + 1] = h;
+				sortedHi[j + 1] = hh;
 			}
 		} else {
 			// Key hi · n + slot stays below 2^53 for any mesh under the face limit (hi, n < 2^26).
@@ -83,22 +98,27 @@ export function buildEdges(indices: Uint32Array, vertCount: number, skipFace?: U
 			const keys = big.subarray(0, n);
 			for (let i = 0; i < n; i++) {
 				bigCopy[i] = sorted[s + i];
-				keys[i] = heHi[sorted[s + i]] * n + i;
+				keys[i] = sortedHi[s + i] * n + i;
 			}
 			keys.sort();
-			for (let i = 0; i < n; i++) sorted[s + i] = bigCopy[keys[i] % n];
+			for (let i = 0; i < n; i++) {
+				const k = keys[i];
+				sorted[s + i] = bigCopy[k % n];
+				sortedHi[s + i] = Math.floor(k / n);
+			}
 		}
 	}
-	// Runs of equal (lo, hi) are edges.
+	// Runs of equal (lo, hi) are edges. heHi's buffer is reused for the opposite-halfedge table.
 	const edgeLo = new Uint32Array(active);
 	const edgeHi = new Uint32Array(active);
 	const edgeStart = new Uint32Array(active + 1);
+	const heOpp = new Int32Array(heHi.buffer, 0, heCount);
 	let e = -1;
 	for (let v = 0; v < vertCount; v++) {
 		const s = counts[v], end = counts[v + 1];
 		let prevHi = -1;
 		for (let i = s; i < end; i++) {
-			const h = sorted[i], hi = heHi[h];
+			const h = sorted[i], hi = sortedHi[i];
 			if (hi !== prevHi) {
 				e++;
 				edgeLo[e] = v;
@@ -111,12 +131,22 @@ export function buildEdges(indices: Uint32Array, vertCount: number, skipFace?: U
 	}
 	const edgeCount = e + 1;
 	edgeStart[edgeCount] = active;
+	heOpp.fill(OPP_BOUNDARY);
+	for (let k = 0; k < edgeCount; k++) {
+		const s = edgeStart[k], n = edgeStart[k + 1] - s;
+		if (n === 2) {
+			const h0 = sorted[s], h1 = sorted[s + 1];
+			heOpp[h0] = h1;
+			heOpp[h1] = h0;
+		} else if (n > 2) for (let i = s; i < s + n; i++) heOpp[sorted[i]] = OPP_NON_MANIFOLD;
+	}
 	return {
 		edgeCount,
 		edgeLo: edgeLo.subarray(0, edgeCount),
 		edgeHi: edgeHi.subarray(0, edgeCount),
 		edgeStart: edgeStart.subarray(0, edgeCount + 1),
 		heSorted: sorted,
-		heEdge
+		heEdge,
+		heOpp
 	};
 }

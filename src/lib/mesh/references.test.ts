@@ -21,7 +21,7 @@ function implicitMesh(shape: ReturnType<typeof sphere>, cell: number): MeshBuffe
 }
 
 // The bunny package ships { positions: [x, y, z][], cells: [a, b, c][] }.
-const bunnyData = bunny as unknown as { positions: number[][]; cells: number[][] };
+const bunnyData = bunny;
 const bunnyMesh: MeshBuffers = {
 	positions: Float64Array.from(bunnyData.positions.flat()),
 	indices: Uint32Array.from(bunnyData.cells.flat())

@@ -202,6 +202,8 @@ export interface BuildReportOptions extends InspectOptions {
 	selfIntersections?: SelfIntersectionInput | null;
 	/** Stage timings measured by the caller (reading, …), merged into `timings`. */
 	timings?: Record<string, number>;
+	/** Called as each stage starts, with the share of the analysis done so far (0..100). */
+	onProgress?: (stage: string, percent: number) => void;
 	/** Precomputed collapsed-face mask (faces with a repeated vertex index). */
 	collapsed?: { mask: Uint8Array; count: number };
 }

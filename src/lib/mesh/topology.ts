@@ -113,7 +113,7 @@ export function analyseTopology(
 		}
 	}
 	const et = buildEdges(indices, vertCount, skipFace);
-	const { edgeCount, edgeStart, heSorted, heEdge, edgeLo, edgeHi } = et;
+	const { edgeCount, edgeStart, heSorted, heOpp, edgeLo, edgeHi } = et;
 
 	mark('edges');
 	// Shells: faces joined through any shared edge.
@@ -189,10 +189,8 @@ export function analyseTopology(
 			const cf = colour[f];
 			for (let k = 0; k < 3; k++) {
 				const h = 3 * f + k;
-				const e = heEdge[h];
-				const s = edgeStart[e];
-				if (edgeStart[e + 1] - s !== 2) continue;
-				const o = heSorted[s] === h ? heSorted[s + 1] : heSorted[s];
+				const o = heOpp[h];
+				if (o < 0) continue; // boundary or non-manifold: no orientation constraint
 				const g = (o / 3) | 0;
 				// Same start vertex = same direction = one of the two must flip.
 				const want = indices[o] === indices[h] ? cf ^ 1 : cf;
@@ -217,9 +215,23 @@ export function analyseTopology(
 	// Corner c = 3t + k sits at vertex indices[c]; halfedge h starts at corner h, ends at corner next(h).
 	const cornerParent = new Int32Array(heCount);
 	for (let c = 0; c < heCount; c++) cornerParent[c] = c;
+	for (let h = 0; h < heCount; h++) {
+		const o = heOpp[h];
+		if (o < h) continue; // each two-face edge once; boundary and non-manifold below
+		const v = indices[h];
+		const hn = nextHalfedge(h), on = nextHalfedge(o);
+		// Consistent neighbours run o from w to v; flipped ones from v to w.
+		if (indices[o] === v) {
+			union(cornerParent, h, o);
+			union(cornerParent, hn, on);
+		} else {
+			union(cornerParent, h, on);
+			union(cornerParent, hn, o);
+		}
+	}
 	for (let e = 0; e < edgeCount; e++) {
 		const s = edgeStart[e], n = edgeStart[e + 1] - s;
-		if (n < 2) continue;
+		if (n < 3) continue;
 		const lo = edgeLo[e];
 		const h0 = heSorted[s];
 		const lo0 = indices[h0] === lo ? h0 : nextHalfedge(h0);
@@ -358,17 +370,11 @@ export function analyseTopology(
 		if (a > b && a > c) (hk = t3 + 1), (top = a);
 		else if (b > c) (hk = t3 + 2), (top = b);
 		else (hk = t3), (top = c);
-		const e = heEdge[hk];
-		const s = edgeStart[e], n = edgeStart[e + 1] - s;
-		if (n < 2) continue;
-		if (n === 2) {
-			const o = heSorted[s] === hk ? heSorted[s + 1] : heSorted[s];
-			const g = (o / 3) | 0;
-			if (g < t && indices[o % 3 === 0 ? o + 2 : o - 1] === top) {
-				duplicateFace[t] = 1;
-				duplicateFaces++;
-			}
-			continue;
+		const o = heOpp[hk];
+		if (o < 0) continue; // boundary: no twin; non-manifold: handled below
+		if (o < hk && indices[o % 3 === 0 ? o + 2 : o - 1] === top) {
+			duplicateFace[t] = 1;
+			duplicateFaces++;
 		}
 	}
 	// Non-manifold edges: among faces whose two smallest vertices are this edge, repeated third vertices.

@@ -1,0 +1,100 @@
+/**
+ * `npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--max-faces N] [--threads N] [--no-self-intersections]`
+ * Prints a readable summary, or one JSON report on stdout with --json. Exit 0 when the file was
+ * read and inspected, 2 with the message on stderr when not.
+ */
+import { readFileSync } from 'node:fs';
+import { inspectFileNode, type InspectNodeOptions } from './inspect-node';
+import type { InspectionReport, Vec3 } from './report';
+
+const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--max-faces N] [--threads N] [--no-self-intersections]';
+
+class UsageError extends Error {}
+
+function parseArgs(argv: string[]): { file: string; json: boolean; opts: InspectNodeOptions } {
+	let file: string | null = null;
+	let json = false;
+	const opts: InspectNodeOptions = {};
+	const num = (flag: string, v: string | undefined): number => {
+		const n = Number(v);
+		if (v === undefined || v.trim() === '' || !Number.isFinite(n)) throw new UsageError(`${flag} needs a number, got ${v === undefined ? 'nothing' : `'${v}'`}`);
+		return n;
+	};
+	for (let i = 0; i < argv.length; i++) {
+		const a = argv[i];
+		if (a === '--json') json = true;
+		else if (a === '--no-self-intersections') opts.skipSelfIntersections = true;
+		else if (a === '--flow') {
+			const parts = (argv[++i] ?? '').split(',');
+			if (parts.length !== 3) throw new UsageError(`--flow needs three comma-separated numbers, e.g. --flow 1,0,0`);
+			opts.flowDirection = parts.map((p) => num('--flow', p)) as Vec3;
+		} else if (a === '--min-edge') opts.minEdgeLength = num('--min-edge', argv[++i]);
+		else if (a === '--max-faces') opts.maxFaces = num('--max-faces', argv[++i]);
+		else if (a === '--threads') opts.threads = num('--threads', argv[++i]);
+		else if (a === '--help' || a === '-h') throw new UsageError(USAGE);
+		else if (a.startsWith('--')) throw new UsageError(`unknown option ${a}\n${USAGE}`);
+		else if (file === null) file = a;
+		else throw new UsageError(`only one file at a time (got '${file}' and '${a}')`);
+	}
+	if (file === null) throw new UsageError(USAGE);
+	return { file, json, opts };
+}
+
+const fmt = (x: number) => (Number.isInteger(x) ? String(x) : x.toPrecision(6));
+const yes = (b: boolean) => (b ? 'yes' : 'no');
+
+export function summary(r: InspectionReport): string {
+	const lines: string[] = [];
+	lines.push(`${r.fileName}  (${r.format}, engine ${r.engineVersion})`);
+	lines.push(`  ${r.vertices} vertices, ${r.faces} faces, ${r.edges} edges, ${r.components} shell${r.components === 1 ? '' : 's'}`);
+	if (r.weldedVertices || r.duplicatePositions || r.polygonsSplit) {
+		lines.push(`  reading: ${r.weldedVertices} vertices welded, ${r.duplicatePositions} duplicate positions, ${r.polygonsSplit} polygons split`);
+	}
+	lines.push(`  watertight: ${yes(r.watertight)}   boundary edges ${r.boundaryEdges} in ${r.boundaryLoops} loop${r.boundaryLoops === 1 ? '' : 's'}`);
+	lines.push(`  non-manifold edges ${r.nonManifoldEdges}, non-manifold vertices ${r.nonManifoldVertices}`);
+	lines.push(`  orientable: ${yes(r.orientable)}   consistently oriented: ${yes(r.consistentlyOriented)}   faces to flip ${r.flippedFaces}`);
+	lines.push(`  Euler characteristic ${r.eulerCharacteristic}   genus ${r.genus === null ? 'undefined (non-manifold or non-orientable shell)' : r.genus}`);
+	lines.push(`  self-intersecting face pairs: ${r.selfIntersectingPairs === null ? 'not checked' : r.selfIntersectingPairs}`);
+	lines.push(`  degenerate faces ${r.degenerateFaces}, duplicate faces ${r.duplicateFaces}`);
+	lines.push(`  edge length ${fmt(r.minEdgeLength)} .. ${fmt(r.maxEdgeLength)}${r.tolerances.minEdgeLength > 0 ? `, ${r.shortEdges} shorter than ${r.tolerances.minEdgeLength}` : ''}`);
+	lines.push(`  bbox [${r.bbox.min.map(fmt).join(', ')}] .. [${r.bbox.max.map(fmt).join(', ')}]`);
+	lines.push(`  area ${fmt(r.area)}, volume ${fmt(r.volume)}, wetted area ${fmt(r.wettedArea)}`);
+	const f = r.projectedArea.flow;
+	lines.push(`  frontal area along [${f.direction.map(fmt).join(', ')}]: ${fmt(f.area)} ± ${fmt(f.errorBound)}`);
+	for (const h of r.holes.slice(0, 5)) {
+		lines.push(`  hole: ${h.edgeCount} edges, rim ${fmt(h.perimeter)}, centre [${h.centroid.map(fmt).join(', ')}]${h.onBboxPlane ? `, on bbox ${h.onBboxPlane}` : ''}`);
+	}
+	if (r.holes.length > 5) lines.push(`  … ${r.boundaryLoops - 5} more holes`);
+	for (const h of r.hints) lines.push(`  hint: ${h.message}`);
+	const t = Object.entries(r.timings).map(([k, v]) => `${k} ${Math.round(v)}`).join(', ');
+	lines.push(`  ms: ${t}`);
+	return lines.join('\n');
+}
+
+async function main(): Promise<number> {
+	let args: ReturnType<typeof parseArgs>;
+	try {
+		args = parseArgs(process.argv.slice(2));
+	} catch (e) {
+		process.stderr.write(`${(e as Error).message}\n`);
+		return 2;
+	}
+	let bytes: Uint8Array;
+	try {
+		bytes = readFileSync(args.file);
+	} catch (e) {
+		const code = (e as NodeJS.ErrnoException).code;
+		process.stderr.write(`cannot open '${args.file}': ${code === 'ENOENT' ? 'no such file' : (e as Error).message}\n`);
+		return 2;
+	}
+	try {
+		const r = await inspectFileNode(bytes, args.file, args.opts);
+		process.stdout.write(args.json ? `${JSON.stringify(r)}\n` : `${summary(r)}\n`);
+		return 0;
+	} catch (e) {
+		process.stderr.write(`${(e as Error).message}\n`);
+		return 2;
+	}
+}
+
+main().then((code) => process.exit(code));

@@ -1,0 +1,63 @@
+/**
+ * Node entry point: self-intersections run on worker threads while topology, measures and
+ * projections run on the calling thread; the report is the same as inspectBytes gives.
+ */
+import { readMesh } from './read';
+import { findSelfIntersectionsParallel } from './self-intersect-node';
+import { buildReport, type InspectionReport } from './report';
+import type { InspectRunOptions } from './inspect';
+import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
+import { DEFAULT_MAX_FACES } from './types';
+
+export interface InspectNodeOptions extends InspectRunOptions {
+	/** Worker threads for self-intersections; default os.availableParallelism(). */
+	threads?: number;
+	/** Stage names: read, topology, measures, shells, projection, hints, self-intersections, done. */
+	onProgress?: (stage: string, percent: number) => void;
+	signal?: AbortSignal;
+}
+
+export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts: InspectNodeOptions = {}): Promise<InspectionReport> {
+	const t0 = performance.now();
+	const progress = (stage: string, percent: number) => opts.onProgress?.(stage, percent);
+	progress('read', 0);
+	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
+	const parsed = readMesh(bytes, fileName, { maxFaces });
+	const timings: Record<string, number> = { ...(opts.timings ?? {}), read: performance.now() - t0 };
+	const triCount = parsed.indices.length / 3;
+	if (triCount > maxFaces) throw new RangeError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
+	// Started before the synchronous analysis below so the workers run alongside it. A rejection
+	// is caught here and rethrown at the await, so it never goes unhandled meanwhile.
+	let siError: unknown = null;
+	const siPromise = opts.skipSelfIntersections
+		? null
+		: findSelfIntersectionsParallel(parsed, { sampleLimit: opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT, threads: opts.threads, signal: opts.signal }).catch(
+				(e: unknown) => {
+					siError = e;
+					return null;
+				}
+			);
+	const report = buildReport(parsed, {
+		...opts,
+		fileName,
+		timings,
+		selfIntersections: null,
+		onProgress: (stage, percent) => progress(stage, Math.round(percent * 0.8))
+	});
+	if (siPromise) {
+		progress('self-intersections', 80);
+		const tWait = performance.now();
+		const si = await siPromise;
+		if (siError) throw siError;
+		if (si) {
+			report.selfIntersectingPairs = si.pairs;
+			report.selfIntersectionSample = si.sample.map((x) => ({ a: x.a, b: x.b, point: [x.point[0], x.point[1], x.point[2]] }));
+			report.timings.selfIntersections = si.ms;
+			// How long the report waited for the workers after its own stages were done.
+			report.timings.selfIntersectionsWait = performance.now() - tWait;
+		}
+	}
+	report.timings.total = performance.now() - t0;
+	progress('done', 100);
+	return report;
+}

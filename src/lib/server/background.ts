@@ -3,6 +3,8 @@
 import { building } from '$app/environment';
 import { getDb } from './db';
 import { flushOutbox } from './mail';
+import { config } from './config';
+import { runWorkerLoop } from './jobs/runner';
 
 const KEY = Symbol.for('shellgate.background');
 
@@ -24,4 +26,9 @@ export function startBackground(): void {
 		}
 	}, 1000);
 	timer.unref();
+	// In-process check workers (CHECK_WORKERS, default 1; 0 leaves checks to `npm run worker`).
+	const controller = new AbortController();
+	for (let i = 0; i < config.checkWorkers; i++) void runWorkerLoop({ db: getDb, signal: controller.signal });
+	process.once('SIGTERM', () => controller.abort());
+	process.once('SIGINT', () => controller.abort());
 }

@@ -10,7 +10,8 @@ const RULES: [prefix: string, access: Access][] = [
 	['/sign-out', 'public'],
 	['/invite/', 'public'],
 	['/reset', 'public'],
-	['/dev/mailbox', 'public'],
+	// Development pages 404 unless SHELLGATE_DEV_MAILBOX=1 (npm start and the tests).
+	['/dev/', 'public'],
 	['/health', 'public'],
 	['/admin', ['admin']],
 	['/api/', 'signed-in'],

@@ -1,0 +1,207 @@
+// Evaluates a gate profile against an inspection report. Every result carries a plain-language
+// explanation for designers: what it means for the solver, where on the shape, what to change upstream.
+import type { InspectionReport, Vec3 } from '../mesh/report';
+import type { GateRules } from './profile';
+
+export const RULE_IDS = [
+	'closed',
+	'manifold',
+	'outward-oriented',
+	'no-self-intersections',
+	'min-edge-length',
+	'max-shells',
+	'expected-genus',
+	'max-degenerate-faces'
+] as const;
+export type RuleId = (typeof RULE_IDS)[number];
+
+export const RULE_TITLES: Record<RuleId, string> = {
+	closed: 'Closed surface',
+	manifold: 'Manifold edges and vertices',
+	'outward-oriented': 'Consistent, outward orientation',
+	'no-self-intersections': 'No self-intersections',
+	'min-edge-length': 'Shortest edge',
+	'max-shells': 'Number of shells',
+	'expected-genus': 'Expected genus',
+	'max-degenerate-faces': 'Zero-area faces'
+};
+
+export interface RuleOutcome {
+	rule: RuleId;
+	passed: boolean;
+	severity: 'blocking' | 'warning' | 'info';
+	measured: string;
+	limit: string;
+	explanation: string;
+	/** Where to look: points in model coordinates, for the viewer and the designer. */
+	location: { points: Vec3[]; note?: string } | null;
+}
+
+export interface GateContext {
+	units: string;
+	targetCellSize: number;
+}
+
+const n = (x: number) => x.toLocaleString('en-US');
+const len = (x: number, units: string) => `${Number(x.toPrecision(3)).toLocaleString('en-US')} ${units}`;
+const at = (p: Vec3, units: string) => `(${p.map((c) => Number(c.toPrecision(4))).join(', ')}) ${units}`;
+const plural = (k: number, one: string, many = one + 's') => `${n(k)} ${k === 1 ? one : many}`;
+
+/** Minimum edge length the profile asks for, in project units, or null when the rule is off. */
+export function minEdgeThreshold(rules: GateRules, ctx: GateContext): number | null {
+	if (!rules.minEdgeLength) return null;
+	return rules.minEdgeLength.mode === 'absolute' ? rules.minEdgeLength.value : rules.minEdgeLength.value * ctx.targetCellSize;
+}
+
+export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateContext): RuleOutcome[] {
+	const u = ctx.units;
+	const out: RuleOutcome[] = [];
+	const push = (o: Omit<RuleOutcome, 'severity'> & { severity?: RuleOutcome['severity'] }) =>
+		out.push({ severity: o.passed ? 'info' : 'blocking', ...o });
+
+	if (rules.closed) {
+		const holes = [...r.holes].sort((a, b) => b.perimeter - a.perimeter);
+		const big = holes[0];
+		const clipped = holes.filter((h) => h.onBboxPlane);
+		push({
+			rule: 'closed',
+			passed: r.boundaryEdges === 0,
+			measured: r.boundaryEdges === 0 ? 'no open edges' : `${plural(r.boundaryLoops, 'hole')}, ${plural(r.boundaryEdges, 'open edge')}`,
+			limit: 'no open edges',
+			explanation:
+				r.boundaryEdges === 0
+					? 'The surface is closed: every edge joins exactly two faces, so the solver can tell inside from outside.'
+					: [
+							`The surface has ${plural(r.boundaryLoops, 'hole')} (${plural(r.boundaryEdges, 'edge')} that belong to only one face).`,
+							'A CFD mesher needs a closed surface to tell fluid from solid; through a gap the volume mesh leaks and the case will not run.',
+							big ? `The largest hole is ${len(big.perimeter, u)} around, centred near ${at(big.centroid, u)}.` : '',
+							clipped.length
+								? `${plural(clipped.length, 'hole lies', 'holes lie')} flat on the edge of the bounding box (${[...new Set(clipped.map((h) => h.onBboxPlane))].join(', ')}): the shape looks cut off by the generator's sampling volume. Enlarge the sampling box upstream rather than patching here.`
+								: 'Upstream: close the surface in the generator (cap openings, make sure the implicit field is sampled on a volume larger than the shape), then export again.'
+						]
+							.filter(Boolean)
+							.join(' '),
+			location: holes.length ? { points: holes.slice(0, 20).map((h) => h.centroid), note: 'hole centres, largest first' } : null
+		});
+	}
+
+	if (rules.manifold) {
+		const ok = r.nonManifoldEdges === 0 && r.nonManifoldVertices === 0;
+		push({
+			rule: 'manifold',
+			passed: ok,
+			measured: ok ? 'none' : `${plural(r.nonManifoldEdges, 'edge')} on 3+ faces, ${plural(r.nonManifoldVertices, 'pinched vertex', 'pinched vertices')}`,
+			limit: 'none',
+			explanation: ok
+				? 'Every edge joins at most two faces and every vertex has a single fan of faces around it.'
+				: 'Some edges are shared by three or more faces, or some vertices join surfaces that touch only at a point. The solver cannot decide which side is fluid there, and surface meshers often fail or create zero-thickness cells. Upstream: keep parts that touch apart by a small gap, or merge them into one solid before exporting.',
+			location: null
+		});
+	}
+
+	if (rules.outwardOriented) {
+		const closedShells = r.shells.filter((s) => s.closed);
+		const inverted = closedShells.filter((s) => s.signedVolume < 0).length;
+		const ok = r.consistentlyOriented && inverted === 0;
+		push({
+			rule: 'outward-oriented',
+			passed: ok,
+			measured: ok
+				? 'consistent and outward'
+				: [!r.consistentlyOriented ? `${plural(r.flippedFaces, 'face')} facing the wrong way` : '', inverted ? `${plural(inverted, 'shell')} inside-out` : '']
+						.filter(Boolean)
+						.join(', '),
+			limit: 'all faces outward',
+			explanation: ok
+				? 'All faces point outwards consistently, so normals, volume and forces come out with the right sign.'
+				: `${!r.orientable ? 'Part of the surface is non-orientable (like a Möbius strip), which no solver can accept. ' : ''}Some faces point inwards while their neighbours point outwards${inverted ? ', or a whole shell is inside-out (negative volume)' : ''}. Solvers use face orientation to decide which side is fluid; wrong normals give wrong forces or a failed mesh. This is usually a winding-order slip in the exporter; a repair can re-orient it safely.`,
+			location: null
+		});
+	}
+
+	if (rules.noSelfIntersections) {
+		const pairs = r.selfIntersectingPairs;
+		push({
+			rule: 'no-self-intersections',
+			passed: pairs === 0,
+			severity: pairs === null ? 'warning' : undefined,
+			measured: pairs === null ? 'not checked' : pairs === 0 ? 'none' : `${plural(pairs, 'crossing face pair')}`,
+			limit: 'none',
+			explanation:
+				pairs === null
+					? 'The self-intersection check did not run for this revision.'
+					: pairs === 0
+						? 'No two faces cross or touch other than along shared edges and vertices.'
+						: `The surface passes through itself in ${plural(pairs, 'place')}${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u)}` : ''}. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape so that the surfaces no longer cross (in an implicit-surface generator, sample the field more finely or smooth it where thin walls fold).`,
+			location: r.selfIntersectionSample.length ? { points: r.selfIntersectionSample.slice(0, 20).map((s) => s.point), note: 'sample of crossing points' } : null
+		});
+	}
+
+	const minLen = minEdgeThreshold(rules, ctx);
+	if (minLen !== null) {
+		const ok = r.faces === 0 || r.minEdgeLength >= minLen;
+		push({
+			rule: 'min-edge-length',
+			passed: ok,
+			measured: `shortest ${len(r.minEdgeLength, u)}${!ok && r.shortEdges ? `, ${plural(r.shortEdges, 'edge')} below the limit` : ''}`,
+			limit: `≥ ${len(minLen, u)}${rules.minEdgeLength?.mode === 'fraction-of-cell' ? ` (${rules.minEdgeLength.value} × cell size ${len(ctx.targetCellSize, u)})` : ''}`,
+			explanation: ok
+				? 'No edge is shorter than the limit set for the target cell size.'
+				: `Some edges are much shorter than the target cell size (${len(ctx.targetCellSize, u)}). The mesher either refines down to them, wasting cells and time step, or produces badly shaped cells next to them. Upstream: export with a coarser or more uniform triangulation, or let a repair collapse the short edges.`,
+			location: null
+		});
+	}
+
+	if (rules.maxShells !== null) {
+		const ok = r.components <= rules.maxShells;
+		const tiny = r.hints.find((h) => h.kind === 'floating-shells');
+		push({
+			rule: 'max-shells',
+			passed: ok,
+			measured: plural(r.components, 'shell'),
+			limit: `≤ ${rules.maxShells}`,
+			explanation: ok
+				? 'The number of separate surfaces is as expected.'
+				: `The mesh has ${plural(r.components, 'separate surface')} where at most ${rules.maxShells} ${rules.maxShells === 1 ? 'is' : 'are'} expected. ${tiny ? tiny.message + ' ' : ''}Loose pieces become extra bodies in the flow and waste cells. Upstream: drop small islands of the implicit field (raise the iso-level threshold or filter small components) before export.`,
+			location: null
+		});
+	}
+
+	if (rules.expectedGenus !== null) {
+		const ok = r.genus === rules.expectedGenus;
+		push({
+			rule: 'expected-genus',
+			passed: ok,
+			measured: r.genus === null ? 'undefined (non-manifold or non-orientable)' : `genus ${r.genus}`,
+			limit: `genus ${rules.expectedGenus}`,
+			explanation: ok
+				? `The shape has ${rules.expectedGenus === 0 ? 'no through-holes' : plural(rules.expectedGenus, 'through-hole')}, as expected.`
+				: `The number of through-holes (handles) differs from what this project expects (${rules.expectedGenus}). A generator can open or close a tunnel without anyone noticing, and that changes the flow completely. Check the shape for thin walls that merged or split.`,
+			location: null
+		});
+	}
+
+	{
+		const ok = r.degenerateFaces <= rules.maxDegenerateFaces;
+		push({
+			rule: 'max-degenerate-faces',
+			passed: ok,
+			measured: plural(r.degenerateFaces, 'zero-area face'),
+			limit: `≤ ${n(rules.maxDegenerateFaces)}`,
+			explanation: ok
+				? 'No faces of exactly zero area beyond the allowed number.'
+				: 'Some faces have exactly zero area (repeated or collinear corners). They have no normal, so meshers skip or choke on them. A repair can remove them; upstream, they usually come from merging vertices after export.',
+			location: null
+		});
+	}
+	return out;
+}
+
+/** The queue sorts on this: blocking failures weigh 10, warnings 1. */
+export function severityScore(outcomes: RuleOutcome[]): number {
+	return outcomes.reduce((s, o) => s + (o.passed ? 0 : o.severity === 'blocking' ? 10 : 1), 0);
+}
+
+export function gatePasses(outcomes: RuleOutcome[]): boolean {
+	return outcomes.every((o) => o.passed || o.severity !== 'blocking');
+}

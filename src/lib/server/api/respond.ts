@@ -1,0 +1,30 @@
+// JSON answers for /api/v1: every error is {"message": "..."} with a 4xx status, never a bare 500.
+import { json } from '@sveltejs/kit';
+import { z } from 'zod';
+import { HttpError } from '../revisions';
+
+export function apiError(status: number, message: string, extra: Record<string, unknown> = {}): Response {
+	return json({ message, ...extra }, { status });
+}
+
+export async function handleApi(fn: () => Promise<Response>): Promise<Response> {
+	try {
+		return await fn();
+	} catch (e) {
+		if (e instanceof HttpError) return apiError(e.status, e.message);
+		if (e instanceof z.ZodError) return apiError(400, e.issues.map((i) => `${i.path.join('.') || 'body'}: ${i.message}`).join('; '));
+		const status = (e as { status?: number }).status;
+		if (typeof status === 'number' && status >= 400 && status < 500) return apiError(status, (e as { body?: { message?: string } }).body?.message ?? 'Request refused.');
+		const code = (e as { code?: string }).code ?? '';
+		if (['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ECONNRESET'].includes(code)) {
+			return apiError(503, 'The database is not reachable right now. Nothing was changed; try again in a moment.');
+		}
+		console.error('[shellgate api]', (e as Error)?.stack ?? e);
+		return apiError(500, 'Something went wrong on the server. It has been logged.');
+	}
+}
+
+export function parseId(raw: string, what = 'revision'): number {
+	if (!/^\d{1,10}$/.test(raw)) throw new HttpError(404, `No ${what} "${raw.slice(0, 40)}".`);
+	return Number(raw);
+}

@@ -1,0 +1,37 @@
+// The engine, run off the main thread: bytes in, report (or a reader's refusal) out, with progress.
+// Imports only src/lib/mesh, so a worker thread loads no server or database code.
+import { isMainThread, parentPort, workerData } from 'node:worker_threads';
+import { inspectBytes } from '../../mesh/inspect';
+import { MeshReadError } from '../../mesh/types';
+import type { InspectOptions } from '../../mesh/report';
+
+/** This module's own URL: the TypeScript source under tsx/vitest, its bundled chunk after `vite build`. */
+export const CHECK_THREAD_URL = import.meta.url;
+
+export interface CheckThreadInput {
+	bytes: Uint8Array;
+	fileName: string;
+	options: InspectOptions;
+}
+
+export type CheckThreadMessage =
+	| { type: 'progress'; stage: string; percent: number }
+	| { type: 'done'; report: unknown }
+	| { type: 'refused'; message: string }
+	| { type: 'error'; message: string };
+
+export function runCheckThread(): void {
+	if (isMainThread || !parentPort) throw new Error('runCheckThread must run in a worker thread');
+	const port = parentPort;
+	const input = workerData as CheckThreadInput;
+	const post = (m: CheckThreadMessage) => port.postMessage(m);
+	try {
+		post({ type: 'progress', stage: 'reading', percent: 5 });
+		const report = inspectBytes(input.bytes, input.fileName, input.options);
+		post({ type: 'progress', stage: 'storing', percent: 95 });
+		post({ type: 'done', report });
+	} catch (e) {
+		if (e instanceof MeshReadError) post({ type: 'refused', message: e.message });
+		else post({ type: 'error', message: e instanceof Error ? e.message : String(e) });
+	}
+}

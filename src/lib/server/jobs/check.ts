@@ -1,0 +1,194 @@
+// One check job: fetch the stored file, run the engine in a worker thread under a time and memory
+// cap, evaluate the project's gate profile, and write everything in one transaction.
+import { createHash } from 'node:crypto';
+import { desc, eq } from 'drizzle-orm';
+import type { Worker } from 'node:worker_threads';
+import type { InspectionReport } from '../../mesh/report';
+import { gateRulesSchema } from '../../gate/profile';
+import { evaluateGate, gatePasses, minEdgeThreshold, RULE_TITLES, severityScore } from '../../gate/rules';
+import { audit } from '../audit';
+import { config } from '../config';
+import type { Db } from '../db';
+import { checkRun, gateProfile, part, project, revision, ruleResult } from '../db/schema';
+import { notifyHeld, notifyRepairAwaits } from '../notify';
+import { getStore } from '../storage';
+import type { CheckThreadInput, CheckThreadMessage } from './check-thread';
+import { spawnModuleWorker } from './module-worker';
+import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
+
+export interface CheckLimits {
+	timeLimitMs: number;
+	memoryLimitMb: number;
+}
+
+export class CheckRefused extends Error {}
+
+/** Runs the engine in a worker thread; rejects on timeout, crash or memory cap. */
+export function runEngine(
+	input: CheckThreadInput,
+	limits: CheckLimits,
+	onProgress: (stage: string, percent: number) => void,
+	signal?: AbortSignal
+): Promise<InspectionReport> {
+	// Imported dynamically so the bundler gives the thread's code a chunk of its own, whose URL the
+	// worker then loads (the module reports it as CHECK_THREAD_URL).
+	return import('./check-thread').then(({ CHECK_THREAD_URL }) => new Promise<InspectionReport>((resolve, reject) => {
+		let settled = false;
+		let w: Worker;
+		const finish = (fn: () => void) => {
+			if (settled) return;
+			settled = true;
+			clearTimeout(timer);
+			signal?.removeEventListener('abort', onAbort);
+			void w.terminate();
+			fn();
+		};
+		const onAbort = () => finish(() => reject(new Error('The check was cancelled.')));
+		w = spawnModuleWorker(CHECK_THREAD_URL, 'runCheckThread', input as unknown as Record<string, unknown>, {
+			resourceLimits: { maxOldGenerationSizeMb: limits.memoryLimitMb },
+			transferList: [input.bytes.buffer as ArrayBuffer]
+		});
+		const timer = setTimeout(
+			() => finish(() => reject(new Error(`The check ran past its time limit of ${Math.round(limits.timeLimitMs / 1000)} s.`))),
+			limits.timeLimitMs
+		);
+		signal?.addEventListener('abort', onAbort);
+		w.on('message', (m: CheckThreadMessage) => {
+			if (m.type === 'progress') onProgress(m.stage, m.percent);
+			else if (m.type === 'done') finish(() => resolve(m.report as InspectionReport));
+			else if (m.type === 'refused') finish(() => reject(new CheckRefused(m.message)));
+			else finish(() => reject(new Error(m.message)));
+		});
+		w.on('error', (e) => {
+			const msg = /ERR_WORKER_OUT_OF_MEMORY|heap/i.test(String((e as { code?: string }).code ?? e.message))
+				? `The check ran out of its memory allowance (${limits.memoryLimitMb} MB).`
+				: `The engine stopped: ${e.message}`;
+			finish(() => reject(new Error(msg)));
+		});
+		w.on('exit', (code) => finish(() => reject(new Error(`The engine thread exited (code ${code}) before finishing.`))));
+	}));
+}
+
+export function reportHash(reportJson: string): string {
+	return createHash('sha256').update(reportJson).digest('hex');
+}
+
+/** Processes one claimed job end to end; never throws for a bad file (that ends as unreadable). */
+export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, limits: CheckLimits, signal?: AbortSignal): Promise<'done' | 'refused' | 'failed' | 'lost'> {
+	const [ctx] = await db
+		.select({ rev: revision, part, project })
+		.from(revision)
+		.innerJoin(part, eq(part.id, revision.partId))
+		.innerJoin(project, eq(project.id, part.projectId))
+		.where(eq(revision.id, j.revisionId))
+		.limit(1);
+	if (!ctx) {
+		await failAttempt(db, j.id, workerId, 'The revision no longer exists.', true);
+		return 'refused';
+	}
+	const [profile] = await db.select().from(gateProfile).where(eq(gateProfile.projectId, ctx.project.id)).orderBy(desc(gateProfile.version)).limit(1);
+	const rules = gateRulesSchema.parse(profile.rules);
+	const gctx = { units: ctx.project.units, targetCellSize: ctx.project.targetCellSize };
+
+	let lastBeat = 0;
+	let lost = false;
+	const beat = (stage: string, percent: number) => {
+		const t = Date.now();
+		if (t - lastBeat < 1000 && percent < 100) return;
+		lastBeat = t;
+		void heartbeat(db, j.id, workerId, stage, percent).then((ok) => (lost ||= !ok), () => {});
+	};
+	let report: InspectionReport;
+	try {
+		beat('fetching file', 2);
+		const bytes = await getStore().read(ctx.rev.sha256);
+		report = await runEngine(
+			{
+				bytes,
+				fileName: ctx.rev.fileName,
+				options: {
+					flowDirection: [ctx.project.flowX, ctx.project.flowY, ctx.project.flowZ],
+					minEdgeLength: minEdgeThreshold(rules, gctx) ?? 0,
+					maxFaces: config.maxFaces,
+					fileName: ctx.rev.fileName
+				}
+			},
+			limits,
+			beat,
+			signal
+		);
+	} catch (e) {
+		const refused = e instanceof CheckRefused;
+		await failAttempt(db, j.id, workerId, (e as Error).message, refused);
+		return refused ? 'refused' : 'failed';
+	}
+	if (lost) return 'lost';
+
+	const outcomes = evaluateGate(report, rules, gctx);
+	const passes = gatePasses(outcomes);
+	const reportJson = JSON.stringify(report);
+	const next = passes ? (ctx.rev.source === 'repair' ? 'repair-proposed' : 'clear') : 'held';
+	const failed = outcomes.filter((o) => !o.passed && o.severity === 'blocking');
+	const written = await db.transaction(async (txx) => {
+		const tx = txx as unknown as Db;
+		if (!(await lockOwnJob(tx, j.id, workerId))) return false;
+		const [run] = await tx
+			.insert(checkRun)
+			.values({
+				revisionId: ctx.rev.id,
+				gateProfileId: profile.id,
+				report: reportJson,
+				reportSha256: reportHash(reportJson),
+				engineVersion: report.engineVersion,
+				faces: report.faces,
+				vertices: report.vertices,
+				shells: report.components,
+				boundaryEdges: report.boundaryEdges,
+				nonManifoldEdges: report.nonManifoldEdges,
+				selfIntersectingPairs: report.selfIntersectingPairs ?? -1,
+				genus: report.genus,
+				volume: report.volume,
+				watertight: report.watertight,
+				severity: severityScore(outcomes),
+				failedRules: failed.length ? `,${failed.map((o) => o.rule).join(',')},` : '',
+				durationMs: Math.round(Object.values(report.timings).reduce((a, b) => a + b, 0))
+			})
+			.$returningId();
+		await tx.insert(ruleResult).values(
+			outcomes.map((o) => ({
+				checkRunId: run.id,
+				rule: o.rule,
+				passed: o.passed,
+				severity: o.severity,
+				measured: o.measured.slice(0, 120),
+				limitText: o.limit.slice(0, 120),
+				explanation: o.explanation,
+				location: o.location
+			}))
+		);
+		await tx.update(revision).set({ status: next, statusReason: passes ? null : failed.map((o) => RULE_TITLES[o.rule]).join('; ').slice(0, 1000), updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
+		await audit(tx, null, 'revision', ctx.rev.id, 'checked', 'checking', next, { checkRun: run.id, failed: failed.map((o) => o.rule), profileVersion: profile.version });
+		const ref = { id: ctx.rev.id, number: ctx.rev.number, partName: ctx.part.name, projectName: ctx.project.name, uploaderId: ctx.rev.uploaderId };
+		if (next === 'held') {
+			// For a repair that still fails, the designer of the original upload is the one to tell.
+			const designerRev = ctx.rev.parentRevisionId ? await originalUpload(tx, ctx.rev.parentRevisionId) : null;
+			await notifyHeld(tx, { ...ref, uploaderId: designerRev?.uploaderId ?? ref.uploaderId }, failed.map((o) => `${RULE_TITLES[o.rule]}: ${o.measured}. ${o.explanation}`));
+		} else if (next === 'repair-proposed') {
+			await notifyRepairAwaits(tx, ref, ctx.project.teamId, ctx.rev.uploaderId);
+		}
+		await finishJob(tx, j.id);
+		return true;
+	});
+	return written ? 'done' : 'lost';
+}
+
+async function originalUpload(tx: Db, revisionId: number) {
+	let id: number | null = revisionId;
+	for (let i = 0; i < 50 && id; i++) {
+		const [r] = await tx.select({ id: revision.id, parent: revision.parentRevisionId, uploaderId: revision.uploaderId, source: revision.source }).from(revision).where(eq(revision.id, id)).limit(1);
+		if (!r) return null;
+		if (r.source !== 'repair' || !r.parent) return r;
+		id = r.parent;
+	}
+	return null;
+}

@@ -1,0 +1,101 @@
+// The job queue in MariaDB. Workers claim with SELECT … FOR UPDATE SKIP LOCKED, so two workers never
+// get the same job; a claim is a lease that the worker's heartbeat extends. A job whose lease ran out
+// (worker died or hung) is claimable again; after maxAttempts its revision is marked unreadable.
+import { and, asc, eq, lt, or, sql } from 'drizzle-orm';
+import type { Db } from '../db';
+import { job, revision } from '../db/schema';
+import { audit } from '../audit';
+
+export const LEASE_MS = 30_000;
+
+export type ClaimedJob = typeof job.$inferSelect;
+
+export async function enqueueCheck(tx: Pick<Db, 'insert'>, revisionId: number, maxAttempts: number): Promise<void> {
+	await tx.insert(job).values({ kind: 'check', revisionId, maxAttempts });
+}
+
+/** Claims the oldest claimable job, or returns null. Jobs out of attempts are closed on the way. */
+export async function claimJob(db: Db, workerId: string, leaseMs = LEASE_MS): Promise<ClaimedJob | null> {
+	for (let guard = 0; guard < 20; guard++) {
+		const result = await db.transaction(async (tx) => {
+			const now = new Date();
+			const [row] = await tx
+				.select()
+				.from(job)
+				.where(or(eq(job.status, 'queued'), and(eq(job.status, 'running'), lt(job.leaseUntil, now))))
+				.orderBy(asc(job.id))
+				.limit(1)
+				.for('update', { skipLocked: true });
+			if (!row) return { kind: 'none' as const };
+			if (row.attempts >= row.maxAttempts) {
+				const reason = `The check gave up after ${row.attempts} attempts. Last problem: ${row.lastError ?? 'the worker stopped answering (killed, out of memory or over its time limit).'}`;
+				await tx.update(job).set({ status: 'failed', finishedAt: now, lastError: reason.slice(0, 1000) }).where(eq(job.id, row.id));
+				await markUnreadable(tx as unknown as Db, row.revisionId, reason, null);
+				return { kind: 'closed' as const };
+			}
+			const leaseUntil = new Date(now.getTime() + leaseMs);
+			await tx
+				.update(job)
+				.set({ status: 'running', attempts: row.attempts + 1, workerId, leaseUntil, heartbeatAt: now, stage: 'queued for engine', percent: 0 })
+				.where(eq(job.id, row.id));
+			const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, row.revisionId)).limit(1);
+			if (rev && rev.status !== 'checking') {
+				await tx.update(revision).set({ status: 'checking', updatedAt: now }).where(eq(revision.id, row.revisionId));
+				await audit(tx, null, 'revision', row.revisionId, 'check-started', rev.status, 'checking', { job: row.id, attempt: row.attempts + 1, workerId });
+			}
+			return { kind: 'claimed' as const, job: { ...row, status: 'running' as const, attempts: row.attempts + 1, workerId, leaseUntil } };
+		});
+		if (result.kind === 'claimed') return result.job;
+		if (result.kind === 'none') return null;
+	}
+	return null;
+}
+
+/** Extends the lease and records progress; false when the job is no longer this worker's. */
+export async function heartbeat(db: Db, jobId: number, workerId: string, stage: string, percent: number, leaseMs = LEASE_MS): Promise<boolean> {
+	const now = new Date();
+	const [res] = await db
+		.update(job)
+		.set({ heartbeatAt: now, leaseUntil: new Date(now.getTime() + leaseMs), stage: stage.slice(0, 40), percent: Math.max(0, Math.min(100, Math.round(percent))) })
+		.where(and(eq(job.id, jobId), eq(job.workerId, workerId), eq(job.status, 'running')));
+	return res.affectedRows > 0;
+}
+
+/**
+ * Locks the job row inside `tx` and checks it is still this worker's; the result is written in the
+ * same transaction, so a job retried elsewhere is never counted twice.
+ */
+export async function lockOwnJob(tx: Db, jobId: number, workerId: string): Promise<boolean> {
+	const [row] = await tx.select().from(job).where(eq(job.id, jobId)).limit(1).for('update');
+	return !!row && row.status === 'running' && row.workerId === workerId;
+}
+
+export async function finishJob(tx: Db, jobId: number): Promise<void> {
+	await tx.update(job).set({ status: 'done', percent: 100, stage: 'done', finishedAt: new Date() }).where(eq(job.id, jobId));
+}
+
+/** A failed attempt: retried later unless `permanent` (the file itself is bad) or out of attempts. */
+export async function failAttempt(db: Db, jobId: number, workerId: string, message: string, permanent: boolean): Promise<void> {
+	await db.transaction(async (tx) => {
+		if (!(await lockOwnJob(tx as unknown as Db, jobId, workerId))) return;
+		const [row] = await tx.select().from(job).where(eq(job.id, jobId)).limit(1);
+		if (permanent || row.attempts >= row.maxAttempts) {
+			const reason = permanent ? message : `The check gave up after ${row.attempts} attempts. Last problem: ${message}`;
+			await tx.update(job).set({ status: 'failed', lastError: reason.slice(0, 1000), finishedAt: new Date() }).where(eq(job.id, jobId));
+			await markUnreadable(tx as unknown as Db, row.revisionId, reason, null);
+		} else {
+			await tx.update(job).set({ status: 'queued', lastError: message.slice(0, 1000), workerId: null, leaseUntil: null, stage: 'waiting to retry' }).where(eq(job.id, jobId));
+		}
+	});
+}
+
+export async function markUnreadable(tx: Db, revisionId: number, reason: string, actorId: string | null): Promise<void> {
+	const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, revisionId)).limit(1);
+	await tx.update(revision).set({ status: 'unreadable', statusReason: reason.slice(0, 1000), updatedAt: new Date() }).where(eq(revision.id, revisionId));
+	await audit(tx, actorId, 'revision', revisionId, 'unreadable', rev?.status ?? null, 'unreadable', { reason });
+}
+
+export async function queueCounts(db: Db): Promise<Record<string, number>> {
+	const rows = await db.select({ status: job.status, n: sql<number>`count(*)` }).from(job).groupBy(job.status);
+	return Object.fromEntries(rows.map((r) => [r.status, Number(r.n)]));
+}

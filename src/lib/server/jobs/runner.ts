@@ -1,0 +1,45 @@
+// Worker loops: claim a job, process it, repeat; sleep briefly when the queue is empty. The loop
+// itself only does database I/O; the engine always runs in a worker thread (see check.ts).
+import { hostname } from 'node:os';
+import { config } from '../config';
+import type { Db } from '../db';
+import { processCheckJob } from './check';
+import { claimJob } from './queue';
+
+export interface WorkerLoopOptions {
+	db: () => Db;
+	workerId?: string;
+	idleMs?: number;
+	signal: AbortSignal;
+	onResult?: (jobId: number, outcome: string) => void;
+}
+
+export function newWorkerId(tag = 'web'): string {
+	return `${hostname()}:${process.pid}:${tag}:${Math.random().toString(36).slice(2, 6)}`;
+}
+
+const sleep = (ms: number, signal: AbortSignal) =>
+	new Promise<void>((resolve) => {
+		const t = setTimeout(resolve, ms);
+		signal.addEventListener('abort', () => (clearTimeout(t), resolve()), { once: true });
+	});
+
+export async function runWorkerLoop(opts: WorkerLoopOptions): Promise<void> {
+	const workerId = opts.workerId ?? newWorkerId();
+	const idle = opts.idleMs ?? 500;
+	while (!opts.signal.aborted) {
+		try {
+			const j = await claimJob(opts.db(), workerId);
+			if (!j) {
+				await sleep(idle, opts.signal);
+				continue;
+			}
+			const outcome = await processCheckJob(opts.db(), j, workerId, { timeLimitMs: config.checkTimeLimitMs, memoryLimitMb: config.checkMemoryLimitMb }, opts.signal);
+			opts.onResult?.(j.id, outcome);
+		} catch (e) {
+			// Database down or a write failed: the lease runs out and the job is claimed again later.
+			if (!opts.signal.aborted) console.error(`[shellgate worker ${workerId}]`, (e as Error).message);
+			await sleep(Math.max(idle, 2000), opts.signal);
+		}
+	}
+}

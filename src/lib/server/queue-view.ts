@@ -1,0 +1,140 @@
+// The triage queue: one query behind the queue page and GET /api/v1/queue, filtered, sorted and
+// paged in MariaDB on the indexed summary columns.
+import { and, asc, desc, eq, inArray, isNull, like, sql, type SQL } from 'drizzle-orm';
+import { alias } from 'drizzle-orm/mysql-core';
+import { z } from 'zod';
+import type { SessionUser } from './auth';
+import type { Db } from './db';
+import { checkRun, job, part, project, REVISION_STATES, revision, user } from './db/schema';
+import { RULE_IDS } from '../gate/rules';
+
+/** States that still need someone's action; the queue's default view. */
+export const NEEDS_ACTION = ['awaiting-check', 'checking', 'held', 'clear', 'repair-proposed', 'unreadable'] as const;
+
+export const queueFilterSchema = z.object({
+	project: z.string().max(64).optional(),
+	status: z.enum([...REVISION_STATES, 'needs-action', 'all']).default('needs-action'),
+	assignee: z.string().max(32).optional(),
+	rule: z.enum(RULE_IDS).optional(),
+	sort: z.enum(['age', 'severity', 'size']).default('age'),
+	dir: z.enum(['asc', 'desc']).default('desc'),
+	page: z.coerce.number().int().min(1).max(100_000).default(1),
+	pageSize: z.coerce.number().int().min(1).max(200).default(50)
+});
+export type QueueFilter = z.infer<typeof queueFilterSchema>;
+
+export function parseQueueFilter(params: URLSearchParams): QueueFilter {
+	const raw: Record<string, string> = {};
+	for (const [k, v] of params) if (v !== '') raw[k] = v;
+	return queueFilterSchema.parse(raw);
+}
+
+export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
+	const uploader = alias(user, 'uploader');
+	const assignee = alias(user, 'assignee');
+	const latest = db
+		.select({ revisionId: checkRun.revisionId, id: sql<number>`max(${checkRun.id})`.as('latest_id') })
+		.from(checkRun)
+		.groupBy(checkRun.revisionId)
+		.as('latest');
+
+	const base: SQL[] = [eq(project.teamId, u.teamId)];
+	if (f.project) base.push(eq(project.slug, f.project));
+	if (f.assignee === 'me') base.push(eq(revision.assigneeId, u.id));
+	else if (f.assignee === 'none') base.push(isNull(revision.assigneeId));
+	else if (f.assignee) base.push(eq(revision.assigneeId, f.assignee));
+	if (f.rule) base.push(like(checkRun.failedRules, `%,${f.rule},%`));
+	const statusCond =
+		f.status === 'all' ? undefined : f.status === 'needs-action' ? inArray(revision.status, [...NEEDS_ACTION]) : eq(revision.status, f.status);
+	const where = and(...base, statusCond);
+
+	const order =
+		f.sort === 'severity'
+			? [f.dir === 'asc' ? asc(sql`coalesce(${checkRun.severity}, -1)`) : desc(sql`coalesce(${checkRun.severity}, -1)`), desc(revision.id)]
+			: f.sort === 'size'
+				? [f.dir === 'asc' ? asc(revision.size) : desc(revision.size), desc(revision.id)]
+				: [f.dir === 'asc' ? desc(revision.createdAt) : asc(revision.createdAt), asc(revision.id)];
+
+	const from = () =>
+		db
+			.select({
+				id: revision.id,
+				number: revision.number,
+				status: revision.status,
+				statusReason: revision.statusReason,
+				fileName: revision.fileName,
+				size: revision.size,
+				source: revision.source,
+				createdAt: revision.createdAt,
+				partName: part.name,
+				partSlug: part.slug,
+				projectName: project.name,
+				projectSlug: project.slug,
+				uploaderName: uploader.name,
+				assigneeId: revision.assigneeId,
+				assigneeName: assignee.name,
+				faces: checkRun.faces,
+				severity: checkRun.severity,
+				failedRules: checkRun.failedRules,
+				boundaryEdges: checkRun.boundaryEdges,
+				selfIntersectingPairs: checkRun.selfIntersectingPairs,
+				shells: checkRun.shells,
+				genus: checkRun.genus
+			})
+			.from(revision)
+			.innerJoin(part, eq(part.id, revision.partId))
+			.innerJoin(project, eq(project.id, part.projectId))
+			.innerJoin(uploader, eq(uploader.id, revision.uploaderId))
+			.leftJoin(assignee, eq(assignee.id, revision.assigneeId))
+			.leftJoin(latest, eq(latest.revisionId, revision.id))
+			.leftJoin(checkRun, eq(checkRun.id, latest.id));
+
+	const rows = await from()
+		.where(where)
+		.orderBy(...order)
+		.limit(f.pageSize)
+		.offset((f.page - 1) * f.pageSize);
+
+	const countRows = await db
+		.select({ status: revision.status, n: sql<number>`count(*)` })
+		.from(revision)
+		.innerJoin(part, eq(part.id, revision.partId))
+		.innerJoin(project, eq(project.id, part.projectId))
+		.leftJoin(latest, eq(latest.revisionId, revision.id))
+		.leftJoin(checkRun, eq(checkRun.id, latest.id))
+		.where(and(...base))
+		.groupBy(revision.status);
+	const counts = Object.fromEntries(REVISION_STATES.map((s) => [s, 0])) as Record<(typeof REVISION_STATES)[number], number>;
+	for (const c of countRows) counts[c.status] = Number(c.n);
+	const total =
+		f.status === 'all'
+			? Object.values(counts).reduce((a, b) => a + b, 0)
+			: f.status === 'needs-action'
+				? NEEDS_ACTION.reduce((a, s) => a + counts[s], 0)
+				: counts[f.status];
+
+	// Live progress for the rows being checked.
+	const checking = rows.filter((r) => r.status === 'checking' || r.status === 'awaiting-check').map((r) => r.id);
+	const progress = checking.length
+		? await db
+				.select({ revisionId: job.revisionId, stage: job.stage, percent: job.percent })
+				.from(job)
+				.where(and(inArray(job.revisionId, checking), inArray(job.status, ['queued', 'running'])))
+		: [];
+	const byRev = new Map(progress.map((p) => [p.revisionId, p]));
+
+	return {
+		rows: rows.map((r) => ({
+			...r,
+			failedRules: r.failedRules ? r.failedRules.split(',').filter(Boolean) : [],
+			progress: byRev.get(r.id) ?? null
+		})),
+		counts,
+		total,
+		page: f.page,
+		pageSize: f.pageSize,
+		pages: Math.max(1, Math.ceil(total / f.pageSize))
+	};
+}
+
+export type QueueResult = Awaited<ReturnType<typeof queryQueue>>;

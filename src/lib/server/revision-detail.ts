@@ -1,0 +1,115 @@
+// Everything shown about one revision: used by the revision page and GET /api/v1/revisions/{id}.
+import { and, asc, desc, eq, inArray } from 'drizzle-orm';
+import type { InspectionReport } from '../mesh/report';
+import type { SessionUser } from './auth';
+import type { Db } from './db';
+import { checkRun, decision, gateProfile, job, revision, ruleResult, user } from './db/schema';
+import { listComments } from './comments';
+import { loadRevisionForUser } from './revisions';
+
+export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: { withReport?: boolean } = {}) {
+	const ctx = await loadRevisionForUser(db, u, id);
+	const { rev } = ctx;
+	const [run] = await db.select().from(checkRun).where(eq(checkRun.revisionId, id)).orderBy(desc(checkRun.id)).limit(1);
+	const rules = run ? await db.select().from(ruleResult).where(eq(ruleResult.checkRunId, run.id)).orderBy(asc(ruleResult.id)) : [];
+	const [profile] = run ? await db.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1) : [];
+	const [activeJob] = await db
+		.select({ status: job.status, stage: job.stage, percent: job.percent, attempts: job.attempts, maxAttempts: job.maxAttempts, lastError: job.lastError })
+		.from(job)
+		.where(and(eq(job.revisionId, id), inArray(job.status, ['queued', 'running'])))
+		.orderBy(desc(job.id))
+		.limit(1);
+	const decisions = await db
+		.select({ d: decision, by: user.name })
+		.from(decision)
+		.innerJoin(user, eq(user.id, decision.byId))
+		.where(eq(decision.revisionId, id))
+		.orderBy(asc(decision.id));
+	const [uploader] = await db.select({ name: user.name, email: user.email }).from(user).where(eq(user.id, rev.uploaderId)).limit(1);
+	const [assignee] = rev.assigneeId ? await db.select({ id: user.id, name: user.name }).from(user).where(eq(user.id, rev.assigneeId)).limit(1) : [];
+	return {
+		id: rev.id,
+		number: rev.number,
+		status: rev.status,
+		statusReason: rev.statusReason,
+		fileName: rev.fileName,
+		format: rev.format,
+		size: rev.size,
+		sha256: rev.sha256,
+		source: rev.source,
+		parentRevisionId: rev.parentRevisionId,
+		recipe: rev.recipe,
+		repairLog: rev.repairLog,
+		note: rev.note,
+		createdAt: rev.createdAt,
+		uploader: { id: rev.uploaderId, name: uploader?.name ?? '?' },
+		assignee: assignee ?? null,
+		part: { id: ctx.part.id, slug: ctx.part.slug, name: ctx.part.name },
+		project: {
+			id: ctx.project.id,
+			slug: ctx.project.slug,
+			name: ctx.project.name,
+			units: ctx.project.units,
+			flowDirection: [ctx.project.flowX, ctx.project.flowY, ctx.project.flowZ] as [number, number, number],
+			targetCellSize: ctx.project.targetCellSize
+		},
+		progress: activeJob ?? null,
+		check: run
+			? {
+					id: run.id,
+					at: run.createdAt,
+					reportSha256: run.reportSha256,
+					engineVersion: run.engineVersion,
+					durationMs: run.durationMs,
+					gateProfileVersion: profile?.version ?? null,
+					severity: run.severity
+				}
+			: null,
+		report: run && opts.withReport !== false ? (JSON.parse(run.report) as InspectionReport) : null,
+		rules: rules.map((r) => ({ rule: r.rule, passed: r.passed, severity: r.severity, measured: r.measured, limit: r.limitText, explanation: r.explanation, location: r.location })),
+		decisions: decisions.map(({ d, by }) => ({
+			id: d.id,
+			kind: d.kind,
+			by,
+			at: d.createdAt,
+			reason: d.reason,
+			fileSha256: d.fileSha256,
+			reportSha256: d.reportSha256,
+			gateProfileVersion: d.gateProfileVersion
+		})),
+		comments: await listComments(db, id)
+	};
+}
+
+export type RevisionDetail = Awaited<ReturnType<typeof revisionDetail>>;
+
+/** The part's revisions with the summary numbers that matter when comparing them. */
+export async function partHistory(db: Db, partId: number) {
+	const revs = await db
+		.select({ id: revision.id, number: revision.number, status: revision.status, source: revision.source, createdAt: revision.createdAt, fileName: revision.fileName, parent: revision.parentRevisionId })
+		.from(revision)
+		.where(eq(revision.partId, partId))
+		.orderBy(asc(revision.number));
+	const runs = revs.length
+		? await db
+				.select({ revisionId: checkRun.revisionId, id: checkRun.id, genus: checkRun.genus, shells: checkRun.shells, volume: checkRun.volume, faces: checkRun.faces, watertight: checkRun.watertight })
+				.from(checkRun)
+				.where(inArray(checkRun.revisionId, revs.map((r) => r.id)))
+				.orderBy(asc(checkRun.id))
+		: [];
+	const last = new Map<number, (typeof runs)[number]>();
+	for (const r of runs) last.set(r.revisionId, r);
+	let prev: (typeof runs)[number] | undefined;
+	return revs.map((r) => {
+		const run = last.get(r.id);
+		const changes: string[] = [];
+		if (run && prev) {
+			if (run.genus !== prev.genus) changes.push(`genus ${prev.genus ?? 'undefined'} → ${run.genus ?? 'undefined'}`);
+			if (run.shells !== prev.shells) changes.push(`shells ${prev.shells} → ${run.shells}`);
+			const dv = prev.volume !== 0 ? (run.volume - prev.volume) / Math.abs(prev.volume) : 0;
+			if (Math.abs(dv) > 0.01) changes.push(`volume ${dv > 0 ? '+' : ''}${(dv * 100).toFixed(1)} %`);
+		}
+		if (run) prev = run;
+		return { ...r, genus: run?.genus ?? null, shells: run?.shells ?? null, volume: run?.volume ?? null, faces: run?.faces ?? null, changes };
+	});
+}

@@ -1,0 +1,262 @@
+// Revisions: creating them from uploads (or repairs), and every state change a person makes.
+// Each change is one transaction with its audit row and its mail, so nothing is left half-written.
+import { and, desc, eq, sql } from 'drizzle-orm';
+import { sniffFormat } from '../mesh/read';
+import { audit } from './audit';
+import type { SessionUser } from './auth';
+import { config } from './config';
+import type { Db } from './db';
+import { checkRun, decision, gateProfile, part, project, revision, storedFile, type RevisionState } from './db/schema';
+import { enqueueCheck } from './jobs/queue';
+import { notifyReturned, notifySignedOff } from './notify';
+import { can, type Action } from '../permissions';
+import { discard, getStore, type Spooled } from './storage';
+
+export class HttpError extends Error {
+	constructor(
+		public status: number,
+		message: string
+	) {
+		super(message);
+	}
+}
+
+const EXT = /\.(stl|ply|obj)$/i;
+
+/** A display-safe file name: no path, no control characters, at most 200 characters. */
+export function cleanFileName(raw: string): string {
+	const base = raw.replace(/\\/g, '/').split('/').pop() ?? '';
+	const cleaned = base
+		.replace(/[\u0000-\u001f\u007f]/g, '')
+		.replace(/^\.+/, '')
+		.trim()
+		.slice(-200);
+	return cleaned || 'mesh';
+}
+
+/** Checks the name and the first bytes look like a mesh file before anything is stored. */
+export function checkUploadKind(fileName: string, head: Uint8Array): string {
+	const m = EXT.exec(fileName);
+	if (!m) throw new HttpError(400, `"${fileName}" is not a mesh file: Shellgate accepts .stl, .ply and .obj.`);
+	const ext = m[1].toLowerCase();
+	const text = new TextDecoder('latin1').decode(head.subarray(0, 256)).trimStart().toLowerCase();
+	if (/^(<!doctype|<html|<script|<\?xml|<svg)/.test(text)) throw new HttpError(400, `"${fileName}" holds HTML or XML, not a mesh.`);
+	if (head[0] === 0x50 && head[1] === 0x4b && head[2] === 0x03 && head[3] === 0x04) throw new HttpError(400, `"${fileName}" is a zip archive; upload the mesh file itself.`);
+	if (head[0] === 0x1f && head[1] === 0x8b) throw new HttpError(400, `"${fileName}" is gzip-compressed; upload the uncompressed mesh file.`);
+	if (ext === 'ply' && !text.startsWith('ply')) throw new HttpError(400, `"${fileName}" does not start with the PLY header line "ply".`);
+	return ext;
+}
+
+export function assertCan(u: SessionUser, action: Action): void {
+	if (!can(u, action)) throw new HttpError(403, `Your roles (${u.roles.join(', ') || 'none'}) do not allow this: ${action.replace(/-/g, ' ')}.`);
+}
+
+export async function findProjectForUser(db: Db, u: SessionUser, slugOrId: string) {
+	const [p] = await db
+		.select()
+		.from(project)
+		.where(and(/^\d+$/.test(slugOrId) ? eq(project.id, Number(slugOrId)) : eq(project.slug, slugOrId), eq(project.teamId, u.teamId)))
+		.limit(1);
+	if (!p) throw new HttpError(404, `No project "${slugOrId.slice(0, 80)}" in your team.`);
+	return p;
+}
+
+export interface IngestInput {
+	user: SessionUser;
+	projectSlug: string;
+	partSlug: string;
+	partName?: string;
+	fileName: string;
+	spooled: Spooled;
+	source: 'upload' | 'api' | 'repair';
+	parentRevisionId?: number | null;
+	recipe?: unknown;
+	repairLog?: unknown;
+	note?: string | null;
+}
+
+export interface IngestResult {
+	revisionId: number;
+	number: number;
+	status: RevisionState;
+	duplicateOf: number | null;
+	projectSlug: string;
+	partSlug: string;
+}
+
+const SLUG = /^[a-z0-9][a-z0-9-]{0,63}$/;
+
+/**
+ * Turns a spooled upload into a revision and a queued check. The bytes go to the store first (they
+ * are content-addressed, so a retry is harmless); then one transaction writes the file row, the
+ * revision, the job and the audit row. If that transaction fails, bytes no row refers to are removed.
+ */
+export async function ingestRevision(db: Db, input: IngestInput): Promise<IngestResult> {
+	const { user: u, spooled } = input;
+	try {
+		assertCan(u, input.source === 'repair' ? 'repair' : 'upload');
+		const fileName = cleanFileName(input.fileName);
+		const ext = checkUploadKind(fileName, spooled.head);
+		if (spooled.size === 0) throw new HttpError(400, `"${fileName}" is empty.`);
+		const sniffed = sniffFormat(spooled.head);
+		if (sniffed && sniffed !== ext && !(ext === 'stl' && sniffed === null)) {
+			throw new HttpError(400, `"${fileName}" is named .${ext} but its content looks like ${sniffed.toUpperCase()}.`);
+		}
+		if (!SLUG.test(input.partSlug)) throw new HttpError(400, 'A part name in the address may use lower-case letters, digits and dashes (at most 64).');
+		const proj = await findProjectForUser(db, u, input.projectSlug);
+		const store = getStore();
+		await store.putFile(spooled.tmpPath, spooled.sha256, spooled.size);
+		try {
+			return await db.transaction(async (txx) => {
+				const tx = txx as unknown as Db;
+				let [pa] = await tx.select().from(part).where(and(eq(part.projectId, proj.id), eq(part.slug, input.partSlug))).limit(1).for('update');
+				if (!pa) {
+					const name = (input.partName?.trim() || input.partSlug.replace(/-/g, ' ')).slice(0, 120);
+					const [r] = await tx.insert(part).values({ projectId: proj.id, slug: input.partSlug, name }).$returningId();
+					[pa] = await tx.select().from(part).where(eq(part.id, r.id)).limit(1);
+					await audit(tx, u.id, 'part', pa.id, 'created');
+				}
+				const [dup] = await tx
+					.select({ id: revision.id, number: revision.number, status: revision.status })
+					.from(revision)
+					.where(and(eq(revision.partId, pa.id), eq(revision.sha256, spooled.sha256)))
+					.limit(1);
+				if (dup) return { revisionId: dup.id, number: dup.number, status: dup.status, duplicateOf: dup.id, projectSlug: proj.slug, partSlug: pa.slug };
+				await tx
+					.insert(storedFile)
+					.values({ sha256: spooled.sha256, size: spooled.size, backend: store.backend })
+					.onDuplicateKeyUpdate({ set: { sha256: sql`sha256` } });
+				const [{ next }] = await tx.select({ next: sql<number>`coalesce(max(${revision.number}), 0) + 1` }).from(revision).where(eq(revision.partId, pa.id));
+				const [r] = await tx
+					.insert(revision)
+					.values({
+						partId: pa.id,
+						number: Number(next),
+						sha256: spooled.sha256,
+						size: spooled.size,
+						format: ext,
+						fileName,
+						uploaderId: u.id,
+						source: input.source,
+						parentRevisionId: input.parentRevisionId ?? null,
+						recipe: input.recipe ?? null,
+						repairLog: input.repairLog ?? null,
+						note: input.note?.slice(0, 500) ?? null
+					})
+					.$returningId();
+				await enqueueCheck(tx, r.id, config.checkAttempts);
+				await audit(tx, u.id, 'revision', r.id, input.source === 'repair' ? 'repair-created' : 'uploaded', null, 'awaiting-check', { sha256: spooled.sha256, size: spooled.size, parent: input.parentRevisionId ?? null });
+				return { revisionId: r.id, number: Number(next), status: 'awaiting-check' as const, duplicateOf: null, projectSlug: proj.slug, partSlug: pa.slug };
+			});
+		} catch (e) {
+			const [ref] = await db.select({ s: storedFile.sha256 }).from(storedFile).where(eq(storedFile.sha256, spooled.sha256)).limit(1).catch(() => [{ s: 'unknown' }]);
+			if (!ref) await store.delete(spooled.sha256).catch(() => {});
+			throw e;
+		}
+	} finally {
+		await discard(spooled);
+	}
+}
+
+export async function loadRevisionForUser(db: Db, u: SessionUser, id: number) {
+	const [row] = await db
+		.select({ rev: revision, part, project })
+		.from(revision)
+		.innerJoin(part, eq(part.id, revision.partId))
+		.innerJoin(project, eq(project.id, part.projectId))
+		.where(and(eq(revision.id, id), eq(project.teamId, u.teamId)))
+		.limit(1);
+	if (!row) throw new HttpError(404, `No revision ${id} in your team.`);
+	return row;
+}
+
+export async function latestCheck(db: Db, revisionId: number) {
+	const [run] = await db.select().from(checkRun).where(eq(checkRun.revisionId, revisionId)).orderBy(desc(checkRun.id)).limit(1);
+	return run ?? null;
+}
+
+type Ctx = Awaited<ReturnType<typeof loadRevisionForUser>>;
+
+async function transition(db: Db, u: SessionUser, ctx: Ctx, allowedFrom: RevisionState[], to: RevisionState, action: string, reason: string | null, after?: (tx: Db) => Promise<void>) {
+	await db.transaction(async (txx) => {
+		const tx = txx as unknown as Db;
+		const [cur] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, ctx.rev.id)).limit(1).for('update');
+		if (!allowedFrom.includes(cur.status)) {
+			throw new HttpError(409, `This revision is "${cur.status.replace(/-/g, ' ')}"; ${action.replace(/-/g, ' ')} needs it to be ${allowedFrom.map((s) => `"${s.replace(/-/g, ' ')}"`).join(' or ')}.`);
+		}
+		await tx.update(revision).set({ status: to, statusReason: reason, updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
+		await audit(tx, u.id, 'revision', ctx.rev.id, action, cur.status, to, reason ? { reason } : null);
+		await after?.(tx);
+	});
+}
+
+const ref = (ctx: Ctx) => ({ id: ctx.rev.id, number: ctx.rev.number, partName: ctx.part.name, projectName: ctx.project.name, uploaderId: ctx.rev.uploaderId });
+
+export async function returnRevision(db: Db, u: SessionUser, ctx: Ctx, reason: string): Promise<void> {
+	assertCan(u, 'return');
+	if (!reason.trim()) throw new HttpError(400, 'Say why the revision goes back, so the designer knows what to change.');
+	const run = await latestCheck(db, ctx.rev.id);
+	await transition(db, u, ctx, ['held', 'clear', 'repair-proposed'], 'returned', 'returned', reason.trim().slice(0, 1000), async (tx) => {
+		const [prof] = run ? await tx.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1) : [];
+		await tx.insert(decision).values({
+			revisionId: ctx.rev.id,
+			kind: 'return',
+			byId: u.id,
+			reason: reason.trim(),
+			fileSha256: ctx.rev.sha256,
+			reportSha256: run?.reportSha256 ?? null,
+			gateProfileId: prof?.id ?? null,
+			gateProfileVersion: prof?.version ?? null
+		});
+		await notifyReturned(tx, ref(ctx), u.name, reason.trim());
+	});
+}
+
+/** Who last touched the file: the uploader, or for a repair the engineer who ran it. */
+export function fourEyesConflict(u: SessionUser, ctx: Ctx): string | null {
+	if (ctx.rev.uploaderId === u.id) {
+		return ctx.rev.source === 'repair' ? 'You ran this repair; a different reviewer must sign it off.' : 'You uploaded this revision; a different reviewer must sign it off.';
+	}
+	return null;
+}
+
+export async function signOff(db: Db, u: SessionUser, ctx: Ctx, note: string | null): Promise<number> {
+	assertCan(u, 'sign-off');
+	const conflict = fourEyesConflict(u, ctx);
+	if (conflict) throw new HttpError(403, conflict);
+	const run = await latestCheck(db, ctx.rev.id);
+	if (!run) throw new HttpError(409, 'This revision has no finished check to sign off.');
+	let decisionId = 0;
+	await transition(db, u, ctx, ['clear', 'repair-proposed'], 'signed-off', 'signed-off', null, async (tx) => {
+		const [prof] = await tx.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1);
+		const [d] = await tx
+			.insert(decision)
+			.values({ revisionId: ctx.rev.id, kind: 'sign-off', byId: u.id, reason: note?.trim() || null, fileSha256: ctx.rev.sha256, reportSha256: run.reportSha256, gateProfileId: prof.id, gateProfileVersion: prof.version })
+			.$returningId();
+		decisionId = d.id;
+		await notifySignedOff(tx, ref(ctx), u.name);
+	});
+	return decisionId;
+}
+
+export async function assignRevision(db: Db, u: SessionUser, revisionIds: number[], assigneeId: string | null): Promise<number> {
+	assertCan(u, 'assign');
+	let n = 0;
+	await db.transaction(async (txx) => {
+		const tx = txx as unknown as Db;
+		for (const id of revisionIds) {
+			const ctx = await loadRevisionForUser(tx, u, id);
+			await tx.update(revision).set({ assigneeId, updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
+			await audit(tx, u.id, 'revision', id, 'assigned', null, null, { assigneeId });
+			n++;
+		}
+	});
+	return n;
+}
+
+export async function recheck(db: Db, u: SessionUser, ctx: Ctx): Promise<void> {
+	assertCan(u, 'recheck');
+	await transition(db, u, ctx, ['held', 'clear', 'returned', 'unreadable', 'repair-proposed'], 'awaiting-check', 'recheck-requested', null, async (tx) => {
+		await enqueueCheck(tx, ctx.rev.id, config.checkAttempts);
+	});
+}

@@ -1,0 +1,76 @@
+// Streams a multipart request into spooled temporary files (hashing on the way) with busboy, so a
+// large upload is never held in memory. Refuses as soon as a limit is passed.
+import Busboy from 'busboy';
+import { Readable } from 'node:stream';
+import { HttpError } from './revisions';
+import { discard, spool, UploadTooLargeError, type Spooled } from './storage';
+
+export interface ReceivedFile {
+	field: string;
+	fileName: string;
+	spooled: Spooled;
+}
+
+export interface Received {
+	fields: Record<string, string>;
+	files: ReceivedFile[];
+}
+
+export const MAX_FILES_PER_REQUEST = 50;
+
+export async function receiveMultipart(request: Request, limitBytes: number): Promise<Received> {
+	const type = request.headers.get('content-type') ?? '';
+	if (!type.toLowerCase().startsWith('multipart/form-data')) throw new HttpError(415, 'Send the file as multipart/form-data in a field named "file".');
+	const declared = Number(request.headers.get('content-length') ?? NaN);
+	// A declared length far over the limit is refused before a byte is read.
+	if (Number.isFinite(declared) && declared > limitBytes + 1024 * 1024) throw new HttpError(413, new UploadTooLargeError(limitBytes).message);
+	if (!request.body) throw new HttpError(400, 'The request has no body.');
+
+	const files: ReceivedFile[] = [];
+	const fields: Record<string, string> = {};
+	const pending: Promise<void>[] = [];
+	let failure: Error | null = null;
+	let bb: Busboy.Busboy;
+	try {
+		bb = Busboy({ headers: { 'content-type': type }, limits: { files: MAX_FILES_PER_REQUEST, fields: 20, fieldSize: 8 * 1024, parts: MAX_FILES_PER_REQUEST + 20 } });
+	} catch {
+		throw new HttpError(400, 'The multipart body is malformed (no boundary).');
+	}
+	const source = Readable.fromWeb(request.body as import('node:stream/web').ReadableStream);
+	await new Promise<void>((resolve) => {
+		const fail = (e: Error) => {
+			failure ??= e;
+			source.unpipe(bb);
+			source.destroy();
+			resolve();
+		};
+		bb.on('field', (name, value, info) => {
+			if (info.valueTruncated) return fail(new HttpError(400, `The field "${name.slice(0, 40)}" is too long.`));
+			fields[name] = value;
+		});
+		bb.on('file', (field, stream, info) => {
+			pending.push(
+				spool(stream, limitBytes).then(
+					(spooled) => {
+						files.push({ field, fileName: info.filename ?? 'mesh', spooled });
+					},
+					(e: Error) => {
+						stream.resume();
+						fail(e instanceof UploadTooLargeError ? new HttpError(413, e.message) : new HttpError(400, `The upload was interrupted: ${e.message}`));
+					}
+				)
+			);
+		});
+		bb.on('filesLimit', () => fail(new HttpError(413, `At most ${MAX_FILES_PER_REQUEST} files per request.`)));
+		bb.on('error', (e: Error) => fail(new HttpError(400, `The multipart body is malformed: ${e.message}`)));
+		bb.on('close', () => resolve());
+		source.on('error', (e) => fail(new HttpError(400, `The upload was interrupted: ${e.message}`)));
+		source.pipe(bb);
+	});
+	await Promise.allSettled(pending);
+	if (failure) {
+		await Promise.all(files.map((f) => discard(f.spooled)));
+		throw failure;
+	}
+	return { fields, files };
+}

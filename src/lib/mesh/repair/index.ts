@@ -1,0 +1,21 @@
+/** Repair operations: pure functions from mesh to new mesh plus counts; the input is never changed. */
+export { RepairError, type RepairResult } from './common';
+export { weldByTolerance, type WeldCounts } from './weld-tolerance';
+export { removeDegenerateAndDuplicateFaces, type DegenerateCounts } from './remove-degenerate';
+export { orientConsistently, type OrientCounts } from './orient';
+export { removeSmallShells, type SmallShellOptions, type SmallShellCounts } from './remove-small-shells';
+export { fillHoles, DEFAULT_MAX_HOLE_EDGES, MAX_HOLE_EDGES, type FillHoleOptions, type FillHoleCounts, type HoleLeft, type HoleLeftReason } from './fill-holes';
+export { collapseShortEdges, MIN_NORMAL_COS, type CollapseCounts } from './collapse-short-edges';
+export { splitNonManifoldVertices, type SplitCounts } from './split-non-manifold';
+export { meshDeviation, type MeshDeviation, type OneSidedDeviation, type DeviationOptions } from './deviation';
+export {
+	applyRecipe,
+	applyStep,
+	parseRecipe,
+	STANDARD_RECIPE,
+	MAX_RECIPE_STEPS,
+	type RepairStep,
+	type RepairOp,
+	type RepairLogEntry,
+	type RecipeResult
+} from './recipe';

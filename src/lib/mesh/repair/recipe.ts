@@ -1,0 +1,178 @@
+/**
+ * Repair recipes: an ordered list of steps, a plain validator for recipes that arrive as JSON, the
+ * standard recipe, and the runner that applies the steps and logs what each one did.
+ */
+import { bboxDiagonal, RepairError } from './common';
+import { collapseShortEdges } from './collapse-short-edges';
+import { fillHoles, MAX_HOLE_EDGES } from './fill-holes';
+import { orientConsistently } from './orient';
+import { removeDegenerateAndDuplicateFaces } from './remove-degenerate';
+import { removeSmallShells } from './remove-small-shells';
+import { splitNonManifoldVertices } from './split-non-manifold';
+import { weldByTolerance } from './weld-tolerance';
+import type { MeshBuffers } from '../types';
+
+/** Lengths are in model units unless the name says relative (then × bounding-box diagonal). */
+export type RepairStep =
+	| { op: 'weld'; tolerance: number }
+	| { op: 'weld'; relativeTolerance: number }
+	| { op: 'remove-degenerate-faces' }
+	| { op: 'remove-small-shells'; maxFaces?: number; maxAreaShare?: number; maxVolumeShare?: number }
+	| { op: 'split-non-manifold-vertices' }
+	| { op: 'orient' }
+	| { op: 'fill-holes'; maxPerimeter?: number; maxEdges?: number }
+	| { op: 'collapse-short-edges'; minLength: number };
+
+export type RepairOp = RepairStep['op'];
+
+export interface RepairLogEntry {
+	op: RepairOp;
+	/** The step as given, plus any length it resolved (e.g. the weld tolerance in model units). */
+	params: Record<string, number | string>;
+	/** What the operation reports (its counts object). */
+	counts: unknown;
+	facesBefore: number;
+	facesAfter: number;
+	ms: number;
+}
+
+export interface RecipeResult {
+	mesh: MeshBuffers;
+	log: RepairLogEntry[];
+}
+
+export const MAX_RECIPE_STEPS = 64;
+
+/** Allowed parameters per op: name → whether required. */
+const PARAMS: Record<RepairOp, Record<string, boolean>> = {
+	weld: { tolerance: false, relativeTolerance: false },
+	'remove-degenerate-faces': {},
+	'remove-small-shells': { maxFaces: false, maxAreaShare: false, maxVolumeShare: false },
+	'split-non-manifold-vertices': {},
+	orient: {},
+	'fill-holes': { maxPerimeter: false, maxEdges: false },
+	'collapse-short-edges': { minLength: true }
+};
+
+/**
+ * Checks a recipe given as JSON text or as already-parsed data, and returns it typed. Throws a
+ * RepairError naming the step and the field at fault.
+ */
+export function parseRecipe(json: unknown): RepairStep[] {
+	let data = json;
+	if (typeof json === 'string') {
+		try {
+			data = JSON.parse(json);
+		} catch (e) {
+			throw new RepairError(`recipe is not valid JSON: ${(e as Error).message}`);
+		}
+	}
+	if (!Array.isArray(data)) throw new RepairError('recipe must be a list of steps');
+	if (data.length > MAX_RECIPE_STEPS) throw new RepairError(`recipe has ${data.length} steps, more than the limit of ${MAX_RECIPE_STEPS}`);
+	const ops = Object.keys(PARAMS).join(', ');
+	return data.map((raw, i): RepairStep => {
+		const where = `recipe step ${i + 1}`;
+		if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) throw new RepairError(`${where} must be an object with an "op" field`);
+		const step = raw as Record<string, unknown>;
+		const op = step.op;
+		if (typeof op !== 'string' || !(op in PARAMS)) throw new RepairError(`${where}: unknown op ${JSON.stringify(op)}; expected one of ${ops}`);
+		const allowed = PARAMS[op as RepairOp];
+		for (const key of Object.keys(step)) {
+			if (key === 'op') continue;
+			if (!(key in allowed)) {
+				const names = Object.keys(allowed);
+				throw new RepairError(`${where} (${op}): unknown field "${key}"${names.length ? `; allowed: ${names.join(', ')}` : '; this op takes no parameters'}`);
+			}
+			const v = step[key];
+			if (typeof v !== 'number' || !Number.isFinite(v) || v <= 0) {
+				throw new RepairError(`${where} (${op}): "${key}" must be a positive finite number, got ${JSON.stringify(v)}`);
+			}
+		}
+		for (const [key, required] of Object.entries(allowed)) {
+			if (required && step[key] === undefined) throw new RepairError(`${where} (${op}): "${key}" is required`);
+		}
+		if (op === 'weld' && (step.tolerance === undefined) === (step.relativeTolerance === undefined)) {
+			throw new RepairError(`${where} (weld): give exactly one of "tolerance" (model units) or "relativeTolerance" (× bounding-box diagonal)`);
+		}
+		if (op === 'remove-small-shells' && step.maxFaces === undefined && step.maxAreaShare === undefined && step.maxVolumeShare === undefined) {
+			throw new RepairError(`${where} (remove-small-shells): give at least one of maxFaces, maxAreaShare, maxVolumeShare`);
+		}
+		for (const share of ['maxAreaShare', 'maxVolumeShare']) {
+			if (typeof step[share] === 'number' && (step[share] as number) > 1) throw new RepairError(`${where} (${op}): "${share}" is a share, at most 1`);
+		}
+		if (op === 'fill-holes' && step.maxEdges !== undefined && (!Number.isInteger(step.maxEdges) || (step.maxEdges as number) < 3 || (step.maxEdges as number) > MAX_HOLE_EDGES)) {
+			throw new RepairError(`${where} (fill-holes): "maxEdges" must be a whole number from 3 to ${MAX_HOLE_EDGES}`);
+		}
+		return { ...step } as RepairStep;
+	});
+}
+
+/**
+ * The standard recipe for a mesh meshed at about `targetCellSize` (model units; e.g. the
+ * marching-cubes cell or the intended CFD surface cell):
+ * 1. weld within 1e-6 × bbox diagonal (far above float noise of exported seams, far below a cell);
+ * 2. remove degenerate and duplicate faces;
+ * 3. remove shells under 0.1 % of the total area (the largest shell always stays);
+ * 4. split pinch vertices;
+ * 5. orient outward;
+ * 6. fill holes with a perimeter up to 20 cells (about a 6-cell-wide opening) and at most 200 edges;
+ * 7. collapse edges shorter than 0.02 cells;
+ * 8. orient again (filling and collapsing keep orientation; this is a cheap check that costs O(F)).
+ * The multipliers are choices of this product (common practice in spirit), not from a source.
+ */
+export function STANDARD_RECIPE(targetCellSize: number): RepairStep[] {
+	if (!(targetCellSize > 0) || !Number.isFinite(targetCellSize)) {
+		throw new RepairError(`standard recipe: the target cell size must be a positive number, got ${targetCellSize}`);
+	}
+	return [
+		{ op: 'weld', relativeTolerance: 1e-6 },
+		{ op: 'remove-degenerate-faces' },
+		{ op: 'remove-small-shells', maxAreaShare: 0.001 },
+		{ op: 'split-non-manifold-vertices' },
+		{ op: 'orient' },
+		{ op: 'fill-holes', maxPerimeter: 20 * targetCellSize, maxEdges: 200 },
+		{ op: 'collapse-short-edges', minLength: 0.02 * targetCellSize },
+		{ op: 'orient' }
+	];
+}
+
+/** Runs one step. */
+export function applyStep(mesh: MeshBuffers, step: RepairStep): { mesh: MeshBuffers; counts: unknown; params: Record<string, number | string> } {
+	const params: Record<string, number | string> = { ...(step as unknown as Record<string, number | string>) };
+	switch (step.op) {
+		case 'weld': {
+			const tol = 'tolerance' in step ? step.tolerance : step.relativeTolerance * bboxDiagonal(mesh);
+			params.resolvedTolerance = tol;
+			if (!(tol > 0)) return { mesh, counts: { verticesMerged: 0, facesDropped: 0 }, params };
+			return { ...weldByTolerance(mesh, tol), params };
+		}
+		case 'remove-degenerate-faces':
+			return { ...removeDegenerateAndDuplicateFaces(mesh), params };
+		case 'remove-small-shells':
+			return { ...removeSmallShells(mesh, step), params };
+		case 'split-non-manifold-vertices':
+			return { ...splitNonManifoldVertices(mesh), params };
+		case 'orient':
+			return { ...orientConsistently(mesh), params };
+		case 'fill-holes':
+			return { ...fillHoles(mesh, step), params };
+		case 'collapse-short-edges':
+			return { ...collapseShortEdges(mesh, step.minLength), params };
+	}
+}
+
+/** Applies the steps in order to a copy; the input mesh is never changed. */
+export function applyRecipe(mesh: MeshBuffers, steps: RepairStep[]): RecipeResult {
+	const checked = parseRecipe(steps);
+	const log: RepairLogEntry[] = [];
+	let current = mesh;
+	for (const step of checked) {
+		const t0 = performance.now();
+		const facesBefore = current.indices.length / 3;
+		const r = applyStep(current, step);
+		current = r.mesh;
+		log.push({ op: step.op, params: r.params, counts: r.counts, facesBefore, facesAfter: current.indices.length / 3, ms: performance.now() - t0 });
+	}
+	if (current === mesh) current = { positions: mesh.positions.slice(), indices: mesh.indices.slice() };
+	return { mesh: current, log };
+}

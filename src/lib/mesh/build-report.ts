@@ -169,12 +169,17 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	progress('projection', 70);
 	t0 = performance.now();
 	const scratch: SilhouetteScratch = { proj: new Float64Array(0), grid: new Uint8Array(0) };
+	const oneSided = new Uint8Array(triCount);
+	for (let t = 0; t < triCount; t++) {
+		const s = sh.faceShell[t];
+		if (s >= 0 && sh.boundaryEdges[s] === 0 && sh.nonManifoldEdges[s] === 0 && sh.inconsistentEdges[s] === 0) oneSided[t] = 1;
+	}
 	const cells = tol.rasterCells;
-	const px = silhouetteArea(p, idx, collapsed.mask, topo.edges, [1, 0, 0], cells, scratch);
-	const py = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 1, 0], cells, scratch);
-	const pz = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 0, 1], cells, scratch);
+	const px = silhouetteArea(p, idx, collapsed.mask, topo.edges, [1, 0, 0], cells, scratch, oneSided);
+	const py = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 1, 0], cells, scratch, oneSided);
+	const pz = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 0, 1], cells, scratch, oneSided);
 	const isAxis = (a: number) => Math.abs(flow[a]) === 1;
-	const pf = isAxis(0) ? px : isAxis(1) ? py : isAxis(2) ? pz : silhouetteArea(p, idx, collapsed.mask, topo.edges, flow, cells, scratch);
+	const pf = isAxis(0) ? px : isAxis(1) ? py : isAxis(2) ? pz : silhouetteArea(p, idx, collapsed.mask, topo.edges, flow, cells, scratch, oneSided);
 	timings.projection = performance.now() - t0;
 
 	progress('hints', 95);

@@ -1,6 +1,6 @@
 /**
  * Silhouette (frontal) area along a direction, for any shape, convex or not: every projected
- * triangle is scan-converted onto one grid by pixel-centre sampling and the covered cells are
+ * triangle (of closed consistent shells, those of one facing) is scan-converted onto one grid by pixel-centre sampling and the covered cells are
  * counted. Error bound: a cell whose centre sample can be wrong must meet the silhouette outline,
  * and the outline lies on projected edges that are "outline candidates" — boundary or non-manifold
  * edges, and two-face edges whose opposite corners project to the same side of the edge (folds,
@@ -50,7 +50,8 @@ export function silhouetteArea(
 	et: EdgeTable,
 	direction: Vec3,
 	cells: number,
-	scratch?: SilhouetteScratch
+	scratch?: SilhouetteScratch,
+	oneSided?: Uint8Array
 ): SilhouetteArea {
 	const vertCount = (positions.length / 3) | 0;
 	const triCount = (indices.length / 3) | 0;
@@ -93,7 +94,11 @@ export function silhouetteArea(
 		const ax = (proj[a2] - x0) * inv - 0.5, ay = (proj[a2 + 1] - y0) * inv - 0.5;
 		const bx = (proj[b2] - x0) * inv - 0.5, by = (proj[b2 + 1] - y0) * inv - 0.5;
 		const cx = (proj[c2] - x0) * inv - 0.5, cy = (proj[c2 + 1] - y0) * inv - 0.5;
-		if ((bx - ax) * (cy - ay) - (by - ay) * (cx - ax) === 0) continue; // edge-on: no area
+		const cross = (bx - ax) * (cy - ay) - (by - ay) * (cx - ax);
+		if (cross === 0) continue; // edge-on: no area
+		// A line along the direction that meets a closed, consistently oriented shell crosses it
+		// as often forwards as backwards, so the faces of one facing cover that shell's shadow.
+		if (cross < 0 && oneSided !== undefined && oneSided[t] === 1) continue;
 		const ymin = Math.min(ay, by, cy), ymax = Math.max(ay, by, cy);
 		let r0 = Math.ceil(ymin), r1 = Math.floor(ymax);
 		if (r0 < 0) r0 = 0;
@@ -119,7 +124,9 @@ export function silhouetteArea(
 			let c0 = Math.ceil(xl), c1 = Math.floor(xr);
 			if (c0 < 0) c0 = 0;
 			if (c1 > nx - 1) c1 = nx - 1;
-			if (c1 >= c0) grid.fill(1, r * nx + c0, r * nx + c1 + 1);
+			const row = r * nx;
+			if (c1 - c0 < 16) for (let c = c0; c <= c1; c++) grid[row + c] = 1;
+			else grid.fill(1, row + c0, row + c1 + 1);
 		}
 	}
 	let covered = 0;

@@ -49,6 +49,10 @@ export const config = {
 	get checkWorkers() {
 		return num('CHECK_WORKERS', 1);
 	},
+	/** Threads one check uses for its self-intersection stage. */
+	get checkThreads() {
+		return Math.max(1, num('CHECK_THREADS', 2));
+	},
 	get checkTimeLimitMs() {
 		return num('CHECK_TIME_LIMIT_S', 300) * 1000;
 	},

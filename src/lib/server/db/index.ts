@@ -13,6 +13,7 @@ export function getPool(): mysql.Pool {
 	pool ??= mysql.createPool({
 		uri: config.databaseUrl,
 		connectionLimit: 10,
+		charset: 'utf8mb4',
 		// Fail fast while MariaDB is down instead of queueing requests forever.
 		connectTimeout: 5000,
 		enableKeepAlive: true,

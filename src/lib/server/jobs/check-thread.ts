@@ -2,6 +2,7 @@
 // Imports only src/lib/mesh, so a worker thread loads no server or database code.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
 import { inspectBytes } from '../../mesh/inspect';
+import { inspectFileNode } from '../../mesh/inspect-node';
 import { MeshReadError } from '../../mesh/types';
 import type { InspectOptions } from '../../mesh/report';
 
@@ -12,6 +13,8 @@ export interface CheckThreadInput {
 	bytes: Uint8Array;
 	fileName: string;
 	options: InspectOptions;
+	/** Worker threads for the self-intersection stage, inside this thread. */
+	threads: number;
 }
 
 export type CheckThreadMessage =
@@ -20,14 +23,19 @@ export type CheckThreadMessage =
 	| { type: 'refused'; message: string }
 	| { type: 'error'; message: string };
 
-export function runCheckThread(): void {
+export async function runCheckThread(): Promise<void> {
 	if (isMainThread || !parentPort) throw new Error('runCheckThread must run in a worker thread');
 	const port = parentPort;
 	const input = workerData as CheckThreadInput;
 	const post = (m: CheckThreadMessage) => port.postMessage(m);
 	try {
-		post({ type: 'progress', stage: 'reading', percent: 5 });
-		const report = inspectBytes(input.bytes, input.fileName, input.options);
+		// Small files: starting more threads would cost more than the whole check.
+		const small = input.bytes.byteLength < 4 * 1024 * 1024;
+		const report = small ? inspectBytes(input.bytes, input.fileName, input.options) : await inspectFileNode(input.bytes, input.fileName, {
+			...input.options,
+			threads: input.threads,
+			onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
+		});
 		post({ type: 'progress', stage: 'storing', percent: 95 });
 		post({ type: 'done', report });
 	} catch (e) {

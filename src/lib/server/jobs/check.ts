@@ -111,7 +111,8 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 					minEdgeLength: minEdgeThreshold(rules, gctx) ?? 0,
 					maxFaces: config.maxFaces,
 					fileName: ctx.rev.fileName
-				}
+				},
+				threads: config.checkThreads
 			},
 			limits,
 			beat,

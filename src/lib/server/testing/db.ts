@@ -12,7 +12,7 @@ export async function useFreshDatabase(label: string): Promise<{ url: string; dr
 	const u = new URL(base);
 	const name = `shellgate_test_${label.replace(/[^a-z0-9]/gi, '_').slice(0, 24)}_${Math.random().toString(36).slice(2, 8)}`;
 	const admin = await mysql.createConnection({ uri: base });
-	await admin.query(`CREATE DATABASE \`${name}\``);
+	await admin.query(`CREATE DATABASE \`${name}\` CHARACTER SET utf8mb4 COLLATE utf8mb4_unicode_ci`);
 	await admin.end();
 	u.pathname = `/${name}`;
 	const url = u.toString();

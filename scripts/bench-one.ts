@@ -1,0 +1,85 @@
+/**
+ * One benchmark case on one mesh file, in its own process so peak memory (maxRSS, which includes
+ * worker threads) belongs to this case alone. Prints one JSON line on stdout; scripts/bench.ts
+ * spawns it and builds the table.
+ *
+ *   tsx scripts/bench-one.ts CASE FILE
+ *
+ * To add a case: add an entry to CASES returning stage timings (ms) and optional extra figures.
+ */
+import { existsSync, readFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import { readMesh } from '../src/lib/mesh/read';
+import { inspectMesh } from '../src/lib/mesh/inspect';
+import { findSelfIntersections } from '../src/lib/mesh/self-intersect';
+import { findSelfIntersectionsParallel } from '../src/lib/mesh/self-intersect-node';
+
+export interface CaseOutput {
+	/** Wall time of the whole case, from the file bytes in memory to the result. */
+	wallMs: number;
+	stages: Record<string, number>;
+	extra?: Record<string, number | string>;
+}
+
+type BenchCase = (bytes: Uint8Array, fileName: string) => Promise<CaseOutput>;
+
+const inspectNodePath = fileURLToPath(new URL('../src/lib/mesh/inspect-node.ts', import.meta.url));
+
+export const CASES: Record<string, BenchCase> = {
+	/** The whole report: inspect-node.ts when it exists (self-intersections on workers beside topology), else the single-thread path. */
+	async report(bytes, fileName) {
+		const t0 = performance.now();
+		if (existsSync(inspectNodePath)) {
+			const mod = (await import(inspectNodePath)) as {
+				inspectFileNode: (b: Uint8Array, n: string, o: object) => Promise<{ timings: Record<string, number>; selfIntersectingPairs: number | null }>;
+			};
+			const report = await mod.inspectFileNode(bytes, fileName, {});
+			return { wallMs: performance.now() - t0, stages: report.timings, extra: { pairs: report.selfIntersectingPairs ?? -1, path: 'inspect-node' } };
+		}
+		const parsed = readMesh(bytes, fileName);
+		const readMs = performance.now() - t0;
+		const siP = findSelfIntersectionsParallel(parsed, { threads: 1 });
+		const report = inspectMesh(parsed, { skipSelfIntersections: true, timings: { read: readMs } });
+		const si = await siP;
+		const stages = { ...report.timings, selfIntersect: si.ms };
+		delete stages.total;
+		return { wallMs: performance.now() - t0, stages, extra: { pairs: si.pairs, path: 'inspect + 1 worker' } };
+	},
+
+	'self-intersect-1t': (bytes, fileName) => selfIntersectCase(bytes, fileName, 0),
+	'self-intersect-2w': (bytes, fileName) => selfIntersectCase(bytes, fileName, 2)
+};
+
+/** threads 0: findSelfIntersections on this thread; else that many workers. */
+async function selfIntersectCase(bytes: Uint8Array, fileName: string, threads: number): Promise<CaseOutput> {
+	const parsed = readMesh(bytes, fileName);
+	const t0 = performance.now();
+	const r = threads === 0 ? findSelfIntersections(parsed) : await findSelfIntersectionsParallel(parsed, { threads });
+	const wallMs = performance.now() - t0;
+	const s = r.stats!;
+	return {
+		wallMs,
+		stages: { buildBvh: s.buildMs, traverse: s.traverseMs },
+		extra: { pairs: r.pairs, candidatePairs: s.candidatePairs, exactTests: s.exactTests }
+	};
+}
+
+async function main(): Promise<void> {
+	const [caseName, file] = process.argv.slice(2);
+	const run = CASES[caseName];
+	if (!run || !file) {
+		console.error(`usage: tsx scripts/bench-one.ts CASE FILE   (cases: ${Object.keys(CASES).join(', ')})`);
+		process.exit(2);
+	}
+	const bytes = new Uint8Array(readFileSync(file));
+	const out = await run(bytes, file);
+	const maxRssMB = process.resourceUsage().maxRSS / 1024; // maxRSS is in kilobytes
+	process.stdout.write(JSON.stringify({ case: caseName, file, ...out, maxRssMB }) + '\n');
+}
+
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
+	main().catch((e) => {
+		console.error(e instanceof Error ? e.stack : e);
+		process.exit(1);
+	});
+}

@@ -1,0 +1,126 @@
+/**
+ * `npm run bench`: marching-cubes tow bodies (fixed seed) at about 100 k, 1 M and 2 M triangles,
+ * written as binary STL into bench-out/ (kept between runs), then every bench case run on every
+ * size, each in its own child process (scripts/bench-one.ts) so peak memory does not mix.
+ *
+ * Env: BENCH_SIZES=100k,1m (subset of sizes), BENCH_CASES=report (subset of cases), BENCH_REGEN=1.
+ * To add a row kind, add a case in scripts/bench-one.ts and its name to CASE_ORDER below.
+ */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { createRequire } from 'node:module';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { towBody, type ImplicitShape } from '../src/lib/mesh/implicit-shapes';
+import { gridFor, marchingCubes } from '../src/lib/mesh/marching-cubes';
+import { writeBinaryStl } from '../src/lib/mesh/write';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+const outDir = join(root, 'bench-out');
+
+interface SizeSpec {
+	id: string;
+	targetTris: number;
+	shape: () => ImplicitShape;
+}
+
+const SIZES: SizeSpec[] = [
+	{ id: '100k', targetTris: 100_000, shape: () => towBody(1) },
+	{ id: '1m', targetTris: 1_000_000, shape: () => towBody(1) },
+	{ id: '2m', targetTris: 2_000_000, shape: () => towBody(1) }
+];
+
+const CASE_ORDER = ['report', 'self-intersect-1t', 'self-intersect-2w'];
+
+/** Triangle count scales as 1 / cell²: calibrate on a coarse grid, then pick the cell size. */
+function cellFor(shape: ImplicitShape, targetTris: number): number {
+	const c0 = 0.04;
+	const t0 = marchingCubes(shape.field, gridFor(shape.min, shape.max, c0)).indices.length / 3;
+	return c0 * Math.sqrt(t0 / targetTris);
+}
+
+function ensureMesh(size: SizeSpec): { file: string; tris: number; genMs: number } {
+	const file = join(outDir, `tow-body-${size.id}.stl`);
+	const metaFile = file + '.json';
+	if (existsSync(file) && existsSync(metaFile) && !process.env.BENCH_REGEN) {
+		const meta = JSON.parse(readFileSync(metaFile, 'utf8'));
+		return { file, tris: meta.tris, genMs: meta.genMs };
+	}
+	const t0 = performance.now();
+	const shape = size.shape();
+	const cell = cellFor(shape, size.targetTris);
+	const mesh = marchingCubes(shape.field, gridFor(shape.min, shape.max, cell));
+	writeFileSync(file, writeBinaryStl(mesh));
+	const tris = mesh.indices.length / 3;
+	const genMs = performance.now() - t0;
+	writeFileSync(metaFile, JSON.stringify({ shape: shape.name, seed: 1, cell, tris, genMs }));
+	return { file, tris, genMs };
+}
+
+interface Row {
+	size: string;
+	tris: number;
+	case: string;
+	wallMs: number;
+	stages: Record<string, number>;
+	extra?: Record<string, number | string>;
+	maxRssMB: number;
+}
+
+function runCase(caseName: string, file: string): Omit<Row, 'size' | 'tris'> {
+	const tsxCli = createRequire(import.meta.url).resolve('tsx/cli');
+	const res = spawnSync(process.execPath, [tsxCli, join(root, 'scripts/bench-one.ts'), caseName, file], {
+		encoding: 'utf8',
+		maxBuffer: 1 << 24
+	});
+	if (res.status !== 0) throw new Error(`bench case ${caseName} on ${file} failed:\n${res.stderr}`);
+	const line = res.stdout.trim().split('\n').pop()!;
+	return JSON.parse(line);
+}
+
+const fmt = (ms: number) => (ms >= 100 ? ms.toFixed(0) : ms.toFixed(1));
+
+function main(): void {
+	mkdirSync(outDir, { recursive: true });
+	const sizeFilter = process.env.BENCH_SIZES?.split(',');
+	const caseFilter = process.env.BENCH_CASES?.split(',');
+	const sizes = SIZES.filter((s) => !sizeFilter || sizeFilter.includes(s.id));
+	const cases = CASE_ORDER.filter((c) => !caseFilter || caseFilter.includes(c));
+	const rows: Row[] = [];
+	for (const size of sizes) {
+		const { file, tris, genMs } = ensureMesh(size);
+		console.log(`mesh ${size.id}: ${tris.toLocaleString('en')} triangles (${file}, generated in ${fmt(genMs)} ms)`);
+		for (const c of cases) {
+			const r = runCase(c, file);
+			rows.push({ size: size.id, tris, ...r });
+			console.log(`  ${c}: ${fmt(r.wallMs)} ms, peak RSS ${r.maxRssMB.toFixed(0)} MB`);
+		}
+	}
+
+	console.log('\n| size | triangles | case | wall ms | peak RSS MB | stages (ms) | figures |');
+	console.log('|---|---:|---|---:|---:|---|---|');
+	for (const r of rows) {
+		const stages = Object.entries(r.stages).map(([k, v]) => `${k} ${fmt(v)}`).join(', ');
+		const extra = Object.entries(r.extra ?? {}).map(([k, v]) => `${k} ${typeof v === 'number' ? v.toLocaleString('en') : v}`).join(', ');
+		console.log(`| ${r.size} | ${r.tris.toLocaleString('en')} | ${r.case} | ${fmt(r.wallMs)} | ${r.maxRssMB.toFixed(0)} | ${stages} | ${extra} |`);
+	}
+
+	const pick = (size: string, c: string) => rows.find((r) => r.size === size && r.case === c);
+	console.log('');
+	for (const c of cases) {
+		const a = pick('1m', c), b = pick('2m', c);
+		if (a && b) {
+			const ratio = b.wallMs / a.wallMs;
+			console.log(`${c}: 2M / 1M time ratio ${ratio.toFixed(2)}× (target ≤ 2.1×) ${ratio <= 2.1 ? 'PASS' : 'FAIL'}`);
+		}
+	}
+	const rep = pick('1m', 'report');
+	if (rep) {
+		console.log(`report 1M wall ${fmt(rep.wallMs)} ms (target < 1200 ms) ${rep.wallMs < 1200 ? 'PASS' : 'FAIL'}`);
+		console.log(`report 1M peak RSS ${rep.maxRssMB.toFixed(0)} MB (target < 1536 MB) ${rep.maxRssMB < 1536 ? 'PASS' : 'FAIL'}`);
+	}
+	const si = pick('1m', 'self-intersect-2w');
+	if (si) console.log(`self-intersections 1M on 2 workers ${fmt(si.wallMs)} ms (goal ≲ 500 ms) ${si.wallMs <= 500 ? 'PASS' : 'FAIL'}`);
+}
+
+main();

@@ -87,6 +87,12 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	};
 
 	progress('topology', 0);
+	const pos = parsed.positions;
+	for (let i = 0; i < pos.length; i++) {
+		if (!Number.isFinite(pos[i])) {
+			throw new RangeError(`vertex ${(i / 3) | 0} has a coordinate that is not a finite number (${pos[i]}); the mesh cannot be measured`);
+		}
+	}
 	let t0 = performance.now();
 	const collapsed = opts.collapsed ?? collapsedFaces(parsed.indices);
 	const topo = analyseTopology(parsed.indices, vertCount, collapsed.mask);
@@ -228,7 +234,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		shells,
 		eulerCharacteristic: topo.referencedVertices - topo.edges.edgeCount + topo.activeFaces,
 		genus: genusSum,
-		watertight: topo.boundaryEdges === 0 && topo.nonManifoldEdges === 0 && topo.nonManifoldVertices === 0,
+		watertight: topo.activeFaces > 0 && topo.boundaryEdges === 0 && topo.nonManifoldEdges === 0 && topo.nonManifoldVertices === 0,
 		selfIntersectingPairs: si ? si.pairs : null,
 		selfIntersectionSample: si ? si.sample.map((x) => ({ a: x.a, b: x.b, point: [x.point[0], x.point[1], x.point[2]] as Vec3 })) : [],
 		degenerateFaces: fm.degenerateCount,

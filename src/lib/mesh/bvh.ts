@@ -153,9 +153,10 @@ export function buildBvhSorted(codes: Uint32Array, boxes: Float64Array, leafSize
 	return {
 		nodeCount,
 		bounds,
-		firstChild: firstChild.slice(0, nodeCount),
-		start: start.slice(0, nodeCount),
-		count: count.slice(0, nodeCount),
+		// Views, not copies: the unused tail was never written, so its pages were never touched.
+		firstChild: firstChild.subarray(0, nodeCount),
+		start: start.subarray(0, nodeCount),
+		count: count.subarray(0, nodeCount),
 		order: new Uint32Array(0)
 	};
 }

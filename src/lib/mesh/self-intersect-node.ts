@@ -11,9 +11,12 @@
  * extension .ts", and tsx's ESM `register()` API fails inside an eval'd worker, while the CommonJS
  * hook works, including for ESM-only dependencies such as robust-predicates.
  *
- * Work split: the mesh buffers are copied once into SharedArrayBuffers; every worker builds the
- * same deterministic BVH and task list (self-intersect.ts `makeTasks`), then takes tasks from a
- * shared Atomics counter until none are left. Tasks partition the face-pair space, so the shard
+ * Work split: the mesh buffers are copied once into SharedArrayBuffers. The workers share the
+ * setup (each encodes a share of the faces; worker 0 sorts; each gathers a share of the slots,
+ * with Atomics barriers between the steps), then each builds the same deterministic BVH and task
+ * list (self-intersect.ts `makeTasks`) and takes tasks from a shared Atomics counter until none
+ * are left. A failing worker rejects the promise and all workers are terminated, so none waits
+ * forever at a barrier. Tasks partition the face-pair space, so the shard
  * counts sum exactly to the single-threaded count. Samples are merged, sorted by face ids, capped.
  *
  * Cancellation: pass an AbortSignal; all workers are terminated and the promise rejects.
@@ -21,12 +24,20 @@
 import { availableParallelism } from 'node:os';
 import { createRequire } from 'node:module';
 import { Worker, isMainThread, parentPort, workerData } from 'node:worker_threads';
+import { buildBvhSorted } from './bvh';
 import {
 	DEFAULT_SAMPLE_LIMIT,
 	DEFAULT_TASK_TARGET,
+	LEAF_SIZE,
+	codeFrame,
+	encodeFaces,
 	findInPrepared,
-	prepareMesh,
-	type SelfIntersectionResult
+	gatherSlots,
+	sortLiveFaces,
+	validateMesh,
+	type PreparedMesh,
+	type SelfIntersectionResult,
+	type SlotArrays
 } from './self-intersect';
 import type { MeshBuffers } from './types';
 
@@ -39,11 +50,24 @@ export interface ParallelSelfIntersectionOptions {
 
 interface WorkerInput {
 	kind: 'shellgate-self-intersect';
+	threads: number;
+	faceCount: number;
 	positions: SharedArrayBuffer;
 	positionCount: number;
 	indices: SharedArrayBuffer;
-	indexCount: number;
-	counter: SharedArrayBuffer;
+	/** Per face: 1 = nonzero area. */
+	live: SharedArrayBuffer;
+	rawCodes: SharedArrayBuffer;
+	sortedCodes: SharedArrayBuffer;
+	slotFace: SharedArrayBuffer;
+	/** Slot arrays, sized for faceCount slots (only liveCount are used). */
+	faceOf: SharedArrayBuffer;
+	verts: SharedArrayBuffer;
+	tp: SharedArrayBuffer;
+	pl: SharedArrayBuffer;
+	box: SharedArrayBuffer;
+	/** Int32: [0] next task, [1..3] barriers, [4] live face count. */
+	control: SharedArrayBuffer;
 	sampleLimit: number;
 	taskTarget: number;
 }
@@ -53,22 +77,64 @@ interface WorkerOutput {
 	error?: string;
 }
 
-/** Worker side: run the shards handed out by the shared counter and post the partial result. */
+const CTRL_TASK = 0, CTRL_LIVE = 4;
+
+/** Blocks until all `threads` workers reached barrier `slot` (each slot is used once). */
+function barrier(ctrl: Int32Array, slot: number, threads: number): void {
+	if (Atomics.add(ctrl, slot, 1) + 1 === threads) {
+		Atomics.notify(ctrl, slot);
+		return;
+	}
+	for (let v = Atomics.load(ctrl, slot); v < threads; v = Atomics.load(ctrl, slot)) Atomics.wait(ctrl, slot, v);
+}
+
+const share = (from: number, to: number, k: number, n: number) => [from + Math.floor(((to - from) * k) / n), from + Math.floor(((to - from) * (k + 1)) / n)];
+
+/**
+ * Worker side. Setup is split between the workers: encode a share of the faces, worker 0 sorts,
+ * gather a share of the slots, then each builds the (identical) tree over the shared slot arrays
+ * and takes traversal tasks from the shared counter. Posts its partial result.
+ */
 export function runSelfIntersectWorker(): void {
 	if (isMainThread || !parentPort) throw new Error('runSelfIntersectWorker must run inside a worker thread.');
-	const input = workerData as WorkerInput;
+	const input = workerData as WorkerInput & { index: number };
 	const port = parentPort;
 	try {
 		const t0 = performance.now();
+		const { threads, faceCount, index } = input;
+		const ctrl = new Int32Array(input.control);
 		const mesh: MeshBuffers = {
 			positions: new Float64Array(input.positions, 0, input.positionCount),
-			indices: new Uint32Array(input.indices, 0, input.indexCount)
+			indices: new Uint32Array(input.indices, 0, 3 * faceCount)
 		};
-		const prep = prepareMesh(mesh);
-		const counter = new Int32Array(input.counter);
+		const live = new Uint8Array(input.live);
+		const rawCodes = new Uint32Array(input.rawCodes);
+		const [f0, f1] = share(0, faceCount, index, threads);
+		encodeFaces(mesh, codeFrame(mesh.positions), f0, f1, live, rawCodes);
+		barrier(ctrl, 1, threads);
+		if (index === 0) {
+			const { codes, slotFace } = sortLiveFaces(live, rawCodes, faceCount);
+			new Uint32Array(input.sortedCodes).set(codes);
+			new Uint32Array(input.slotFace).set(slotFace);
+			Atomics.store(ctrl, CTRL_LIVE, slotFace.length);
+		}
+		barrier(ctrl, 2, threads);
+		const liveCount = Atomics.load(ctrl, CTRL_LIVE);
+		const slots: SlotArrays = {
+			faceOf: new Uint32Array(input.faceOf, 0, liveCount),
+			verts: new Uint32Array(input.verts, 0, 3 * liveCount),
+			tp: new Float64Array(input.tp, 0, 9 * liveCount),
+			pl: new Float64Array(input.pl, 0, 6 * liveCount),
+			box: new Float64Array(input.box, 0, 6 * liveCount)
+		};
+		const [s0, s1] = share(0, liveCount, index, threads);
+		gatherSlots(mesh, new Uint32Array(input.slotFace, 0, liveCount), s0, s1, slots);
+		barrier(ctrl, 3, threads);
+		const bvh = buildBvhSorted(new Uint32Array(input.sortedCodes, 0, liveCount), slots.box, LEAF_SIZE);
+		const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, ...slots, bvh };
 		const result = findInPrepared(
 			prep,
-			{ sampleLimit: input.sampleLimit, taskTarget: input.taskTarget, shard: { nextTask: () => Atomics.add(counter, 0, 1) } },
+			{ sampleLimit: input.sampleLimit, taskTarget: input.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } },
 			performance.now() - t0
 		);
 		port.postMessage({ result } satisfies WorkerOutput);
@@ -99,20 +165,32 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 	const threads = Math.max(1, Math.floor(opts.threads ?? availableParallelism()));
 	const sampleLimit = opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT;
 	if (opts.signal?.aborted) throw new Error('Self-intersection check was cancelled.');
+	validateMesh(mesh);
+	const faceCount = mesh.indices.length / 3;
 	const posBuf = new SharedArrayBuffer(mesh.positions.byteLength);
 	new Float64Array(posBuf).set(mesh.positions);
 	const idxBuf = new SharedArrayBuffer(mesh.indices.byteLength);
 	new Uint32Array(idxBuf).set(mesh.indices);
-	const counter = new SharedArrayBuffer(4);
+	// Untouched pages of a SharedArrayBuffer cost nothing, so slot arrays are sized for every face.
 	const data: WorkerInput & { moduleUrl: string; tsxHook: string | null } = {
 		kind: 'shellgate-self-intersect',
 		moduleUrl: import.meta.url,
 		tsxHook: tsxHookPath(),
+		threads,
+		faceCount,
 		positions: posBuf,
 		positionCount: mesh.positions.length,
 		indices: idxBuf,
-		indexCount: mesh.indices.length,
-		counter,
+		live: new SharedArrayBuffer(faceCount),
+		rawCodes: new SharedArrayBuffer(4 * faceCount),
+		sortedCodes: new SharedArrayBuffer(4 * faceCount),
+		slotFace: new SharedArrayBuffer(4 * faceCount),
+		faceOf: new SharedArrayBuffer(4 * faceCount),
+		verts: new SharedArrayBuffer(12 * faceCount),
+		tp: new SharedArrayBuffer(72 * faceCount),
+		pl: new SharedArrayBuffer(48 * faceCount),
+		box: new SharedArrayBuffer(48 * faceCount),
+		control: new SharedArrayBuffer(4 * 8),
 		sampleLimit,
 		taskTarget: Math.max(DEFAULT_TASK_TARGET, 64 * threads)
 	};
@@ -124,8 +202,8 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 	opts.signal?.addEventListener('abort', onAbort, { once: true });
 	try {
 		const parts = await Promise.all(
-			Array.from({ length: threads }, () => {
-				const w = new Worker(WORKER_SOURCE, { eval: true, workerData: data });
+			Array.from({ length: threads }, (_, index) => {
+				const w = new Worker(WORKER_SOURCE, { eval: true, workerData: { ...data, index } });
 				workers.push(w);
 				return new Promise<SelfIntersectionResult>((resolve, reject) => {
 					w.once('message', (msg: WorkerOutput) => (msg.result ? resolve(msg.result) : reject(new Error(msg.error ?? 'Self-intersection worker failed.'))));

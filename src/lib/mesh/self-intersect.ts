@@ -113,22 +113,34 @@ function isDegenerate(positions: Float64Array, a: number, b: number, c: number):
 	return isDegenerateTriangle(positions, a, b, c);
 }
 
-/**
- * Gathers the non-degenerate faces and builds the hierarchy. Throws on malformed buffers.
- * Passes: position bounds; per face in file order (corners, degeneracy, Morton code of the box
- * centre); radix sort; one gather into Morton order, from which boxes, planes and node bounds are
- * computed reading memory in sequence.
- */
-export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
+/** Checks buffer shapes, index range and finite coordinates; throws a message a person can act on. */
+export function validateMesh(mesh: MeshBuffers): void {
 	const { positions, indices } = mesh;
 	if (indices.length % 3 !== 0) throw new Error(`Triangle index buffer length ${indices.length} is not a multiple of 3.`);
 	if (positions.length % 3 !== 0) throw new Error(`Position buffer length ${positions.length} is not a multiple of 3.`);
-	const faceCount = indices.length / 3;
 	const vertCount = positions.length / 3;
+	for (let i = 0; i < positions.length; i++) {
+		if (!Number.isFinite(positions[i])) throw new Error(`Vertex ${Math.floor(i / 3)} has a non-finite coordinate.`);
+	}
+	for (let i = 0; i < indices.length; i++) {
+		if (indices[i] >= vertCount) throw new Error(`Face ${Math.floor(i / 3)} refers to vertex ${indices[i]}, but the mesh has ${vertCount} vertices.`);
+	}
+}
+
+/** Morton quantisation of box centres (times two), from the bounds of all positions. */
+export interface CodeFrame {
+	lx: number;
+	ly: number;
+	lz: number;
+	sx: number;
+	sy: number;
+	sz: number;
+}
+
+export function codeFrame(positions: Float64Array): CodeFrame {
 	let lx = Infinity, ly = Infinity, lz = Infinity, hx = -Infinity, hy = -Infinity, hz = -Infinity;
 	for (let v3 = 0; v3 < positions.length; v3 += 3) {
 		const x = positions[v3], y = positions[v3 + 1], z = positions[v3 + 2];
-		if (!(Number.isFinite(x) && Number.isFinite(y) && Number.isFinite(z))) throw new Error(`Vertex ${v3 / 3} has a non-finite coordinate.`);
 		if (x < lx) lx = x;
 		if (x > hx) hx = x;
 		if (y < ly) ly = y;
@@ -136,18 +148,24 @@ export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 		if (z < lz) lz = z;
 		if (z > hz) hz = z;
 	}
-	// Box centres times two lie in [2·lo, 2·hi].
-	const sx = mortonScale(2 * lx, 2 * hx), sy = mortonScale(2 * ly, 2 * hy), sz = mortonScale(2 * lz, 2 * hz);
-	const live = new Uint32Array(faceCount);
-	const rawCodes = new Uint32Array(faceCount);
-	let liveCount = 0;
-	for (let t = 0; t < faceCount; t++) {
+	return { lx: 2 * lx, ly: 2 * ly, lz: 2 * lz, sx: mortonScale(2 * lx, 2 * hx), sy: mortonScale(2 * ly, 2 * hy), sz: mortonScale(2 * lz, 2 * hz) };
+}
+
+/**
+ * Faces [from, to): live[t] = 1 for faces of nonzero area (else 0), codes[t] = Morton code of the
+ * box centre. Buffers must already be valid (validateMesh).
+ */
+export function encodeFaces(mesh: MeshBuffers, frame: CodeFrame, from: number, to: number, live: Uint8Array, codes: Uint32Array): void {
+	const { positions, indices } = mesh;
+	const { lx, ly, lz, sx, sy, sz } = frame;
+	for (let t = from; t < to; t++) {
 		const t3 = 3 * t;
 		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
-		if (a >= vertCount || b >= vertCount || c >= vertCount) {
-			throw new Error(`Face ${t} refers to vertex ${Math.max(a, b, c)}, but the mesh has ${vertCount} vertices.`);
+		if (isDegenerate(positions, a, b, c)) {
+			live[t] = 0;
+			continue;
 		}
-		if (isDegenerate(positions, a, b, c)) continue;
+		live[t] = 1;
 		const a3 = 3 * a, b3 = 3 * b, c3 = 3 * c;
 		const ax = positions[a3], ay = positions[a3 + 1], az = positions[a3 + 2];
 		const bx = positions[b3], by = positions[b3 + 1], bz = positions[b3 + 2];
@@ -155,17 +173,56 @@ export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 		const mx = (ax < bx ? (ax < cx ? ax : cx) : bx < cx ? bx : cx) + (ax > bx ? (ax > cx ? ax : cx) : bx > cx ? bx : cx);
 		const my = (ay < by ? (ay < cy ? ay : cy) : by < cy ? by : cy) + (ay > by ? (ay > cy ? ay : cy) : by > cy ? by : cy);
 		const mz = (az < bz ? (az < cz ? az : cz) : bz < cz ? bz : cz) + (az > bz ? (az > cz ? az : cz) : bz > cz ? bz : cz);
-		rawCodes[liveCount] = morton3(((mx - 2 * lx) * sx) | 0, ((my - 2 * ly) * sy) | 0, ((mz - 2 * lz) * sz) | 0);
-		live[liveCount++] = t;
+		codes[t] = morton3(((mx - lx) * sx) | 0, ((my - ly) * sy) | 0, ((mz - lz) * sz) | 0);
 	}
-	const { codes, order } = sortByCode(rawCodes.subarray(0, liveCount));
-	const faceOf = new Uint32Array(liveCount);
-	const verts = new Uint32Array(3 * liveCount);
-	const tp = new Float64Array(9 * liveCount);
-	const pl = new Float64Array(6 * liveCount);
-	const box = new Float64Array(6 * liveCount);
-	for (let k = 0; k < liveCount; k++) {
-		const t = live[order[k]];
+}
+
+/**
+ * Sorts the live faces by code. Returns the sorted codes and slotFace (slot → face), length liveCount.
+ */
+export function sortLiveFaces(live: Uint8Array, codes: Uint32Array, faceCount: number): { codes: Uint32Array; slotFace: Uint32Array } {
+	let liveCount = 0;
+	for (let t = 0; t < faceCount; t++) liveCount += live[t];
+	const liveFace = new Uint32Array(liveCount);
+	const liveCodes = new Uint32Array(liveCount);
+	for (let t = 0, k = 0; t < faceCount; t++) {
+		if (live[t]) {
+			liveFace[k] = t;
+			liveCodes[k++] = codes[t];
+		}
+	}
+	const sorted = sortByCode(liveCodes);
+	const slotFace = sorted.order;
+	for (let k = 0; k < liveCount; k++) slotFace[k] = liveFace[slotFace[k]];
+	return { codes: sorted.codes, slotFace };
+}
+
+/** Slot-ordered arrays of the prepared mesh (may live in SharedArrayBuffers). */
+export interface SlotArrays {
+	faceOf: Uint32Array;
+	verts: Uint32Array;
+	tp: Float64Array;
+	pl: Float64Array;
+	box: Float64Array;
+}
+
+export function allocSlotArrays(liveCount: number, shared = false): SlotArrays {
+	const buf = (bytes: number) => (shared ? new SharedArrayBuffer(bytes) : new ArrayBuffer(bytes));
+	return {
+		faceOf: new Uint32Array(buf(4 * liveCount)),
+		verts: new Uint32Array(buf(12 * liveCount)),
+		tp: new Float64Array(buf(72 * liveCount)),
+		pl: new Float64Array(buf(48 * liveCount)),
+		box: new Float64Array(buf(48 * liveCount))
+	};
+}
+
+/** Fills slots [from, to) of `out` from the faces slotFace[from .. to − 1]. */
+export function gatherSlots(mesh: MeshBuffers, slotFace: Uint32Array, from: number, to: number, out: SlotArrays): void {
+	const { positions, indices } = mesh;
+	const { faceOf, verts, tp, pl, box } = out;
+	for (let k = from; k < to; k++) {
+		const t = slotFace[k];
 		faceOf[k] = t;
 		const t3 = 3 * t;
 		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
@@ -197,8 +254,28 @@ export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 		box[k6 + 4] = ay > by ? (ay > cy ? ay : cy) : by > cy ? by : cy;
 		box[k6 + 5] = az > bz ? (az > cz ? az : cz) : bz > cz ? bz : cz;
 	}
-	const bvh = buildBvhSorted(codes, box, 4);
-	return { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, faceOf, verts, tp, pl, box, bvh };
+}
+
+export const LEAF_SIZE = 4;
+
+/**
+ * Gathers the non-degenerate faces and builds the hierarchy. Throws on malformed buffers.
+ * Passes: validation; per face in file order (degeneracy, Morton code of the box centre); radix
+ * sort; one gather into Morton order, from which boxes, planes and node bounds are computed
+ * reading memory in sequence. self-intersect-node.ts runs the same passes split over workers.
+ */
+export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
+	validateMesh(mesh);
+	const faceCount = mesh.indices.length / 3;
+	const live = new Uint8Array(faceCount);
+	const rawCodes = new Uint32Array(faceCount);
+	encodeFaces(mesh, codeFrame(mesh.positions), 0, faceCount, live, rawCodes);
+	const { codes, slotFace } = sortLiveFaces(live, rawCodes, faceCount);
+	const liveCount = slotFace.length;
+	const slots = allocSlotArrays(liveCount);
+	gatherSlots(mesh, slotFace, 0, liveCount, slots);
+	const bvh = buildBvhSorted(codes, slots.box, LEAF_SIZE);
+	return { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, ...slots, bvh };
 }
 
 /**

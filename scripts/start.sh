@@ -96,7 +96,14 @@ cat <<EOF
 
 EOF
 
-# Returns when the app exits or a signal arrives (the traps then stop everything).
+# Runs until the app exits or a signal arrives (the traps then stop everything). npm passes a
+# SIGTERM only to its `sh -c`, not to this script, so a vanished parent also means stop.
+PARENT_PID=$PPID
+while kill -0 "$APP_PID" 2>/dev/null; do
+	kill -0 "$PARENT_PID" 2>/dev/null || { warn "the parent process is gone"; exit 143; }
+	sleep 1 &
+	wait $! || true
+done
 set +e
 wait "$APP_PID"
 rc=$?

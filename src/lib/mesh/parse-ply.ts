@@ -195,7 +195,7 @@ interface ReadCtx {
 	xyz: number[];
 	listIdx: number;
 	positions: Float64Array;
-	st: { indices: Uint32Array; triCount: number; polygonsSplit: number };
+	st: { indices: Uint32Array<ArrayBuffer>; triCount: number; polygonsSplit: number };
 	maxFaces: number;
 	vertCount: number;
 }

@@ -65,6 +65,21 @@ describe('binary STL', () => {
 		expect(m.stats.weldedVertices).toBe(3);
 	});
 
+	it('reads odd triangle counts (records alternate 4-byte alignment) and a buffer at an odd byte offset', () => {
+		const positions = new Float64Array([0, 0, 0, 1, 0, 0, 0, 1, 0, 0, 0, 1, 0.5, 0.25, -3]);
+		const indices = new Uint32Array([0, 1, 2, 0, 3, 1, 4, 2, 1]);
+		const file = writeBinaryStl({ positions, indices });
+		const shifted = new Uint8Array(file.length + 1).subarray(1);
+		shifted.set(file);
+		for (const bytes of [file, shifted, file.slice(0, 84 + 50)]) {
+			const m = parseStl(bytes.length === 134 ? (() => { const b = bytes.slice(); new DataView(b.buffer).setUint32(80, 1, true); return b; })() : bytes);
+			const triCount = m.indices.length / 3;
+			for (let c = 0; c < 3 * triCount; c++) {
+				expect(Array.from(m.positions.subarray(3 * m.indices[c], 3 * m.indices[c] + 3))).toEqual(Array.from(positions.subarray(3 * indices[c], 3 * indices[c] + 3)));
+			}
+		}
+	});
+
 	it('refuses a truncated file, giving declared and held sizes', () => {
 		const bytes = fixture('cube-closed.stl').slice(0, 84 + 50 * 7 + 20);
 		expectReadError(bytes, /declares 12 triangles \(684 bytes\) but the file holds 454 bytes \(room for 7 triangles and a partial one\)/);

@@ -4,7 +4,7 @@
  * welded by exact coordinate equality (weld.ts). Facet normals are ignored: winding defines outside.
  */
 import { DEFAULT_MAX_FACES, MeshReadError, type MeshRegion, type ParsedMesh, type ReadOptions } from './types';
-import { weldFloat32Bits, weldFloat64 } from './weld';
+import { weldBinaryStlCorners, weldFloat64 } from './weld';
 import {
 	MAX_LINE_BYTES, NOT_A_NUMBER, NOT_FINITE, checkFaceLimit, decodeRange, fmt, growF64, parseNumber,
 	quoteToken, tokenEnd
@@ -62,47 +62,8 @@ export function parseBinaryStl(bytes: Uint8Array, opts: ReadOptions = {}): Parse
 	}
 	if (triCount === 0) throw new MeshReadError('binary STL declares 0 triangles: there is no surface to inspect');
 	checkFaceLimit(triCount, maxFaces, 'binary STL');
-	const cornerCount = 3 * triCount;
-	const bits = new Uint32Array(3 * cornerCount);
-	let bad = 0;
-	// Triangle records start 2 bytes off a 4-byte boundary on every other triangle. On a
-	// little-endian host, read even triangles as aligned 32-bit words from the file and odd ones
-	// from a copy shifted by 2 bytes (one memcpy), so the hot loop is plain Uint32Array reads.
-	const hostLe = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
-	if (hostLe) {
-		const aligned = (shift: number): Uint32Array => {
-			if (shift === 0 && bytes.byteOffset % 4 === 0) return new Uint32Array(bytes.buffer, bytes.byteOffset, bytes.length >>> 2);
-			const copy = new Uint8Array(bytes.length + 4);
-			copy.set(bytes, shift);
-			return new Uint32Array(copy.buffer, 0, copy.length >>> 2);
-		};
-		const even = aligned(0), odd = aligned(2);
-		for (let t = 0; t < triCount; t++) {
-			const k = 9 * t;
-			const odd1 = t & 1;
-			const words = odd1 ? odd : even;
-			const w = (STL_HEADER_BYTES + STL_TRIANGLE_BYTES * t + 12 + 2 * odd1) >>> 2;
-			for (let j = 0; j < 9; j++) {
-				let b = words[w + j];
-				if (b === 0x80000000) b = 0;
-				bits[k + j] = b;
-				bad |= (b & 0x7f800000) === 0x7f800000 ? 1 : 0;
-			}
-		}
-	} else {
-		for (let t = 0; t < triCount; t++) {
-			let o = STL_HEADER_BYTES + STL_TRIANGLE_BYTES * t + 12;
-			const k = 9 * t;
-			for (let j = 0; j < 9; j++, o += 4) {
-				let b = dv.getUint32(o, true);
-				if (b === 0x80000000) b = 0;
-				bits[k + j] = b;
-				bad |= (b & 0x7f800000) === 0x7f800000 ? 1 : 0;
-			}
-		}
-	}
-	if (bad) reportNonFiniteBinary(bits, triCount);
-	const w = weldFloat32Bits(bits, cornerCount);
+	const { result: w, firstNonFinite } = weldBinaryStlCorners(bytes, triCount);
+	if (firstNonFinite >= 0) reportNonFiniteBinary(dv, firstNonFinite);
 	return {
 		format: 'stl-binary',
 		positions: w.positions,
@@ -112,17 +73,12 @@ export function parseBinaryStl(bytes: Uint8Array, opts: ReadOptions = {}): Parse
 	};
 }
 
-function reportNonFiniteBinary(bits: Uint32Array, triCount: number): never {
-	const f = new Float32Array(bits.buffer);
-	for (let i = 0; i < 9 * triCount; i++) {
-		if ((bits[i] & 0x7f800000) === 0x7f800000) {
-			const t = Math.floor(i / 9), corner = Math.floor((i % 9) / 3);
-			throw new MeshReadError(
-				`binary STL triangle ${fmt(t)} (0-based), corner ${corner}, has a non-finite coordinate (${f[i]})`
-			);
-		}
-	}
-	throw new MeshReadError('binary STL has a non-finite coordinate');
+function reportNonFiniteBinary(dv: DataView, corner: number): never {
+	const t = Math.floor(corner / 3), k = corner % 3;
+	const o = STL_HEADER_BYTES + STL_TRIANGLE_BYTES * t + 12 + 12 * k;
+	const xyz = [dv.getFloat32(o, true), dv.getFloat32(o + 4, true), dv.getFloat32(o + 8, true)];
+	const bad = xyz.find((v) => !Number.isFinite(v));
+	throw new MeshReadError(`binary STL triangle ${fmt(t)} (0-based), corner ${k}, has a non-finite coordinate (${bad})`);
 }
 
 const Kw = { Other: 0, Solid: 1, Facet: 2, Outer: 3, Vertex: 4, Endloop: 5, Endfacet: 6, Endsolid: 7 } as const;

@@ -115,7 +115,7 @@ function slowNumber(bytes: Uint8Array, start: number, end: number, out: { err: n
 }
 
 /** Grows a typed array to at least `need` elements (doubling), keeping its contents. */
-export function growF64(a: Float64Array, need: number): Float64Array {
+export function growF64(a: Float64Array<ArrayBuffer>, need: number): Float64Array<ArrayBuffer> {
 	if (need <= a.length) return a;
 	let n = Math.max(16, a.length * 2);
 	while (n < need) n *= 2;
@@ -124,7 +124,7 @@ export function growF64(a: Float64Array, need: number): Float64Array {
 	return b;
 }
 
-export function growU32(a: Uint32Array, need: number): Uint32Array {
+export function growU32(a: Uint32Array<ArrayBuffer>, need: number): Uint32Array<ArrayBuffer> {
 	if (need <= a.length) return a;
 	let n = Math.max(16, a.length * 2);
 	while (n < need) n *= 2;

@@ -42,25 +42,65 @@ function tableSizeFor(n: number): number {
 }
 
 /**
- * Welds corners given as float32 bit patterns, three words per corner (x, y, z). Callers must have
- * mapped 0x80000000 (−0) to 0. `bits` is not modified.
+ * Welds corners given as float32 bit patterns, three words per corner (x, y, z); −0 welds with +0.
+ * `bits` is not modified.
  */
 export function weldFloat32Bits(bits: Uint32Array, cornerCount: number): WeldResult {
+	const u16 = new Uint16Array(bits.buffer, bits.byteOffset, 2 * bits.length);
+	return weldHalfwords(u16, cornerCount, 0, 18).result;
+}
+
+/**
+ * Welds the corners of a binary STL straight from the file bytes (no copy of the coordinates):
+ * triangle t, corner k starts at byte 84 + 50t + 12 + 12k, which is 2-byte aligned, so words are
+ * read as two little-endian halves. `firstNonFinite` is the first corner with a NaN/∞ coordinate
+ * (the weld stops there), or -1.
+ */
+export function weldBinaryStlCorners(bytes: Uint8Array, triCount: number): { result: WeldResult; firstNonFinite: number } {
+	let src = bytes;
+	if (bytes.byteOffset % 2 !== 0) src = bytes.slice();
+	const hostLe = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
+	if (!hostLe) {
+		// Big-endian host (rare): swap into a little-endian-ordered copy of the halfwords.
+		src = bytes.slice();
+		for (let i = 0; i + 1 < src.length; i += 2) { const t = src[i]; src[i] = src[i + 1]; src[i + 1] = t; }
+	}
+	const u16 = new Uint16Array(src.buffer, src.byteOffset, src.length >>> 1);
+	return weldHalfwords(u16, 3 * triCount, 48, 25);
+}
+
+/**
+ * Core weld. Corner c = 3g + k has its x word at halfwords base + groupStride·g + 6k (low half
+ * first). Slot s of the table holds [x, y, z, id + 1] in one 16-byte run (0 in the last word =
+ * empty), so a probe touches one cache line; a small direct-mapped front cache catches corners
+ * that recur within a few thousand triangles. Fresh memory is costly (page faults), so nothing
+ * corner-sized is allocated beyond the output indices.
+ */
+function weldHalfwords(
+	u16: Uint16Array, cornerCount: number, base: number, groupStride: number
+): { result: WeldResult; firstNonFinite: number } {
 	const indices = new Uint32Array(cornerCount);
-	// Slot s holds [x, y, z, id + 1] in one 16-byte run (0 in the last word = empty), so a probe
-	// touches one cache line. Meshes have about half as many vertices as triangles (a sixth of the
-	// corners); start there and double when half full.
+	// Meshes have about half as many vertices as triangles (a sixth of the corners); start there.
 	let size = tableSizeFor(Math.max(16, Math.ceil(cornerCount / 6)));
 	let mask = size - 1;
 	let table = new Uint32Array(4 * size);
 	const recent = new Uint32Array(4 * (RECENT_MASK + 1));
 	let vertCount = 0;
+	let firstNonFinite = -1;
+	let hw = base, k = 0;
 	for (let c = 0; c < cornerCount; c++) {
-		const c3 = 3 * c;
-		const x = bits[c3], y = bits[c3 + 1], z = bits[c3 + 2];
+		let x = (u16[hw] | (u16[hw + 1] << 16)) >>> 0;
+		let y = (u16[hw + 2] | (u16[hw + 3] << 16)) >>> 0;
+		let z = (u16[hw + 4] | (u16[hw + 5] << 16)) >>> 0;
+		if (++k === 3) { k = 0; hw += groupStride - 12; } else hw += 6;
+		if (x === 0x80000000) x = 0;
+		if (y === 0x80000000) y = 0;
+		if (z === 0x80000000) z = 0;
+		if ((x & 0x7f800000) === 0x7f800000 || (y & 0x7f800000) === 0x7f800000 || (z & 0x7f800000) === 0x7f800000) {
+			firstNonFinite = c;
+			break;
+		}
 		const h = hash3(x, y, z);
-		// Front cache: a corner usually recurs within a few thousand triangles, so most lookups
-		// end in this L2-sized direct-mapped table instead of the large one.
 		const r4 = (h & RECENT_MASK) << 2;
 		if (recent[r4 + 3] !== 0 && recent[r4] === x && recent[r4 + 1] === y && recent[r4 + 2] === z) {
 			indices[c] = recent[r4 + 3] - 1;
@@ -101,10 +141,10 @@ export function weldFloat32Bits(bits: Uint32Array, cornerCount: number): WeldRes
 		positions[v3 + 1] = asFloat[4 * s + 1];
 		positions[v3 + 2] = asFloat[4 * s + 2];
 	}
-	return { positions, indices, vertCount, weldedVertices: cornerCount - vertCount };
+	return { result: { positions, indices, vertCount, weldedVertices: cornerCount - vertCount }, firstNonFinite };
 }
 
-function rehash32(old: Uint32Array, size: number): Uint32Array {
+function rehash32(old: Uint32Array, size: number): Uint32Array<ArrayBuffer> {
 	const mask = size - 1;
 	const table = new Uint32Array(4 * size);
 	for (let o = 0; o < old.length; o += 4) {
@@ -197,5 +237,32 @@ function hash64(w: Uint32Array, o: number): number {
  */
 export function countDuplicatePositions(positions: Float64Array, vertCount: number): number {
 	if (vertCount === 0) return 0;
-	return weldFloat64(positions, vertCount).weldedVertices;
+	// Table of vertex id + 1 (0 = empty); equality is tested on the float values themselves
+	// (−0 === +0, NaN never present), hashing on the words with −0 folded onto +0.
+	const w = new Uint32Array(positions.buffer, positions.byteOffset, 6 * vertCount);
+	const size = tableSizeFor(vertCount);
+	const mask = size - 1;
+	const table = new Uint32Array(size);
+	let distinct = 0;
+	for (let v = 0; v < vertCount; v++) {
+		const v3 = 3 * v, v6 = 6 * v;
+		const x = positions[v3], y = positions[v3 + 1], z = positions[v3 + 2];
+		// Words of +0 are all zero, so a zero coordinate hashes as (0, 0) whatever its sign.
+		const hx = x === 0 ? 0 : w[v6] ^ Math.imul(w[v6 + 1], 0x27d4eb2f);
+		const hy = y === 0 ? 0 : w[v6 + 2] ^ Math.imul(w[v6 + 3], 0x27d4eb2f);
+		const hz = z === 0 ? 0 : w[v6 + 4] ^ Math.imul(w[v6 + 5], 0x27d4eb2f);
+		let s = hash3(hx, hy, hz) & mask;
+		let id1 = table[s];
+		while (id1 !== 0) {
+			const u3 = 3 * (id1 - 1);
+			if (positions[u3] === x && positions[u3 + 1] === y && positions[u3 + 2] === z) break;
+			s = (s + 1) & mask;
+			id1 = table[s];
+		}
+		if (id1 === 0) {
+			table[s] = v + 1;
+			distinct++;
+		}
+	}
+	return vertCount - distinct;
 }

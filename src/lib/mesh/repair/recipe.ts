@@ -115,7 +115,9 @@ export function parseRecipe(json: unknown): RepairStep[] {
  * 3. remove shells under 0.1 % of the total area (the largest shell always stays);
  * 4. split pinch vertices;
  * 5. orient outward;
- * 6. fill holes with a perimeter up to 20 cells (about a 6-cell-wide opening) and at most 200 edges;
+ * 6. fill holes with a perimeter up to 40 cells and at most 200 edges: a marching-cubes boundary
+ *    zig-zags, so its perimeter is about 1.6 × that of the round opening (measured on the test
+ *    shapes), and 40 cells covers openings up to about 8 cells across;
  * 7. collapse edges shorter than 0.02 cells;
  * 8. orient again (filling and collapsing keep orientation; this is a cheap check that costs O(F)).
  * The multipliers are choices of this product (common practice in spirit), not from a source.
@@ -130,7 +132,7 @@ export function STANDARD_RECIPE(targetCellSize: number): RepairStep[] {
 		{ op: 'remove-small-shells', maxAreaShare: 0.001 },
 		{ op: 'split-non-manifold-vertices' },
 		{ op: 'orient' },
-		{ op: 'fill-holes', maxPerimeter: 20 * targetCellSize, maxEdges: 200 },
+		{ op: 'fill-holes', maxPerimeter: 40 * targetCellSize, maxEdges: 200 },
 		{ op: 'collapse-short-edges', minLength: 0.02 * targetCellSize },
 		{ op: 'orient' }
 	];

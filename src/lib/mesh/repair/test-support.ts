@@ -3,7 +3,7 @@ import { readMesh } from '../read';
 import { writeBinaryStl, writeObj, writePly } from '../write';
 import { inspectMesh } from '../inspect';
 import { marchingCubes, gridFor } from '../marching-cubes';
-import { asParsed, icosphere } from '../test-meshes';
+import { asParsed, concat, flipFaces, icosphere, withoutFaces } from '../test-meshes';
 import type { ImplicitShape } from '../implicit-shapes';
 import type { InspectionReport } from '../report';
 import type { MeshBuffers, ParsedMesh } from '../types';
@@ -118,4 +118,39 @@ export function manifoldVerdict(wasm: ManifoldWasm, m: MeshBuffers): ManifoldVer
 	} finally {
 		solid?.delete();
 	}
+}
+
+export interface DefectiveMesh {
+	/** The closed marching-cubes mesh before any defect. */
+	clean: MeshBuffers;
+	/** Same surface with holes, a flipped patch, an opened seam and floating specks. */
+	broken: MeshBuffers;
+	/** Faces removed for the holes, and faces flipped. */
+	holeFaces: number;
+	flippedFaces: number;
+}
+
+/**
+ * Marching-cubes surface of `shape` at `cell`, then: three holes (faces within 2 cells of three
+ * surface points), a flipped patch (within 3 cells of a fourth), a seam at x = 0 opened by
+ * `seamOffset` along y, and three specks of radius 0.15 cells floating off the surface.
+ */
+export function defectiveMesh(shape: ImplicitShape, cell: number, seamOffset = 1e-7): DefectiveMesh {
+	const clean = implicitMesh(shape, cell);
+	const holes = [
+		...facesNear(clean, surfacePoint(clean, [0.3, 0.2, 1]), 2 * cell),
+		...facesNear(clean, surfacePoint(clean, [1, 0.1, -0.1]), 2 * cell),
+		...facesNear(clean, surfacePoint(clean, [-0.7, -0.6, -0.3]), 2 * cell)
+	];
+	const holed = withoutFaces(clean, holes);
+	const flip = facesNear(holed, surfacePoint(holed, [0.2, 1, 0.1]), 3 * cell);
+	const flipped = flipFaces(holed, flip);
+	const seamed = openSeam(flipped, 0, seamOffset);
+	const far = (d: [number, number, number]): [number, number, number] => {
+		const s = surfacePoint(clean, d);
+		const l = Math.hypot(...s);
+		return [s[0] * (1 + 0.3 / l), s[1] * (1 + 0.3 / l), s[2] * (1 + 0.3 / l)];
+	};
+	const broken = concat(seamed, ...specks([far([0, -1, 1]), far([-1, 1, 0]), far([0.5, -0.5, -1])], 0.15 * cell));
+	return { clean, broken, holeFaces: holes.length, flippedFaces: flip.length };
 }

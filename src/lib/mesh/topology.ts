@@ -116,74 +116,25 @@ export function analyseTopology(
 	const { edgeCount, edgeStart, heSorted, heOpp, edgeLo, edgeHi } = et;
 
 	mark('edges');
-	// Shells: faces joined through any shared edge.
-	const faceParent = new Int32Array(triCount);
-	for (let t = 0; t < triCount; t++) faceParent[t] = t;
-	let boundaryEdges = 0, nonManifoldEdges = 0, inconsistentEdges = 0;
-	for (let e = 0; e < edgeCount; e++) {
-		const s = edgeStart[e], n = edgeStart[e + 1] - s;
-		if (n === 1) boundaryEdges++;
-		else if (n >= 3) nonManifoldEdges++;
-		const h0 = heSorted[s];
-		const f0 = (h0 / 3) | 0;
-		let forward = 0;
-		for (let i = 0; i < n; i++) {
-			const h = heSorted[s + i];
-			if (indices[h] === edgeLo[e]) forward++;
-			if (i > 0) union(faceParent, f0, (h / 3) | 0);
-		}
-		if (n >= 2 && 2 * forward !== n) inconsistentEdges++;
-	}
-	const faceShell = new Int32Array(triCount).fill(-1);
-	let shellCount = 0;
-	let activeFaces = 0;
-	for (let t = 0; t < triCount; t++) {
-		if (skipFace[t]) continue;
-		activeFaces++;
-		const r = find(faceParent, t);
-		// Roots are the smallest face of their set, so they are met first.
-		if (r === t) faceShell[t] = shellCount++;
-		else faceShell[t] = faceShell[r];
-	}
-
-	mark('shells');
-	const sFaces = new Uint32Array(shellCount);
-	const sVerts = new Uint32Array(shellCount);
-	const sEdges = new Uint32Array(shellCount);
-	const sBoundary = new Uint32Array(shellCount);
-	const sLoops = new Uint32Array(shellCount);
-	const sNmEdges = new Uint32Array(shellCount);
-	const sNmVerts = new Uint32Array(shellCount);
-	const sOrientable = new Uint8Array(shellCount).fill(1);
-	const sInconsistent = new Uint32Array(shellCount);
-	const sFlipped = new Uint32Array(shellCount);
-	for (let t = 0; t < triCount; t++) if (faceShell[t] >= 0) sFaces[faceShell[t]]++;
-	for (let e = 0; e < edgeCount; e++) {
-		const s = edgeStart[e], n = edgeStart[e + 1] - s;
-		const sh = faceShell[(heSorted[s] / 3) | 0];
-		sEdges[sh]++;
-		if (n === 1) sBoundary[sh]++;
-		else if (n >= 3) sNmEdges[sh]++;
-		if (n >= 2) {
-			let forward = 0;
-			for (let i = 0; i < n; i++) if (indices[heSorted[s + i]] === edgeLo[e]) forward++;
-			if (2 * forward !== n) sInconsistent[sh]++;
-		}
-	}
-
-	mark('shellEdges');
-	// Orientation: BFS 2-colouring of faces across two-face edges. colour 1 = flip this face.
-	// Each BFS patch keeps the smaller colour class as its flip set.
+	// Orientation and patches: BFS over faces across two-face edges, 2-colouring them (colour 1 =
+	// flip this face; neighbours running their shared edge the same way get different colours).
+	// Each BFS patch keeps its smaller colour class as its flip set. Patches joined across
+	// non-manifold edges form the shells.
 	const colour = new Int8Array(triCount).fill(-1);
 	const queue = new Int32Array(Math.max(1, triCount));
 	const flipFace = new Uint8Array(triCount);
+	const patchOf = new Int32Array(triCount).fill(-1);
+	const patchFlips: number[] = [];
+	const patchConflict: number[] = [];
+	let activeFaces = 0;
 	for (let seed = 0; seed < triCount; seed++) {
 		if (skipFace[seed] || colour[seed] >= 0) continue;
+		const patch = patchFlips.length;
 		let head = 0, tail = 0;
 		queue[tail++] = seed;
 		colour[seed] = 0;
-		let ones = 0;
-		const sh = faceShell[seed];
+		patchOf[seed] = patch;
+		let ones = 0, conflict = 0;
 		while (head < tail) {
 			const f = queue[head++];
 			const cf = colour[f];
@@ -196,21 +147,89 @@ export function analyseTopology(
 				const want = indices[o] === indices[h] ? cf ^ 1 : cf;
 				if (colour[g] < 0) {
 					colour[g] = want;
+					patchOf[g] = patch;
 					if (want) ones++;
 					queue[tail++] = g;
-				} else if (colour[g] !== want) sOrientable[sh] = 0;
+				} else if (colour[g] !== want) conflict = 1;
 			}
 		}
-		const patchSize = tail;
-		const flipOnes = ones <= patchSize - ones;
-		for (let i = 0; i < patchSize; i++) {
+		activeFaces += tail;
+		const flipOnes = ones <= tail - ones;
+		for (let i = 0; i < tail; i++) {
 			const f = queue[i];
 			if ((colour[f] === 1) === flipOnes) flipFace[f] = 1;
 		}
-		sFlipped[sh] += flipOnes ? ones : patchSize - ones;
+		patchFlips.push(flipOnes ? ones : tail - ones);
+		patchConflict.push(conflict);
 	}
-
 	mark('orientation');
+
+	// Shells: patches joined through non-manifold edges (union-find over patches, smaller id as root).
+	const patchCount = patchFlips.length;
+	const patchParent = new Int32Array(patchCount);
+	for (let i = 0; i < patchCount; i++) patchParent[i] = i;
+	let boundaryEdges = 0, nonManifoldEdges = 0;
+	for (let e = 0; e < edgeCount; e++) {
+		const s = edgeStart[e], n = edgeStart[e + 1] - s;
+		if (n === 1) boundaryEdges++;
+		else if (n >= 3) {
+			nonManifoldEdges++;
+			const p0 = patchOf[(heSorted[s] / 3) | 0];
+			for (let i = 1; i < n; i++) union(patchParent, p0, patchOf[(heSorted[s + i] / 3) | 0]);
+		}
+	}
+	// Patches are numbered by their smallest face, and roots are the smallest patch, so shells come
+	// out numbered by their smallest face.
+	const shellOfPatch = new Int32Array(patchCount);
+	let shellCount = 0;
+	for (let i = 0; i < patchCount; i++) {
+		const r = find(patchParent, i);
+		shellOfPatch[i] = r === i ? shellCount++ : shellOfPatch[r];
+	}
+	const faceShell = new Int32Array(triCount).fill(-1);
+	for (let t = 0; t < triCount; t++) if (patchOf[t] >= 0) faceShell[t] = shellOfPatch[patchOf[t]];
+
+	const sFaces = new Uint32Array(shellCount);
+	const sVerts = new Uint32Array(shellCount);
+	const sEdges = new Uint32Array(shellCount);
+	const sBoundary = new Uint32Array(shellCount);
+	const sLoops = new Uint32Array(shellCount);
+	const sNmEdges = new Uint32Array(shellCount);
+	const sNmVerts = new Uint32Array(shellCount);
+	const sOrientable = new Uint8Array(shellCount).fill(1);
+	const sInconsistent = new Uint32Array(shellCount);
+	const sFlipped = new Uint32Array(shellCount);
+	for (let i = 0; i < patchCount; i++) {
+		const sh = shellOfPatch[i];
+		sFlipped[sh] += patchFlips[i];
+		if (patchConflict[i]) sOrientable[sh] = 0;
+	}
+	for (let t = 0; t < triCount; t++) if (faceShell[t] >= 0) sFaces[faceShell[t]]++;
+	let inconsistentEdges = 0;
+	for (let e = 0; e < edgeCount; e++) {
+		const s = edgeStart[e], n = edgeStart[e + 1] - s;
+		const h0 = heSorted[s];
+		const sh = faceShell[(h0 / 3) | 0];
+		sEdges[sh]++;
+		if (n === 1) {
+			sBoundary[sh]++;
+			continue;
+		}
+		let bad: boolean;
+		if (n === 2) bad = indices[h0] === indices[heSorted[s + 1]];
+		else {
+			sNmEdges[sh]++;
+			let forward = 0;
+			for (let i = 0; i < n; i++) if (indices[heSorted[s + i]] === edgeLo[e]) forward++;
+			bad = 2 * forward !== n;
+		}
+		if (bad) {
+			inconsistentEdges++;
+			sInconsistent[sh]++;
+		}
+	}
+	mark('shells');
+
 	// Fans: union face corners around each vertex through the edges they share there.
 	// Corner c = 3t + k sits at vertex indices[c]; halfedge h starts at corner h, ends at corner next(h).
 	const cornerParent = new Int32Array(heCount);

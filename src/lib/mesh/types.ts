@@ -21,9 +21,13 @@ export interface MeshRegion {
 
 /** What reading and normalising the file changed or noticed, before any analysis. */
 export interface ReadStats {
-	/** STL only: vertices merged because their coordinates were exactly equal (−0 treated as +0). */
+	/**
+	 * STL only: corner records merged away by the exact-equality weld (−0 treated as +0), i.e.
+	 * 3 × triangles read minus distinct vertices; a closed cube gives 36 − 8 = 28. Polygon facets of
+	 * ASCII STL add their fan copies to the corner count.
+	 */
 	weldedVertices: number;
-	/** Indexed formats: distinct vertex indices that share a position with an earlier index. */
+	/** Indexed formats (PLY, OBJ): vertex indices whose exact position an earlier index already has (not merged). */
 	duplicatePositions: number;
 	/** Polygons with more than three corners that were fan-triangulated. */
 	polygonsSplit: number;

@@ -10,7 +10,6 @@
  *   degenerate (exact predicates).
  * O(E log E + C · d²) for C collapses around vertices of valence d.
  */
-import { buildEdges } from '../edges';
 import { isDegenerateTriangle } from '../predicates';
 import { checkMesh, checkPositive, compactMesh, type RepairResult } from './common';
 import type { MeshBuffers } from '../types';
@@ -113,14 +112,21 @@ export function collapseShortEdges(mesh: MeshBuffers, minLength: number): Repair
 	}
 	const len = (a: number, b: number) => Math.hypot(P[3 * b] - P[3 * a], P[3 * b + 1] - P[3 * a + 1], P[3 * b + 2] - P[3 * a + 2]);
 	const heap = new EdgeHeap();
-	{
-		const et = buildEdges(I, vertCount, dead);
-		for (let e = 0; e < et.edgeCount; e++) {
-			const a = et.edgeLo[e], b = et.edgeHi[e];
+	// Short edges from the halfedges, each edge once (a set of keys lo · V + hi; short edges are few).
+	const queued = new Set<number>();
+	for (let t = 0; t < triCount; t++) {
+		if (dead[t]) continue;
+		for (let k = 0; k < 3; k++) {
+			const a = I[3 * t + k], b = I[3 * t + (k === 2 ? 0 : k + 1)];
 			const l = len(a, b);
-			if (l < minLength) heap.push(l, a, b);
+			if (!(l < minLength)) continue;
+			const key = a < b ? a * vertCount + b : b * vertCount + a;
+			if (queued.has(key)) continue;
+			queued.add(key);
+			heap.push(l, a, b);
 		}
 	}
+	queued.clear();
 	const skipped = { boundaryOrNonManifold: 0, linkCondition: 0, normalFlip: 0, degenerateFace: 0 };
 	let edgesCollapsed = 0;
 	// Scratch: stamps per vertex (ring counts) and the faces around the two ends.
@@ -314,13 +320,15 @@ export function collapseShortEdges(mesh: MeshBuffers, minLength: number): Repair
 	const keep = new Uint8Array(triCount);
 	for (let t = 0; t < triCount; t++) keep[t] = dead[t] ? 0 : 1;
 	const out = compactMesh(P, I, keep);
-	let shortEdgesLeft = 0;
-	const et = buildEdges(out.indices, out.positions.length / 3);
-	const q = out.positions;
-	for (let e = 0; e < et.edgeCount; e++) {
-		const a3 = 3 * et.edgeLo[e], b3 = 3 * et.edgeHi[e];
-		if (Math.hypot(q[b3] - q[a3], q[b3 + 1] - q[a3 + 1], q[b3 + 2] - q[a3 + 2]) < minLength) shortEdgesLeft++;
+	// Distinct short edges left: few, so a set of keys lo · V + hi over the short halfedges.
+	const shortKeys = new Set<number>();
+	const q = out.positions, oi = out.indices, outVerts = q.length / 3;
+	for (let h = 0; h < oi.length; h++) {
+		const a = oi[h], b = oi[h % 3 === 2 ? h - 2 : h + 1];
+		const a3 = 3 * a, b3 = 3 * b;
+		if (Math.hypot(q[b3] - q[a3], q[b3 + 1] - q[a3 + 1], q[b3 + 2] - q[a3 + 2]) < minLength) shortKeys.add(a < b ? a * outVerts + b : b * outVerts + a);
 	}
+	const shortEdgesLeft = shortKeys.size;
 	return { mesh: out, counts: { edgesCollapsed, skipped, shortEdgesLeft, collapsedFacesDropped } };
 }
 

@@ -1,7 +1,8 @@
 /**
- * Weld vertices closer than a tolerance through a uniform grid hash (cell = tol): each vertex is
- * compared with the representatives already placed in its own and the 26 neighbouring cells, so
- * any pair closer than tol is found. Expected O(V) for bounded cell occupancy, O(V) memory.
+ * Weld vertices closer than a tolerance through a uniform grid hash. With cells of 2 × tol, the
+ * ball of radius tol around a vertex overlaps at most two cells per axis (its own and the one on
+ * the nearer side), so 8 cells are searched instead of the 27 a cell of tol needs; any pair closer
+ * than tol is still found. Expected O(V) for bounded cell occupancy, O(V) memory.
  */
 import { checkMesh, checkPositive, compactMesh, RepairError, type RepairResult } from './common';
 import type { MeshBuffers } from '../types';
@@ -28,7 +29,7 @@ export function weldByTolerance(mesh: MeshBuffers, tol: number): RepairResult<We
 	checkPositive(tol, 'tolerance', op);
 	const p = mesh.positions, ix = mesh.indices;
 	const vertCount = p.length / 3;
-	const inv = 1 / tol;
+	const inv = 1 / (2 * tol);
 	let size = 16;
 	while (size < 2 * vertCount) size *= 2;
 	const mask = size - 1;
@@ -49,15 +50,18 @@ export function weldByTolerance(mesh: MeshBuffers, tol: number): RepairResult<We
 	};
 	for (let v = 0; v < vertCount; v++) {
 		const x = p[3 * v], y = p[3 * v + 1], z = p[3 * v + 2];
-		const cx = Math.floor(x * inv), cy = Math.floor(y * inv), cz = Math.floor(z * inv);
+		const sx = x * inv, sy = y * inv, sz = z * inv;
+		const cx = Math.floor(sx), cy = Math.floor(sy), cz = Math.floor(sz);
+		// Neighbour cell on the nearer side along each axis.
+		const nx = sx - cx < 0.5 ? -1 : 1, ny = sy - cy < 0.5 ? -1 : 1, nz = sz - cz < 0.5 ? -1 : 1;
 		if (Math.abs(cx) > MAX_CELL_COORD || Math.abs(cy) > MAX_CELL_COORD || Math.abs(cz) > MAX_CELL_COORD) {
 			throw new RepairError(`${op}: tolerance ${tol} is too small for coordinates of size ${Math.max(Math.abs(x), Math.abs(y), Math.abs(z))}`);
 		}
 		let found = -1;
-		for (let dz = -1; dz <= 1 && found < 0; dz++) {
-			for (let dy = -1; dy <= 1 && found < 0; dy++) {
-				for (let dx = -1; dx <= 1 && found < 0; dx++) {
-					const s = slotOf(cx + dx, cy + dy, cz + dz, false);
+		for (let dz = 0; dz <= 1 && found < 0; dz++) {
+			for (let dy = 0; dy <= 1 && found < 0; dy++) {
+				for (let dx = 0; dx <= 1 && found < 0; dx++) {
+					const s = slotOf(cx + dx * nx, cy + dy * ny, cz + dz * nz, false);
 					if (s < 0) continue;
 					for (let r = head[s]; r >= 0; r = nextRep[r]) {
 						const ex = p[3 * r] - x, ey = p[3 * r + 1] - y, ez = p[3 * r + 2] - z;

@@ -4,10 +4,13 @@
  * Build is a radix sort plus one top-down pass: O(n) after the sort, O(n) memory.
  */
 
-export interface FlatBvh {
+export interface FlatBvh<B extends Float32Array | Float64Array = Float64Array> {
 	nodeCount: number;
-	/** 6 per node: minX, minY, minZ, maxX, maxY, maxZ (closed boxes). */
-	bounds: Float64Array;
+	/**
+	 * 6 per node: minX, minY, minZ, maxX, maxY, maxZ (closed boxes). Float64 from buildBvh; float32
+	 * rounded outward from buildBvhSorted (conservative, half the memory).
+	 */
+	bounds: B;
 	/** Index of the first child (the second is firstChild + 1), or −1 for a leaf. */
 	firstChild: Int32Array;
 	/** Leaves: first slot in `order` and how many slots. Inner nodes cover the union of their leaves. */
@@ -18,6 +21,20 @@ export interface FlatBvh {
 }
 
 const MORTON_BITS = 10;
+
+/**
+ * Largest float32 ≤ x. fround rounds to nearest; when that lands above x, step below by more than
+ * one float32 ulp (ulp ≤ |x|·2⁻²³ ≈ 1.19e-7·|x|; 1e-44 covers the subnormal range) and round again.
+ */
+export function f32Down(x: number): number {
+	const f = Math.fround(x);
+	return f <= x ? f : Math.fround(x - Math.abs(x) * 2.4e-7 - 1e-44);
+}
+/** Smallest float32 ≥ x. */
+export function f32Up(x: number): number {
+	const f = Math.fround(x);
+	return f >= x ? f : Math.fround(x + Math.abs(x) * 2.4e-7 + 1e-44);
+}
 
 /** Spreads the low 10 bits of v so that bit k lands on bit 3k. */
 function spread3(v: number): number {
@@ -76,7 +93,11 @@ export function sortByCode(codesIn: Uint32Array): { codes: Uint32Array; order: U
  * (6 floats per item: min xyz, max xyz) in the same order, so every pass reads memory in sequence.
  * Leaves hold at most `leafSize` items; `order` of the result is the identity (empty array).
  */
-export function buildBvhSorted(codes: Uint32Array, boxes: Float64Array, leafSize = 4): FlatBvh {
+export function buildBvhSorted(codes: Uint32Array, boxes: Float32Array | Float64Array, leafSize = 4): FlatBvh<Float32Array> {
+	return buildSorted(codes, boxes, leafSize, true) as FlatBvh<Float32Array>;
+}
+
+function buildSorted(codes: Uint32Array, boxes: Float32Array | Float64Array, leafSize: number, f32: boolean): FlatBvh<Float32Array> | FlatBvh<Float64Array> {
 	const n = codes.length;
 	const maxNodes = Math.max(1, 2 * n - 1);
 	const firstChild = new Int32Array(maxNodes);
@@ -124,7 +145,7 @@ export function buildBvhSorted(codes: Uint32Array, boxes: Float64Array, leafSize
 		stack[sp++] = mid;
 		stack[sp++] = e;
 	}
-	const bounds = new Float64Array(6 * nodeCount);
+	const bounds = f32 ? new Float32Array(6 * nodeCount) : new Float64Array(6 * nodeCount);
 	for (let node = nodeCount - 1; node >= 0; node--) {
 		const o = 6 * node;
 		let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;
@@ -147,12 +168,17 @@ export function buildBvhSorted(codes: Uint32Array, boxes: Float64Array, leafSize
 			mxy = bounds[a + 4] > bounds[b + 4] ? bounds[a + 4] : bounds[b + 4];
 			mxz = bounds[a + 5] > bounds[b + 5] ? bounds[a + 5] : bounds[b + 5];
 		}
-		bounds[o] = mnx; bounds[o + 1] = mny; bounds[o + 2] = mnz;
-		bounds[o + 3] = mxx; bounds[o + 4] = mxy; bounds[o + 5] = mxz;
+		if (f32) {
+			bounds[o] = f32Down(mnx); bounds[o + 1] = f32Down(mny); bounds[o + 2] = f32Down(mnz);
+			bounds[o + 3] = f32Up(mxx); bounds[o + 4] = f32Up(mxy); bounds[o + 5] = f32Up(mxz);
+		} else {
+			bounds[o] = mnx; bounds[o + 1] = mny; bounds[o + 2] = mnz;
+			bounds[o + 3] = mxx; bounds[o + 4] = mxy; bounds[o + 5] = mxz;
+		}
 	}
 	return {
 		nodeCount,
-		bounds,
+		bounds: bounds as Float64Array,
 		// Views, not copies: the unused tail was never written, so its pages were never touched.
 		firstChild: firstChild.subarray(0, nodeCount),
 		start: start.subarray(0, nodeCount),
@@ -182,7 +208,7 @@ export function buildBvh(boxes: Float64Array, itemCount: number, leafSize = 4): 
 	const { codes, order } = sortByCode(raw);
 	const sorted = new Float64Array(6 * n);
 	for (let k = 0; k < n; k++) for (let d = 0; d < 6; d++) sorted[6 * k + d] = boxes[6 * order[k] + d];
-	const bvh = buildBvhSorted(codes, sorted, leafSize);
+	const bvh = buildSorted(codes, sorted, leafSize, false) as FlatBvh<Float64Array>;
 	bvh.order = order;
 	return bvh;
 }

@@ -63,8 +63,6 @@ interface WorkerInput {
 	/** Slot arrays, sized for faceCount slots (only liveCount are used). */
 	faceOf: SharedArrayBuffer;
 	verts: SharedArrayBuffer;
-	tp: SharedArrayBuffer;
-	pl: SharedArrayBuffer;
 	box: SharedArrayBuffer;
 	/** Int32: [0] next task, [1..3] barriers, [4] live face count. */
 	control: SharedArrayBuffer;
@@ -123,15 +121,13 @@ export function runSelfIntersectWorker(): void {
 		const slots: SlotArrays = {
 			faceOf: new Uint32Array(input.faceOf, 0, liveCount),
 			verts: new Uint32Array(input.verts, 0, 3 * liveCount),
-			tp: new Float64Array(input.tp, 0, 9 * liveCount),
-			pl: new Float64Array(input.pl, 0, 6 * liveCount),
-			box: new Float64Array(input.box, 0, 6 * liveCount)
+			box: new Float32Array(input.box, 0, 6 * liveCount)
 		};
 		const [s0, s1] = share(0, liveCount, index, threads);
 		gatherSlots(mesh, new Uint32Array(input.slotFace, 0, liveCount), s0, s1, slots);
 		barrier(ctrl, 3, threads);
 		const bvh = buildBvhSorted(new Uint32Array(input.sortedCodes, 0, liveCount), slots.box, LEAF_SIZE);
-		const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, ...slots, bvh };
+		const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh };
 		const result = findInPrepared(
 			prep,
 			{ sampleLimit: input.sampleLimit, taskTarget: input.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } },
@@ -167,10 +163,20 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 	if (opts.signal?.aborted) throw new Error('Self-intersection check was cancelled.');
 	validateMesh(mesh);
 	const faceCount = mesh.indices.length / 3;
-	const posBuf = new SharedArrayBuffer(mesh.positions.byteLength);
-	new Float64Array(posBuf).set(mesh.positions);
-	const idxBuf = new SharedArrayBuffer(mesh.indices.byteLength);
-	new Uint32Array(idxBuf).set(mesh.indices);
+	// Buffers that already live in a SharedArrayBuffer (from offset 0) are used as they are: copying
+	// costs fresh pages, which are slow to fault in on small VMs.
+	const sharedAsIs = (a: Float64Array | Uint32Array) => a.buffer instanceof SharedArrayBuffer && a.byteOffset === 0;
+	let posBuf: SharedArrayBuffer, idxBuf: SharedArrayBuffer;
+	if (sharedAsIs(mesh.positions)) posBuf = mesh.positions.buffer as SharedArrayBuffer;
+	else {
+		posBuf = new SharedArrayBuffer(mesh.positions.byteLength);
+		new Float64Array(posBuf).set(mesh.positions);
+	}
+	if (sharedAsIs(mesh.indices)) idxBuf = mesh.indices.buffer as SharedArrayBuffer;
+	else {
+		idxBuf = new SharedArrayBuffer(mesh.indices.byteLength);
+		new Uint32Array(idxBuf).set(mesh.indices);
+	}
 	// Untouched pages of a SharedArrayBuffer cost nothing, so slot arrays are sized for every face.
 	const data: WorkerInput & { moduleUrl: string; tsxHook: string | null } = {
 		kind: 'shellgate-self-intersect',
@@ -187,9 +193,7 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 		slotFace: new SharedArrayBuffer(4 * faceCount),
 		faceOf: new SharedArrayBuffer(4 * faceCount),
 		verts: new SharedArrayBuffer(12 * faceCount),
-		tp: new SharedArrayBuffer(72 * faceCount),
-		pl: new SharedArrayBuffer(48 * faceCount),
-		box: new SharedArrayBuffer(48 * faceCount),
+		box: new SharedArrayBuffer(24 * faceCount),
 		control: new SharedArrayBuffer(4 * 8),
 		sampleLimit,
 		taskTarget: Math.max(DEFAULT_TASK_TARGET, 64 * threads)

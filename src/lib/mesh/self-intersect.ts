@@ -20,7 +20,7 @@
  * edge of one meets the other (segment–triangle via orient3d signs of the Plücker type, as in
  * Guigue–Devillers 2003), and coplanar ones are tested in a coordinate-plane projection with orient2d.
  */
-import { buildBvhSorted, morton3, mortonScale, sortByCode, type FlatBvh } from './bvh';
+import { buildBvhSorted, f32Down, f32Up, morton3, mortonScale, sortByCode, type FlatBvh } from './bvh';
 import { ccw2 as ccw2Import, dropAxis as dropAxisImport, isDegenerateTriangle, side3 as side3Import } from './predicates';
 import type { MeshBuffers } from './types';
 
@@ -85,15 +85,12 @@ export interface PreparedMesh {
 	faceCount: number;
 	liveCount: number;
 	degenerateSkipped: number;
+	positions: Float64Array;
 	faceOf: Uint32Array;
 	verts: Uint32Array;
-	/** 9 coordinates per slot. */
-	tp: Float64Array;
-	/** 6 per slot: normal (b − a) × (c − a), then the absolute values needed by the float filter. */
-	pl: Float64Array;
-	/** 6 per slot: closed box. */
-	box: Float64Array;
-	bvh: FlatBvh;
+	/** 6 per slot: closed box, float32 rounded outward (conservative; the exact test decides). */
+	box: Float32Array;
+	bvh: FlatBvh<Float32Array>;
 }
 
 /**
@@ -201,9 +198,7 @@ export function sortLiveFaces(live: Uint8Array, codes: Uint32Array, faceCount: n
 export interface SlotArrays {
 	faceOf: Uint32Array;
 	verts: Uint32Array;
-	tp: Float64Array;
-	pl: Float64Array;
-	box: Float64Array;
+	box: Float32Array;
 }
 
 export function allocSlotArrays(liveCount: number, shared = false): SlotArrays {
@@ -211,16 +206,14 @@ export function allocSlotArrays(liveCount: number, shared = false): SlotArrays {
 	return {
 		faceOf: new Uint32Array(buf(4 * liveCount)),
 		verts: new Uint32Array(buf(12 * liveCount)),
-		tp: new Float64Array(buf(72 * liveCount)),
-		pl: new Float64Array(buf(48 * liveCount)),
-		box: new Float64Array(buf(48 * liveCount))
+		box: new Float32Array(buf(24 * liveCount))
 	};
 }
 
 /** Fills slots [from, to) of `out` from the faces slotFace[from .. to − 1]. */
 export function gatherSlots(mesh: MeshBuffers, slotFace: Uint32Array, from: number, to: number, out: SlotArrays): void {
 	const { positions, indices } = mesh;
-	const { faceOf, verts, tp, pl, box } = out;
+	const { faceOf, verts, box } = out;
 	for (let k = from; k < to; k++) {
 		const t = slotFace[k];
 		faceOf[k] = t;
@@ -234,25 +227,13 @@ export function gatherSlots(mesh: MeshBuffers, slotFace: Uint32Array, from: numb
 		const ax = positions[a3], ay = positions[a3 + 1], az = positions[a3 + 2];
 		const bx = positions[b3], by = positions[b3 + 1], bz = positions[b3 + 2];
 		const cx = positions[c3], cy = positions[c3 + 1], cz = positions[c3 + 2];
-		const k9 = 9 * k;
-		tp[k9] = ax; tp[k9 + 1] = ay; tp[k9 + 2] = az;
-		tp[k9 + 3] = bx; tp[k9 + 4] = by; tp[k9 + 5] = bz;
-		tp[k9 + 6] = cx; tp[k9 + 7] = cy; tp[k9 + 8] = cz;
-		const ux = bx - ax, uy = by - ay, uz = bz - az;
-		const vx = cx - ax, vy = cy - ay, vz = cz - az;
 		const k6 = 6 * k;
-		pl[k6] = uy * vz - uz * vy;
-		pl[k6 + 1] = uz * vx - ux * vz;
-		pl[k6 + 2] = ux * vy - uy * vx;
-		pl[k6 + 3] = Math.abs(uy * vz) + Math.abs(uz * vy);
-		pl[k6 + 4] = Math.abs(uz * vx) + Math.abs(ux * vz);
-		pl[k6 + 5] = Math.abs(ux * vy) + Math.abs(uy * vx);
-		box[k6] = ax < bx ? (ax < cx ? ax : cx) : bx < cx ? bx : cx;
-		box[k6 + 1] = ay < by ? (ay < cy ? ay : cy) : by < cy ? by : cy;
-		box[k6 + 2] = az < bz ? (az < cz ? az : cz) : bz < cz ? bz : cz;
-		box[k6 + 3] = ax > bx ? (ax > cx ? ax : cx) : bx > cx ? bx : cx;
-		box[k6 + 4] = ay > by ? (ay > cy ? ay : cy) : by > cy ? by : cy;
-		box[k6 + 5] = az > bz ? (az > cz ? az : cz) : bz > cz ? bz : cz;
+		box[k6] = f32Down(ax < bx ? (ax < cx ? ax : cx) : bx < cx ? bx : cx);
+		box[k6 + 1] = f32Down(ay < by ? (ay < cy ? ay : cy) : by < cy ? by : cy);
+		box[k6 + 2] = f32Down(az < bz ? (az < cz ? az : cz) : bz < cz ? bz : cz);
+		box[k6 + 3] = f32Up(ax > bx ? (ax > cx ? ax : cx) : bx > cx ? bx : cx);
+		box[k6 + 4] = f32Up(ay > by ? (ay > cy ? ay : cy) : by > cy ? by : cy);
+		box[k6 + 5] = f32Up(az > bz ? (az > cz ? az : cz) : bz > cz ? bz : cz);
 	}
 }
 
@@ -275,14 +256,14 @@ export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 	const slots = allocSlotArrays(liveCount);
 	gatherSlots(mesh, slotFace, 0, liveCount, slots);
 	const bvh = buildBvhSorted(codes, slots.box, LEAF_SIZE);
-	return { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, ...slots, bvh };
+	return { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh };
 }
 
 /**
  * Unrolls the self-traversal breadth-first into independent tasks, pairs (a, b) of nodes: a === b
  * means "all pairs inside node a", a !== b "all pairs between a and b". Deterministic.
  */
-export function makeTasks(bvh: FlatBvh, target: number): Int32Array {
+export function makeTasks(bvh: FlatBvh<Float32Array | Float64Array>, target: number): Int32Array {
 	let tasks: number[] = [0, 0];
 	if (bvh.nodeCount === 0 || bvh.count[0] === 0) return new Int32Array(0);
 	const { firstChild, bounds } = bvh;
@@ -314,7 +295,7 @@ export function makeTasks(bvh: FlatBvh, target: number): Int32Array {
 	return Int32Array.from(tasks);
 }
 
-function boxesOverlap(bounds: Float64Array, a: number, b: number): boolean {
+function boxesOverlap(bounds: Float32Array | Float64Array, a: number, b: number): boolean {
 	const a6 = 6 * a, b6 = 6 * b;
 	return (
 		bounds[a6] <= bounds[b6 + 3] && bounds[b6] <= bounds[a6 + 3] &&
@@ -326,7 +307,14 @@ function boxesOverlap(bounds: Float64Array, a: number, b: number): boolean {
 /** Float filter bound for the plane-side determinant; Shewchuk's o3derrboundA is (7 + 56ε)ε ≈ 7.8e-16. */
 const SIDE_ERR = 1e-15;
 
+/**
+ * Per-call state. tp/pl are scratch for the pair under test: slot 0 is the first triangle, slot 1
+ * the second (9 coordinates; normal (b − a) × (c − a) and the float filter's absolute terms).
+ * Reading corners from `positions` per pair instead of keeping slot-ordered copies saves ~120 bytes
+ * of freshly written memory per face, which dominated setup time.
+ */
 interface Ctx {
+	positions: Float64Array;
 	tp: Float64Array;
 	pl: Float64Array;
 	exact: number;
@@ -469,11 +457,34 @@ function coplanarTriTri(ctx: Ctx, i: number, j: number): boolean {
 	return false;
 }
 
-/** The pair rule on slots i, j (see the file comment). Writes a point into ctx.hit when true. */
-export function testPair(ctx: Ctx, verts: Uint32Array, i: number, j: number): boolean {
-	const i3 = 3 * i, j3 = 3 * j;
+function loadTriangle(ctx: Ctx, slot: number, a: number, b: number, c: number): void {
+	const p = ctx.positions, tp = ctx.tp, pl = ctx.pl;
+	const o9 = 9 * slot, o6 = 6 * slot;
+	const a3 = 3 * a, b3 = 3 * b, c3 = 3 * c;
+	const ax = p[a3], ay = p[a3 + 1], az = p[a3 + 2];
+	const bx = p[b3], by = p[b3 + 1], bz = p[b3 + 2];
+	const cx = p[c3], cy = p[c3 + 1], cz = p[c3 + 2];
+	tp[o9] = ax; tp[o9 + 1] = ay; tp[o9 + 2] = az;
+	tp[o9 + 3] = bx; tp[o9 + 4] = by; tp[o9 + 5] = bz;
+	tp[o9 + 6] = cx; tp[o9 + 7] = cy; tp[o9 + 8] = cz;
+	const ux = bx - ax, uy = by - ay, uz = bz - az;
+	const vx = cx - ax, vy = cy - ay, vz = cz - az;
+	pl[o6] = uy * vz - uz * vy;
+	pl[o6 + 1] = uz * vx - ux * vz;
+	pl[o6 + 2] = ux * vy - uy * vx;
+	pl[o6 + 3] = Math.abs(uy * vz) + Math.abs(uz * vy);
+	pl[o6 + 4] = Math.abs(uz * vx) + Math.abs(ux * vz);
+	pl[o6 + 5] = Math.abs(ux * vy) + Math.abs(uy * vx);
+}
+
+/** The pair rule on slots si, sj (see the file comment). Writes a point into ctx.hit when true. */
+export function testPair(ctx: Ctx, verts: Uint32Array, si: number, sj: number): boolean {
+	const i3 = 3 * si, j3 = 3 * sj;
 	const a0 = verts[i3], a1 = verts[i3 + 1], a2 = verts[i3 + 2];
 	const b0 = verts[j3], b1 = verts[j3 + 1], b2 = verts[j3 + 2];
+	loadTriangle(ctx, 0, a0, a1, a2);
+	loadTriangle(ctx, 1, b0, b1, b2);
+	const i = 0, j = 1;
 	// Which corners of i are shared (bit k: corner k of i), and which corner of j each matches.
 	const m0 = a0 === b0 ? 0 : a0 === b1 ? 1 : a0 === b2 ? 2 : -1;
 	const m1 = a1 === b0 ? 0 : a1 === b1 ? 1 : a1 === b2 ? 2 : -1;
@@ -549,7 +560,7 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 	const filtered = opts.faceRange !== undefined;
 	const { bvh, verts, box, faceOf } = prep;
 	const { firstChild, bounds, start, count } = bvh;
-	const ctx: Ctx = { tp: prep.tp, pl: prep.pl, exact: 0, hit: new Float64Array(3) };
+	const ctx: Ctx = { positions: prep.positions, tp: new Float64Array(18), pl: new Float64Array(12), exact: 0, hit: new Float64Array(3) };
 	const sample: SelfIntersectionSample[] = [];
 	let pairs = 0;
 	let candidates = 0;

@@ -22,6 +22,11 @@ describe('readMesh', () => {
 		expect(sniffFormat(new TextEncoder().encode('hello world'))).toBeNull();
 	});
 
+	it('says which format the content looks like when the extension is wrong', () => {
+		expect(() => readMesh(fixture('cube-regions.obj'), 'pod.stl')).toThrow(/\(the content looks like OBJ, not STL\)$/);
+		expect(() => readMesh(fixture('cube-quads.ply'), 'pod.obj')).toThrow(/looks like PLY, not OBJ/);
+	});
+
 	it('refuses an unknown format and an empty file with the file name', () => {
 		expect(() => readMesh(new TextEncoder().encode('hello world\n'), 'notes.txt')).toThrow(/cannot tell the format of 'notes.txt'/);
 		expect(() => readMesh(new Uint8Array(0), 'x')).toThrow(/'x' is empty/);

@@ -43,7 +43,16 @@ export function readMesh(bytes: Uint8Array, fileName: string, opts: ReadOptions 
 			);
 		}
 	}
-	if (kind === 'stl') return parseStl(bytes, opts);
-	if (kind === 'ply') return parsePly(bytes, opts);
-	return parseObj(bytes, opts);
+	try {
+		if (kind === 'stl') return parseStl(bytes, opts);
+		if (kind === 'ply') return parsePly(bytes, opts);
+		return parseObj(bytes, opts);
+	} catch (e) {
+		// A file named .stl that holds OBJ text (and so on): say so rather than only what failed.
+		const actual = e instanceof MeshReadError ? sniffFormat(bytes) : null;
+		if (actual && actual !== kind) {
+			throw new MeshReadError(`${e instanceof Error ? e.message : e} (the content looks like ${actual.toUpperCase()}, not ${kind.toUpperCase()})`);
+		}
+		throw e;
+	}
 }

@@ -1,5 +1,5 @@
 /** Assembles the InspectionReport from topology, measures, projections and hints. */
-import { DEFAULT_MAX_FACES, type ParsedMesh } from './types';
+import { DEFAULT_MAX_FACES, MeshReadError, type ParsedMesh } from './types';
 import { analyseTopology, collapsedFaces, type TopologyResult } from './topology';
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
 import { silhouetteArea, type SilhouetteScratch } from './projection';
@@ -77,7 +77,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	const triCount = (parsed.indices.length / 3) | 0;
 	const vertCount = (parsed.positions.length / 3) | 0;
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
-	if (triCount > maxFaces) throw new RangeError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
+	if (triCount > maxFaces) throw new MeshReadError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
 	const flow = normaliseDirection(opts.flowDirection);
 	const progress = (stage: string, percent: number) => opts.onProgress?.(stage, percent);
 	const tol: Tolerances = {
@@ -90,7 +90,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	const pos = parsed.positions;
 	for (let i = 0; i < pos.length; i++) {
 		if (!Number.isFinite(pos[i])) {
-			throw new RangeError(`vertex ${(i / 3) | 0} has a coordinate that is not a finite number (${pos[i]}); the mesh cannot be measured`);
+			throw new MeshReadError(`vertex ${(i / 3) | 0} has a coordinate that is not a finite number (${pos[i]}); the mesh cannot be measured`);
 		}
 	}
 	let t0 = performance.now();

@@ -1,9 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { inspectBytes } from './inspect';
+import { inspectBytes, inspectMesh } from './inspect';
+import { MeshReadError } from './types';
 import { writeAsciiStl, writeBinaryStl, writeObj, writePly } from './write';
 import type { MeshBuffers } from './types';
 import type { InspectionReport } from './report';
-import { concat, flipFaces, mobiusStrip, unitCube, weldExact, withoutFaces } from './test-meshes';
+import { asParsed, concat, flipFaces, mobiusStrip, unitCube, weldExact, withoutFaces } from './test-meshes';
 import { expectClose } from './test-close';
 
 // Every defect is written in every format and read back, so readers, weld and analysis agree.
@@ -161,6 +162,13 @@ describe.each(FORMATS.map((f) => f[0]))('inspection after a %s round trip', (for
 describe('inspection of bad input', () => {
 	it('throws a read error naming the file when the content is no mesh', () => {
 		expect(() => inspectBytes(new TextEncoder().encode('hello'), 'notes.txt')).toThrow(/notes\.txt/);
+	});
+
+	it('refuses a mesh with a non-finite coordinate, naming the vertex', () => {
+		const c = unitCube();
+		c.positions[4] = Number.NaN;
+		expect(() => inspectMesh(asParsed(c))).toThrow(MeshReadError);
+		expect(() => inspectMesh(asParsed(c))).toThrow(/vertex 1 /);
 	});
 
 	it('refuses a mesh above maxFaces before analysis', () => {

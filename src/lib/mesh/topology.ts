@@ -3,6 +3,7 @@
  * edges and vertices, orientation. Exact (indices only), O(H α(H)) with union-find over faces and
  * over face corners; scratch is allocated once per call.
  */
+import { MeshReadError } from './types';
 import { buildEdges, nextHalfedge, NO_EDGE, type EdgeTable } from './edges';
 
 export interface LoopTable {
@@ -109,7 +110,7 @@ export function analyseTopology(
 	const heCount = 3 * triCount;
 	for (let i = 0; i < indices.length; i++) {
 		if (indices[i] >= vertCount) {
-			throw new RangeError(`face ${(i / 3) | 0} refers to vertex ${indices[i]}, but there are only ${vertCount} vertices`);
+			throw new MeshReadError(`face ${(i / 3) | 0} refers to vertex ${indices[i]}, but there are only ${vertCount} vertices`);
 		}
 	}
 	const et = buildEdges(indices, vertCount, skipFace);

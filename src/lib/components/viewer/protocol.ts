@@ -1,0 +1,59 @@
+/** Messages between the viewer and its workers. Every typed array in a reply is transferred, not copied. */
+import type { MeshOverlays } from '$lib/mesh/overlays';
+import type { InspectionReport } from '$lib/mesh/report';
+
+/** Largest mesh the browser view loads; the report still shows above this. */
+export const VIEWER_MAX_FACES = 6_000_000;
+
+export interface LoadRequest {
+	type: 'load';
+	url: string;
+	fileName: string;
+	/** Threshold for the short-edge overlay, model units; 0 lists none. */
+	minEdgeLength: number;
+	/** Self-intersection sample and tolerances come from here; null computes overlays without them. */
+	report: InspectionReport | null;
+	maxFaces: number;
+	/** false: mesh only (a compare revision needs no overlays). Default true. */
+	overlays?: boolean;
+}
+
+export type LoadFailure = 'fetch' | 'read' | 'too-large' | 'memory';
+
+/** Serialised three-mesh-bvh tree (MeshBVH.serialize, indirect so triangle ids stay ours). */
+export interface BvhData {
+	version: number;
+	roots: ArrayBuffer[];
+	index: Uint32Array | null;
+	indirectBuffer: Uint32Array | null;
+}
+
+export type LoadReply =
+	| { type: 'progress'; loaded: number; total: number | null }
+	| { type: 'parsing' }
+	| {
+			type: 'mesh';
+			positions: Float32Array;
+			indices: Uint32Array;
+			bvh: BvhData;
+			fetchMs: number;
+			parseMs: number;
+			bvhMs: number;
+			bytes: number;
+	  }
+	| { type: 'overlays'; overlays: MeshOverlays; ms: number }
+	| { type: 'error'; kind: LoadFailure; message: string };
+
+export interface DeviationRequest {
+	type: 'deviation';
+	/** Vertices measured (3 per vertex). */
+	positions: Float32Array;
+	/** Surface measured against. */
+	targetPositions: Float32Array;
+	targetIndices: Uint32Array;
+}
+
+export type DeviationReply =
+	| { type: 'progress'; done: number; total: number }
+	| { type: 'result'; distances: Float32Array; max: number; mean: number; ms: number }
+	| { type: 'error'; message: string };

@@ -129,6 +129,17 @@ describe('PLY reading', () => {
 		expect(Array.from(m.indices)).toEqual([0, 1, 2]);
 	});
 
+	it('skips an ASCII element with a list placed between vertices and faces, and reads faces before vertices', () => {
+		const m = parsePly(ascii(['ply', 'format ascii 1.0', 'element vertex 3', 'property float x', 'property float y', 'property float z',
+			'element material 2', 'property list uchar float rgb', 'property uchar id', 'element face 1', 'property list uchar int vertex_indices', 'end_header',
+			'0 0 0', '1 0 0', '0 1 0', '3 0.1 0.2 0.3 1', '0 2', '3 0 1 2']));
+		expect(Array.from(m.indices)).toEqual([0, 1, 2]);
+		const first = parsePly(ascii(['ply', 'format ascii 1.0', 'element face 1', 'property list uchar int vertex_indices', ...triHeader(3, 0).slice(0, 4), 'end_header',
+			'3 2 1 0', '0 0 0', '1 0 0', '0 1 0']));
+		expect(Array.from(first.indices)).toEqual([2, 1, 0]);
+		expect(Array.from(first.positions)).toEqual([0, 0, 0, 1, 0, 0, 0, 1, 0]);
+	});
+
 	it('round-trips writePly in all three encodings', () => {
 		const mesh = { positions: new Float64Array([0.1, 0.2, 0.3, 1 / 3, -5, 1e-300, 7, 8, 9]), indices: new Uint32Array([0, 1, 2, 2, 1, 0]) };
 		for (const e of ['ascii', 'binary-le', 'binary-be'] as const) {

@@ -237,7 +237,7 @@ export function gatherSlots(mesh: MeshBuffers, slotFace: Uint32Array, from: numb
 	}
 }
 
-export const LEAF_SIZE = 4;
+export const LEAF_SIZE = 8;
 
 /**
  * Gathers the non-degenerate faces and builds the hierarchy. Throws on malformed buffers.
@@ -477,12 +477,14 @@ function loadTriangle(ctx: Ctx, slot: number, a: number, b: number, c: number): 
 	pl[o6 + 5] = Math.abs(ux * vy) + Math.abs(uy * vx);
 }
 
-/** The pair rule on slots si, sj (see the file comment). Writes a point into ctx.hit when true. */
+/**
+ * The pair rule on slots si, sj (see the file comment); the caller has loaded slot si into scratch
+ * slot 0 (loadTriangle), since it stays fixed across a run of sj. Writes a point into ctx.hit when true.
+ */
 export function testPair(ctx: Ctx, verts: Uint32Array, si: number, sj: number): boolean {
 	const i3 = 3 * si, j3 = 3 * sj;
 	const a0 = verts[i3], a1 = verts[i3 + 1], a2 = verts[i3 + 2];
 	const b0 = verts[j3], b1 = verts[j3 + 1], b2 = verts[j3 + 2];
-	loadTriangle(ctx, 0, a0, a1, a2);
 	loadTriangle(ctx, 1, b0, b1, b2);
 	const i = 0, j = 1;
 	// Which corners of i are shared (bit k: corner k of i), and which corner of j each matches.
@@ -634,6 +636,7 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 			for (let i = sa; i < ea; i++) {
 				const i6 = 6 * i;
 				const minX = box[i6], minY = box[i6 + 1], minZ = box[i6 + 2], maxX = box[i6 + 3], maxY = box[i6 + 4], maxZ = box[i6 + 5];
+				let loaded = false;
 				for (let j = same ? i + 1 : sb; j < eb; j++) {
 					const j6 = 6 * j;
 					if (box[j6] > maxX || box[j6 + 3] < minX || box[j6 + 1] > maxY || box[j6 + 4] < minY || box[j6 + 2] > maxZ || box[j6 + 5] < minZ) continue;
@@ -642,6 +645,10 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 						if (lo < rangeFrom || lo >= rangeTo) continue;
 					}
 					candidates++;
+					if (!loaded) {
+						loadTriangle(ctx, 0, verts[3 * i], verts[3 * i + 1], verts[3 * i + 2]);
+						loaded = true;
+					}
 					if (testPair(ctx, verts, i, j)) {
 						pairs++;
 						if (sample.length < sampleLimit) {

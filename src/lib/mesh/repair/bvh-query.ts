@@ -54,6 +54,25 @@ export function facesInBox(fb: FaceBvh, mnx: number, mny: number, mnz: number, m
 	}
 }
 
+/** Same as facesInBox by scanning every face (no BVH): cheaper than a build for a few queries. */
+export function facesInBoxScan(
+	positions: Float64Array, indices: Uint32Array, skip: Uint8Array | undefined,
+	mnx: number, mny: number, mnz: number, mxx: number, mxy: number, mxz: number, out: number[]
+): void {
+	const triCount = indices.length / 3;
+	for (let t = 0; t < triCount; t++) {
+		if (skip && skip[t]) continue;
+		const a3 = 3 * indices[3 * t], b3 = 3 * indices[3 * t + 1], c3 = 3 * indices[3 * t + 2];
+		const ax = positions[a3], bx = positions[b3], cx = positions[c3];
+		if ((ax > mxx && bx > mxx && cx > mxx) || (ax < mnx && bx < mnx && cx < mnx)) continue;
+		const ay = positions[a3 + 1], by = positions[b3 + 1], cy = positions[c3 + 1];
+		if ((ay > mxy && by > mxy && cy > mxy) || (ay < mny && by < mny && cy < mny)) continue;
+		const az = positions[a3 + 2], bz = positions[b3 + 2], cz = positions[c3 + 2];
+		if ((az > mxz && bz > mxz && cz > mxz) || (az < mnz && bz < mnz && cz < mnz)) continue;
+		out.push(t);
+	}
+}
+
 /**
  * Closest point on triangle (a, b, c) to point q, by Voronoi regions of the vertices, edges and
  * face (Ericson, Real-Time Collision Detection, 2005, §5.1.5). Writes the point into out[0..2] and

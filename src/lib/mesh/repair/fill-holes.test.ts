@@ -1,9 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { fillHoles } from './fill-holes';
+import { buildEdges } from '../edges';
 import { meshDeviation } from './deviation';
 import { FORMATS, facesNear, implicitMesh, inspect, roundTrip, surfacePoint } from './test-support';
 import { sphere, towBody } from '../implicit-shapes';
-import { concat, icosphere, unitCube, withoutFaces } from '../test-meshes';
+import { concat, flipFaces, icosphere, unitCube, withoutFaces } from '../test-meshes';
 import type { MeshBuffers } from '../types';
 
 const CELL = 0.12;
@@ -86,6 +87,21 @@ describe('fillHoles', () => {
 		expect(rep.boundaryEdges).toBe(0);
 		expect(rep.nonManifoldEdges).toBe(0);
 		expect(rep.selfIntersectingPairs).toBe(0);
+	});
+
+	it('leaves a hole whose rim is wound inconsistently as an open chain (orient first)', () => {
+		const clean = icosphere(2);
+		const hole = facesNear(clean, [0, 0, 1], 0.3);
+		const holed = withoutFaces(clean, hole);
+		// Flip one face on the rim: its boundary halfedge now runs against the others.
+		const et = buildEdges(holed.indices, holed.positions.length / 3);
+		let rim = -1;
+		for (let e = 0; e < et.edgeCount && rim < 0; e++) if (et.edgeStart[e + 1] - et.edgeStart[e] === 1) rim = (et.heSorted[et.edgeStart[e]] / 3) | 0;
+		const r = fillHoles(flipFaces(holed, [rim]));
+		expect(r.counts.holesFilled).toBe(0);
+		// The rim breaks into pieces where the winding turns; each piece is reported.
+		expect(r.counts.holesLeft.length).toBeGreaterThan(0);
+		expect(r.counts.holesLeft.every((h) => h.reason === 'open-chain')).toBe(true);
 	});
 
 	it('fills nothing and copies the mesh when it is closed', () => {

@@ -6,18 +6,22 @@
  * loop of k edges, so loops above maxEdges are left. Liepa's later refinement and fairing steps are
  * not done: the patch uses only the loop's vertices.
  *
- * Patches wind against the loop's existing halfedges, so they agree with the surrounding faces.
+ * Loops are walked over boundary halfedges (boundary-loops.ts), which needs the faces along the
+ * loop wound consistently: run orientConsistently first; a loop whose winding breaks is left as an
+ * 'open-chain'. Patches wind against the loop's halfedges, so they agree with the surrounding faces.
  * Every patch is tested for intersections with itself, with the mesh faces whose boxes overlap the
  * patch's box and with earlier patches (the exact pair rule of self-intersect.ts); a patch that
  * meets anything is dropped and its hole reported as left. A triangle whose corners repeat a vertex,
  * that has zero area, or whose inner edge already exists in the mesh (it would become non-manifold)
  * is never used.
  */
-import { analyseTopology, collapsedFaces } from '../topology';
+import { buildEdges, nextHalfedge } from '../edges';
+import { collapsedFaces } from '../topology';
+import { boundaryHalfedgeLoops } from './boundary-loops';
 import { isDegenerateTriangle } from '../predicates';
 import { findSelfIntersections } from '../self-intersect';
-import { buildFaceBvh, facesInBox, type FaceBvh } from './bvh-query';
-import { checkMesh, RepairError, type RepairResult } from './common';
+import { buildFaceBvh, facesInBox, facesInBoxScan, type FaceBvh } from './bvh-query';
+import { bboxDiagonal, checkMesh, RepairError, type RepairResult } from './common';
 import type { MeshBuffers } from '../types';
 
 export interface FillHoleOptions {
@@ -48,6 +52,8 @@ export interface FillHoleCounts {
 }
 
 export const DEFAULT_MAX_HOLE_EDGES = 200;
+/** Up to this many holes to fill, each scans all face boxes (O(F) each) instead of building a BVH. */
+const LINEAR_SCAN_HOLES = 8;
 /** k³ steps at 2000 edges is 8·10⁹: beyond that a request is refused rather than run. */
 export const MAX_HOLE_EDGES = 2000;
 
@@ -65,9 +71,9 @@ export function fillHoles(mesh: MeshBuffers, opts: FillHoleOptions = {}): Repair
 	const p = mesh.positions, ix = mesh.indices;
 	const vertCount = p.length / 3;
 	const skip = collapsedFaces(ix).mask;
-	const topo = analyseTopology(ix, vertCount, skip);
-	const { loops, edges } = topo;
-	const { edgeStart, heSorted, edgeLo, edgeHi, edgeCount } = edges;
+	const edges = buildEdges(ix, vertCount, skip);
+	const loops = boundaryHalfedgeLoops(ix, vertCount, edges);
+	const { edgeLo, edgeHi, edgeCount } = edges;
 	const hasEdge = (a: number, b: number): boolean => {
 		const lo = a < b ? a : b, hi = a < b ? b : a;
 		// Edges are numbered by (lo, hi) ascending.
@@ -87,16 +93,28 @@ export function fillHoles(mesh: MeshBuffers, opts: FillHoleOptions = {}): Repair
 	const added: number[] = [];
 	const holesLeft: HoleLeft[] = [];
 	let holesFilled = 0;
-	let faceBvh: FaceBvh | null = null;
-	let diag = 0;
+	const loopPerimeter = new Float64Array(loops.loopCount);
+	let candidates = 0;
 	for (let l = 0; l < loops.loopCount; l++) {
 		const s = loops.loopStart[l], n = loops.loopStart[l + 1] - s;
-		let perimeter = 0, gx = 0, gy = 0, gz = 0;
+		let perimeter = 0;
 		for (let i = 0; i < n; i++) {
-			const e = loops.loopEdges[s + i];
-			const a3 = 3 * edgeLo[e], b3 = 3 * edgeHi[e];
+			const h = loops.loopHe[s + i];
+			const a3 = 3 * ix[h], b3 = 3 * ix[nextHalfedge(h)];
 			perimeter += Math.hypot(p[b3] - p[a3], p[b3 + 1] - p[a3 + 1], p[b3 + 2] - p[a3 + 2]);
-			const v3 = 3 * loops.loopVerts[s + i];
+		}
+		loopPerimeter[l] = perimeter;
+		if (!loops.open[l] && n <= maxEdges && perimeter <= maxPerimeter) candidates++;
+	}
+	// Neighbourhood search: a scan of all face boxes per hole for a few holes, else one BVH.
+	let faceBvh: FaceBvh | null = null;
+	const diag = bboxDiagonal(mesh);
+	for (let l = 0; l < loops.loopCount; l++) {
+		const s = loops.loopStart[l], n = loops.loopStart[l + 1] - s;
+		const perimeter = loopPerimeter[l];
+		let gx = 0, gy = 0, gz = 0;
+		for (let i = 0; i < n; i++) {
+			const v3 = 3 * ix[loops.loopHe[s + i]];
 			gx += p[v3];
 			gy += p[v3 + 1];
 			gz += p[v3 + 2];
@@ -105,16 +123,13 @@ export function fillHoles(mesh: MeshBuffers, opts: FillHoleOptions = {}): Repair
 		if (loops.open[l]) { left('open-chain'); continue; }
 		if (n > maxEdges) { left('too-many-edges'); continue; }
 		if (perimeter > maxPerimeter) { left('perimeter-too-long'); continue; }
-		// Polygon q in the patch's winding: existing halfedges on the loop must run q[i+1] → q[i].
+		// Polygon q in the patch's winding, against the loop's halfedges h_i = v_i → v_(i+1):
+		// q_i = v_(n−i), so polygon edge (q_i, q_(i+1)) reverses h_(n−i−1) and borders its face.
 		const q = new Uint32Array(n);
-		const qFace = new Uint32Array(n); // mesh face on polygon edge (q[i], q[i+1])
-		const h0 = heSorted[edgeStart[loops.loopEdges[s]]];
-		const reverse = ix[h0] === loops.loopVerts[s];
+		const qFace = new Uint32Array(n);
 		for (let i = 0; i < n; i++) {
-			const w = reverse ? (n - i) % n : i;
-			const we = reverse ? (n - i - 1 + n) % n : i;
-			q[i] = loops.loopVerts[s + w];
-			qFace[i] = (heSorted[edgeStart[loops.loopEdges[s + we]]] / 3) | 0;
+			q[i] = ix[loops.loopHe[s + ((n - i) % n)]];
+			qFace[i] = (loops.loopHe[s + n - i - 1] / 3) | 0;
 		}
 		// A loop through a pinch vertex is split there into simple loops, filled one by one.
 		let tris: number[] | null = [];
@@ -135,13 +150,13 @@ export function fillHoles(mesh: MeshBuffers, opts: FillHoleOptions = {}): Repair
 			mny = Math.min(mny, p[v3 + 1]); mxy = Math.max(mxy, p[v3 + 1]);
 			mnz = Math.min(mnz, p[v3 + 2]); mxz = Math.max(mxz, p[v3 + 2]);
 		}
-		if (!faceBvh) {
-			faceBvh = buildFaceBvh(p, ix, skip);
-			diag = Math.hypot(faceBvh.bvh.bounds[3] - faceBvh.bvh.bounds[0], faceBvh.bvh.bounds[4] - faceBvh.bvh.bounds[1], faceBvh.bvh.bounds[5] - faceBvh.bvh.bounds[2]);
-		}
 		const pad = 1e-9 * diag;
 		const near: number[] = [];
-		facesInBox(faceBvh, mnx - pad, mny - pad, mnz - pad, mxx + pad, mxy + pad, mxz + pad, near);
+		if (candidates <= LINEAR_SCAN_HOLES) facesInBoxScan(p, ix, skip, mnx - pad, mny - pad, mnz - pad, mxx + pad, mxy + pad, mxz + pad, near);
+		else {
+			faceBvh ??= buildFaceBvh(p, ix, skip);
+			facesInBox(faceBvh, mnx - pad, mny - pad, mnz - pad, mxx + pad, mxy + pad, mxz + pad, near);
+		}
 		if (patchIntersects(p, ix, tris, near, added, mnx - pad, mny - pad, mnz - pad, mxx + pad, mxy + pad, mxz + pad)) {
 			left('patch-intersects-mesh');
 			continue;

@@ -72,9 +72,14 @@ async function main(): Promise<void> {
 		process.exit(2);
 	}
 	const bytes = new Uint8Array(readFileSync(file));
+	const cpu0 = process.cpuUsage();
 	const out = await run(bytes, file);
+	const cpu = process.cpuUsage(cpu0);
+	// Process-wide CPU time (all threads, workers included): a figure that stays meaningful when
+	// other jobs share the machine and stretch the wall time.
+	const cpuMs = (cpu.user + cpu.system) / 1000;
 	const maxRssMB = process.resourceUsage().maxRSS / 1024; // maxRSS is in kilobytes
-	process.stdout.write(JSON.stringify({ case: caseName, file, ...out, maxRssMB }) + '\n');
+	process.stdout.write(JSON.stringify({ case: caseName, file, ...out, cpuMs, maxRssMB }) + '\n');
 }
 
 if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {

@@ -9,6 +9,7 @@
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
+import { availableParallelism, loadavg } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { towBody, type ImplicitShape } from '../src/lib/mesh/implicit-shapes';
@@ -62,12 +63,14 @@ interface Row {
 	tris: number;
 	case: string;
 	wallMs: number;
+	cpuMs: number;
 	stages: Record<string, number>;
 	extra?: Record<string, number | string>;
 	maxRssMB: number;
+	load: number;
 }
 
-function runCase(caseName: string, file: string): Omit<Row, 'size' | 'tris'> {
+function runCase(caseName: string, file: string): Omit<Row, 'size' | 'tris' | 'load'> {
 	const tsxCli = createRequire(import.meta.url).resolve('tsx/cli');
 	const res = spawnSync(process.execPath, [tsxCli, join(root, 'scripts/bench-one.ts'), caseName, file], {
 		encoding: 'utf8',
@@ -91,18 +94,23 @@ function main(): void {
 		const { file, tris, genMs } = ensureMesh(size);
 		console.log(`mesh ${size.id}: ${tris.toLocaleString('en')} triangles (${file}, generated in ${fmt(genMs)} ms)`);
 		for (const c of cases) {
+			const load = loadavg()[0];
 			const r = runCase(c, file);
-			rows.push({ size: size.id, tris, ...r });
-			console.log(`  ${c}: ${fmt(r.wallMs)} ms, peak RSS ${r.maxRssMB.toFixed(0)} MB`);
+			rows.push({ size: size.id, tris, ...r, load });
+			console.log(`  ${c}: ${fmt(r.wallMs)} ms wall, ${fmt(r.cpuMs)} ms CPU, peak RSS ${r.maxRssMB.toFixed(0)} MB (load average ${load.toFixed(1)})`);
 		}
 	}
 
-	console.log('\n| size | triangles | case | wall ms | peak RSS MB | stages (ms) | figures |');
-	console.log('|---|---:|---|---:|---:|---|---|');
+	console.log('\n| size | triangles | case | wall ms | CPU ms (all threads) | peak RSS MB | load avg | stages (ms) | figures |');
+	console.log('|---|---:|---|---:|---:|---:|---:|---|---|');
 	for (const r of rows) {
 		const stages = Object.entries(r.stages).map(([k, v]) => `${k} ${fmt(v)}`).join(', ');
 		const extra = Object.entries(r.extra ?? {}).map(([k, v]) => `${k} ${typeof v === 'number' ? v.toLocaleString('en') : v}`).join(', ');
-		console.log(`| ${r.size} | ${r.tris.toLocaleString('en')} | ${r.case} | ${fmt(r.wallMs)} | ${r.maxRssMB.toFixed(0)} | ${stages} | ${extra} |`);
+		console.log(`| ${r.size} | ${r.tris.toLocaleString('en')} | ${r.case} | ${fmt(r.wallMs)} | ${fmt(r.cpuMs)} | ${r.maxRssMB.toFixed(0)} | ${r.load.toFixed(1)} | ${stages} | ${extra} |`);
+	}
+	const busiest = Math.max(...rows.map((r) => r.load));
+	if (busiest > availableParallelism()) {
+		console.log(`\nNote: load average reached ${busiest.toFixed(1)} on ${availableParallelism()} cores during the run; wall times are stretched by other jobs, CPU ms less so.`);
 	}
 
 	const pick = (size: string, c: string) => rows.find((r) => r.size === size && r.case === c);

@@ -71,13 +71,25 @@ function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, t
 	return holes;
 }
 
+/** Refuse what cannot be measured, before any stage starts: too many faces, non-finite coordinates. */
+export function validateMesh(parsed: { positions: Float64Array; indices: Uint32Array }, maxFaces = DEFAULT_MAX_FACES): void {
+	const triCount = (parsed.indices.length / 3) | 0;
+	if (triCount > maxFaces) throw new MeshReadError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
+	const pos = parsed.positions;
+	for (let i = 0; i < pos.length; i++) {
+		if (!Number.isFinite(pos[i])) {
+			throw new MeshReadError(`vertex ${(i / 3) | 0} has a coordinate that is not a finite number (${pos[i]}); the mesh cannot be measured`);
+		}
+	}
+}
+
 /** Build the full report (self-intersections come in through opts.selfIntersections). */
 export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): InspectionReport {
 	const timings: Record<string, number> = { ...(opts.timings ?? {}) };
 	const triCount = (parsed.indices.length / 3) | 0;
 	const vertCount = (parsed.positions.length / 3) | 0;
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
-	if (triCount > maxFaces) throw new MeshReadError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
+	validateMesh(parsed, maxFaces);
 	const flow = normaliseDirection(opts.flowDirection);
 	const progress = (stage: string, percent: number) => opts.onProgress?.(stage, percent);
 	const tol: Tolerances = {
@@ -87,12 +99,6 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	};
 
 	progress('topology', 0);
-	const pos = parsed.positions;
-	for (let i = 0; i < pos.length; i++) {
-		if (!Number.isFinite(pos[i])) {
-			throw new MeshReadError(`vertex ${(i / 3) | 0} has a coordinate that is not a finite number (${pos[i]}); the mesh cannot be measured`);
-		}
-	}
 	let t0 = performance.now();
 	const collapsed = opts.collapsed ?? collapsedFaces(parsed.indices);
 	const topo = analyseTopology(parsed.indices, vertCount, collapsed.mask);

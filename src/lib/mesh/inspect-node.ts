@@ -4,10 +4,11 @@
  */
 import { readMesh } from './read';
 import { findSelfIntersectionsParallel } from './self-intersect-node';
+import { validateMesh } from './build-report';
 import { buildReport, type InspectionReport } from './report';
 import type { InspectRunOptions } from './inspect';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
-import { DEFAULT_MAX_FACES, MeshReadError } from './types';
+import { DEFAULT_MAX_FACES } from './types';
 
 export interface InspectNodeOptions extends InspectRunOptions {
 	/** Worker threads for self-intersections; default os.availableParallelism(). */
@@ -24,8 +25,7 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
 	const parsed = readMesh(bytes, fileName, { maxFaces });
 	const timings: Record<string, number> = { ...(opts.timings ?? {}), read: performance.now() - t0 };
-	const triCount = parsed.indices.length / 3;
-	if (triCount > maxFaces) throw new MeshReadError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
+	validateMesh(parsed, maxFaces);
 	// Started before the synchronous analysis below so the workers run alongside it. A rejection
 	// is caught here and rethrown at the await, so it never goes unhandled meanwhile.
 	let siError: unknown = null;

@@ -1,9 +1,10 @@
 /** Synchronous inspection entry points: bytes or a parsed mesh in, InspectionReport out. */
 import { readMesh } from './read';
 import { findSelfIntersections } from './self-intersect';
+import { validateMesh } from './build-report';
 import { buildReport, type InspectionReport, type InspectOptions } from './report';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
-import { DEFAULT_MAX_FACES, MeshReadError, type ParsedMesh } from './types';
+import { DEFAULT_MAX_FACES, type ParsedMesh } from './types';
 
 export interface InspectRunOptions extends InspectOptions {
 	/** Timings already measured (e.g. reading), merged into the report's `timings`. */
@@ -13,9 +14,8 @@ export interface InspectRunOptions extends InspectOptions {
 /** Full report on one thread, self-intersections included unless skipSelfIntersections. */
 export function inspectMesh(parsed: ParsedMesh, opts: InspectRunOptions = {}): InspectionReport {
 	const t0 = performance.now();
-	const triCount = parsed.indices.length / 3;
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
-	if (triCount > maxFaces) throw new MeshReadError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
+	validateMesh(parsed, maxFaces);
 	const si = opts.skipSelfIntersections ? null : findSelfIntersections(parsed, { sampleLimit: opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT });
 	const report = buildReport(parsed, { ...opts, selfIntersections: si });
 	report.timings.total = (opts.timings?.read ?? 0) + performance.now() - t0;

@@ -57,7 +57,7 @@ export interface SelfIntersectionResult {
 }
 
 export interface SelfIntersectionOptions {
-	/** Most sample entries kept (default 100). */
+	/** Most sample entries kept (default 100): the pairs with the smallest (a, b), so the sample does not depend on traversal order or sharding. */
 	sampleLimit?: number;
 	/**
 	 * Count only pairs whose smaller face index lies in [from, to). Disjoint ranges covering
@@ -322,7 +322,7 @@ interface Ctx {
 	hit: Float64Array;
 }
 
-/** Exact sign of point p against the plane of slot k, float filter first. */
+/** Exact sign of point p against the plane of the triangle in scratch slot k, float filter first. */
 function sidePlane(ctx: Ctx, k: number, px: number, py: number, pz: number): number {
 	const tp = ctx.tp, pl = ctx.pl;
 	const k9 = 9 * k, k6 = 6 * k;
@@ -373,8 +373,8 @@ function setHit(ctx: Ctx, x: number, y: number, z: number): void {
 }
 
 /**
- * Closed segment pq (p at tp[p9], q at tp[q9] of `src`) against closed triangle slot t, given the
- * exact signs sp, sq of p and q against t's plane.
+ * Closed segment pq against the closed triangle in scratch slot t, given the exact signs sp, sq of
+ * p and q against that triangle's plane.
  */
 function segTri(ctx: Ctx, px: number, py: number, pz: number, qx: number, qy: number, qz: number, sp: number, sq: number, t: number): boolean {
 	if ((sp > 0 && sq > 0) || (sp < 0 && sq < 0)) return false;
@@ -422,7 +422,7 @@ function segTri(ctx: Ctx, px: number, py: number, pz: number, qx: number, qy: nu
 	return true;
 }
 
-/** Coplanar non-degenerate triangles i, j (slots): closed 2D overlap. */
+/** Coplanar non-degenerate triangles in scratch slots i, j: closed 2D overlap. */
 function coplanarTriTri(ctx: Ctx, i: number, j: number): boolean {
 	const tp = ctx.tp, i9 = 9 * i, j9 = 9 * j;
 	const axis = dropAxis(tp[i9], tp[i9 + 1], tp[i9 + 2], tp[i9 + 3], tp[i9 + 4], tp[i9 + 5], tp[i9 + 6], tp[i9 + 7], tp[i9 + 8]);
@@ -444,7 +444,7 @@ function coplanarTriTri(ctx: Ctx, i: number, j: number): boolean {
 		for (let m = 0; m < 3; m++) {
 			const r = j9 + 3 * m, s = j9 + 3 * ((m + 1) % 3);
 			if (properCross2(tp[p + u], tp[p + v], tp[q + u], tp[q + v], tp[r + u], tp[r + v], tp[s + u], tp[s + v])) {
-				// Point: midpoint of the two edge midpoints is inside neither exactly; use the crossing in 3D by 2D parameters.
+				// Hit point: the crossing, located on edge pq by its 2D parameter (float, display only).
 				const pu = tp[p + u], pv = tp[p + v], qu = tp[q + u], qv = tp[q + v];
 				const ru = tp[r + u], rv = tp[r + v], su = tp[s + u], sv = tp[s + v];
 				const den = (qu - pu) * (sv - rv) - (qv - pv) * (su - ru);
@@ -553,6 +553,8 @@ export function testPair(ctx: Ctx, verts: Uint32Array, si: number, sj: number): 
 	return true;
 }
 
+const bySampleKey = (x: SelfIntersectionSample, y: SelfIntersectionSample) => x.a - y.a || x.b - y.b;
+
 /** Runs the pair search on prepared data. Used directly by the worker shards. */
 export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions = {}, buildMs = 0): SelfIntersectionResult {
 	const t0 = performance.now();
@@ -607,30 +609,30 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 					continue;
 				}
 			} else {
-			const a6 = 6 * a, b6 = 6 * b;
-			if (
-				bounds[a6] > bounds[b6 + 3] || bounds[b6] > bounds[a6 + 3] ||
-				bounds[a6 + 1] > bounds[b6 + 4] || bounds[b6 + 1] > bounds[a6 + 4] ||
-				bounds[a6 + 2] > bounds[b6 + 5] || bounds[b6 + 2] > bounds[a6 + 5]
-			) continue;
-			const fb = firstChild[b];
-			if (fa >= 0 || fb >= 0) {
-				if (sp + 4 > stack.length) {
-					const grown = new Int32Array(stack.length * 2);
-					grown.set(stack);
-					stack = grown;
+				const a6 = 6 * a, b6 = 6 * b;
+				if (
+					bounds[a6] > bounds[b6 + 3] || bounds[b6] > bounds[a6 + 3] ||
+					bounds[a6 + 1] > bounds[b6 + 4] || bounds[b6 + 1] > bounds[a6 + 4] ||
+					bounds[a6 + 2] > bounds[b6 + 5] || bounds[b6 + 2] > bounds[a6 + 5]
+				) continue;
+				const fb = firstChild[b];
+				if (fa >= 0 || fb >= 0) {
+					if (sp + 4 > stack.length) {
+						const grown = new Int32Array(stack.length * 2);
+						grown.set(stack);
+						stack = grown;
+					}
+					// Descend the larger side (or the only inner one).
+					if (fb < 0 || (fa >= 0 && count[a] >= count[b])) {
+						stack[sp++] = fa; stack[sp++] = b;
+						stack[sp++] = fa + 1; stack[sp++] = b;
+					} else {
+						stack[sp++] = a; stack[sp++] = fb;
+						stack[sp++] = a; stack[sp++] = fb + 1;
+					}
+					continue;
 				}
-				// Descend the larger side (or the only inner one).
-				if (fb < 0 || (fa >= 0 && count[a] >= count[b])) {
-					stack[sp++] = fa; stack[sp++] = b;
-					stack[sp++] = fa + 1; stack[sp++] = b;
-				} else {
-					stack[sp++] = a; stack[sp++] = fb;
-					stack[sp++] = a; stack[sp++] = fb + 1;
-				}
-				continue;
-			}
-			sa = start[a]; ea = sa + count[a]; sb = start[b]; eb = sb + count[b]; same = false;
+				sa = start[a]; ea = sa + count[a]; sb = start[b]; eb = sb + count[b]; same = false;
 			}
 			// Leaf against leaf (or a leaf against itself): box test, then the exact pair rule.
 			for (let i = sa; i < ea; i++) {
@@ -651,16 +653,22 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 					}
 					if (testPair(ctx, verts, i, j)) {
 						pairs++;
-						if (sample.length < sampleLimit) {
+						if (sampleLimit > 0) {
 							const fi = faceOf[i], fj = faceOf[j];
 							sample.push({ a: Math.min(fi, fj), b: Math.max(fi, fj), point: [hit[0], hit[1], hit[2]] });
+							// Keep the sampleLimit smallest (a, b) seen so far, so shards merge to the same sample.
+							if (sample.length >= 2 * sampleLimit + 64) {
+								sample.sort(bySampleKey);
+								sample.length = sampleLimit;
+							}
 						}
 					}
 				}
 			}
 		}
 	}
-	sample.sort((x, y) => x.a - y.a || x.b - y.b);
+	sample.sort(bySampleKey);
+	if (sample.length > sampleLimit) sample.length = sampleLimit;
 	const traverseMs = performance.now() - t0;
 	return {
 		pairs,

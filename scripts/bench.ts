@@ -33,6 +33,9 @@ const SIZES: SizeSpec[] = [
 
 const CASE_ORDER = ['report', 'self-intersect-1t', 'self-intersect-2w'];
 
+/** Bump when the generator or shapes change, so cached meshes in bench-out/ are rebuilt. */
+const GEN_VERSION = 2;
+
 /** Triangle count scales as 1 / cell²: calibrate on a coarse grid, then pick the cell size. */
 function cellFor(shape: ImplicitShape, targetTris: number): number {
 	const c0 = 0.04;
@@ -45,7 +48,7 @@ function ensureMesh(size: SizeSpec): { file: string; tris: number; genMs: number
 	const metaFile = file + '.json';
 	if (existsSync(file) && existsSync(metaFile) && !process.env.BENCH_REGEN) {
 		const meta = JSON.parse(readFileSync(metaFile, 'utf8'));
-		return { file, tris: meta.tris, genMs: meta.genMs };
+		if (meta.version === GEN_VERSION) return { file, tris: meta.tris, genMs: meta.genMs };
 	}
 	const t0 = performance.now();
 	const shape = size.shape();
@@ -54,7 +57,7 @@ function ensureMesh(size: SizeSpec): { file: string; tris: number; genMs: number
 	writeFileSync(file, writeBinaryStl(mesh));
 	const tris = mesh.indices.length / 3;
 	const genMs = performance.now() - t0;
-	writeFileSync(metaFile, JSON.stringify({ shape: shape.name, seed: 1, cell, tris, genMs }));
+	writeFileSync(metaFile, JSON.stringify({ version: GEN_VERSION, shape: shape.name, seed: 1, cell, tris, genMs }));
 	return { file, tris, genMs };
 }
 

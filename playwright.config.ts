@@ -39,6 +39,9 @@ export default defineConfig({
 	retries: 0,
 	forbidOnly: !!process.env.CI,
 	reporter: 'list',
+	// Generous: CI machines and the shared development machine are often heavily loaded.
+	timeout: 60_000,
+	expect: { timeout: 15_000 },
 	outputDir: 'test-results',
 	use: {
 		baseURL,
@@ -62,7 +65,9 @@ export default defineConfig({
 			PORT: String(port),
 			HOST: '127.0.0.1',
 			ORIGIN: baseURL,
-			SHELLGATE_DEV_MAILBOX: '1'
+			SHELLGATE_DEV_MAILBOX: '1',
+			// The app enforces its own upload limit (UPLOAD_LIMIT_MB) while streaming.
+			BODY_SIZE_LIMIT: 'Infinity'
 		}
 	}
 });

@@ -97,10 +97,12 @@ run_stage() {
 
 run_stage svelte-check npm run check || true
 run_stage vitest npx vitest run --passWithNoTests || true
-if run_stage "vite build" vite_build --logLevel error; then
+# The end-to-end tests sign in as the demo users, so the demo data goes in after the integration tests.
+seed_demo() { if [ -f scripts/seed.ts ]; then run_ts scripts/seed.ts; else log "scripts/seed.ts not there yet"; fi; }
+if run_stage "vite build" vite_build --logLevel error && run_stage "demo data" seed_demo; then
 	run_stage playwright npx playwright test --pass-with-no-tests || true
 else
-	STAGES+=("$(printf '%-22s %6s    skipped (no build)' playwright -)")
+	STAGES+=("$(printf '%-22s %6s    skipped (no build or no demo data)' playwright -)")
 	FAILED+=(playwright)
 fi
 

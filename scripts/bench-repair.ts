@@ -43,7 +43,7 @@ function summary(op: string, counts: unknown): string {
 		case 'weld': return `${c.verticesMerged} merged, ${c.facesDropped} faces dropped`;
 		case 'remove-degenerate-faces': return `${c.degenerateFaces} degenerate, ${c.duplicateFaces} duplicate`;
 		case 'remove-small-shells': return `${c.shellsRemoved} of ${c.shellsBefore} shells removed`;
-		case 'split-non-manifold-vertices': return `${c.verticesSplit} vertices split`;
+		case 'split-non-manifold-vertices': return `${c.verticesSplit} vertices split, ${c.nonManifoldEdgesSplit} edges separated, ${c.nonManifoldEdgesLeft} left`;
 		case 'orient': return `${c.facesFlipped} faces flipped, ${c.shellsInverted} inverted`;
 		case 'fill-holes': return `${c.holesFilled} filled (+${c.trianglesAdded} tris), ${(c.holesLeft as unknown[]).length} left`;
 		case 'collapse-short-edges': return `${c.edgesCollapsed} collapsed, ${c.shortEdgesLeft} short left`;

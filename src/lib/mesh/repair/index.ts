@@ -7,6 +7,7 @@ export { removeSmallShells, type SmallShellOptions, type SmallShellCounts } from
 export { fillHoles, DEFAULT_MAX_HOLE_EDGES, MAX_HOLE_EDGES, type FillHoleOptions, type FillHoleCounts, type HoleLeft, type HoleLeftReason } from './fill-holes';
 export { collapseShortEdges, MIN_NORMAL_COS, type CollapseCounts } from './collapse-short-edges';
 export { splitNonManifoldVertices, type SplitCounts } from './split-non-manifold';
+export { boundaryHalfedgeLoops, type HalfedgeLoops } from './boundary-loops';
 export { meshDeviation, type MeshDeviation, type OneSidedDeviation, type DeviationOptions } from './deviation';
 export {
 	applyRecipe,

@@ -113,7 +113,7 @@ export function parseRecipe(json: unknown): RepairStep[] {
  * 1. weld within 1e-6 × bbox diagonal (far above float noise of exported seams, far below a cell);
  * 2. remove degenerate and duplicate faces;
  * 3. remove shells under 0.1 % of the total area (the largest shell always stays);
- * 4. split pinch vertices;
+ * 4. split pinch vertices (and non-manifold edges where bodies touch along them, see split-non-manifold.ts);
  * 5. orient outward;
  * 6. fill holes with a perimeter up to 40 cells and at most 200 edges: a marching-cubes boundary
  *    zig-zags, so its perimeter is about 1.6 × that of the round opening (measured on the test

@@ -113,6 +113,6 @@ describe('fillHoles', () => {
 	});
 
 	it('refuses an edge limit beyond what the O(k³) programme can run', () => {
-		expect(() => fillHoles(unitCube(), { maxEdges: 100_000 })).toThrow(/maxEdges must be a whole number from 3 to 2000/);
+		expect(() => fillHoles(unitCube(), { maxEdges: 100_000 })).toThrow(/maxEdges must be a whole number from 3 to 1000/);
 	});
 });

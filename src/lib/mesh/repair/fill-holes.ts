@@ -54,8 +54,8 @@ export interface FillHoleCounts {
 export const DEFAULT_MAX_HOLE_EDGES = 200;
 /** Up to this many holes to fill, each scans all face boxes (O(F) each) instead of building a BVH. */
 const LINEAR_SCAN_HOLES = 8;
-/** k³ steps at 2000 edges is 8·10⁹: beyond that a request is refused rather than run. */
-export const MAX_HOLE_EDGES = 2000;
+/** The programme needs ~44 bytes × k² (45 MB at 1000 edges) and k³/6 steps: larger limits are refused. */
+export const MAX_HOLE_EDGES = 1000;
 
 export function fillHoles(mesh: MeshBuffers, opts: FillHoleOptions = {}): RepairResult<FillHoleCounts> {
 	const op = 'fill-holes';

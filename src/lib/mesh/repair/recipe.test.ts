@@ -1,6 +1,6 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import Module from 'manifold-3d';
-import { applyRecipe, parseRecipe, STANDARD_RECIPE, type RepairStep } from './recipe';
+import { applyRecipe, applyStep, parseRecipe, STANDARD_RECIPE, type RepairStep } from './recipe';
 import { meshDeviation } from './deviation';
 import { defectiveMesh, FORMATS, inspect, manifoldVerdict, roundTrip } from './test-support';
 import { sphere, towBody, keelBulb } from '../implicit-shapes';
@@ -72,6 +72,18 @@ describe('applyRecipe', () => {
 		for (const e of log) expect(e.ms).toBeGreaterThanOrEqual(0);
 	});
 
+	it('never changes the input buffers, step by step', () => {
+		const { broken } = defectiveMesh(sphere(1), 0.2);
+		const pos = broken.positions.slice(), idx = broken.indices.slice();
+		for (const step of STANDARD_RECIPE(0.2)) {
+			const r = applyStep(broken, step);
+			expect(r.mesh.positions).not.toBe(broken.positions);
+			expect(r.mesh.indices).not.toBe(broken.indices);
+			expect(Array.from(broken.positions)).toEqual(Array.from(pos));
+			expect(Array.from(broken.indices)).toEqual(Array.from(idx));
+		}
+	});
+
 	it('runs an empty recipe as a copy', () => {
 		const c = unitCube();
 		const r = applyRecipe(c, []);
@@ -94,7 +106,7 @@ describe('parseRecipe', () => {
 		[[{ op: 'orient' }, { op: 'collapse-short-edges' }], /step 2 \(collapse-short-edges\): "minLength" is required/],
 		[[{ op: 'weld', tolerance: 1e-3, relativeTolerance: 1e-6 }], /give exactly one of "tolerance"/],
 		[[{ op: 'weld', tolerance: -1 }], /"tolerance" must be a positive finite number, got -1/],
-		[[{ op: 'fill-holes', maxEdges: 2.5 }], /"maxEdges" must be a whole number from 3 to 2000/],
+		[[{ op: 'fill-holes', maxEdges: 2.5 }], /"maxEdges" must be a whole number from 3 to 1000/],
 		[[{ op: 'remove-small-shells' }], /give at least one of maxFaces/],
 		[[{ op: 'remove-small-shells', maxAreaShare: 5 }], /"maxAreaShare" is a share, at most 1/],
 		[[null], /step 1 must be an object/]

@@ -145,7 +145,10 @@ export function applyStep(mesh: MeshBuffers, step: RepairStep): { mesh: MeshBuff
 		case 'weld': {
 			const tol = 'tolerance' in step ? step.tolerance : step.relativeTolerance * bboxDiagonal(mesh);
 			params.resolvedTolerance = tol;
-			if (!(tol > 0)) return { mesh, counts: { verticesMerged: 0, facesDropped: 0 }, params };
+			if (!(tol > 0)) {
+				// Empty or single-point mesh: nothing to weld, but still a new mesh.
+				return { mesh: { positions: mesh.positions.slice(), indices: mesh.indices.slice() }, counts: { verticesMerged: 0, facesDropped: 0 }, params };
+			}
 			return { ...weldByTolerance(mesh, tol), params };
 		}
 		case 'remove-degenerate-faces':
@@ -175,6 +178,6 @@ export function applyRecipe(mesh: MeshBuffers, steps: RepairStep[]): RecipeResul
 		current = r.mesh;
 		log.push({ op: step.op, params: r.params, counts: r.counts, facesBefore, facesAfter: current.indices.length / 3, ms: performance.now() - t0 });
 	}
-	if (current === mesh) current = { positions: mesh.positions.slice(), indices: mesh.indices.slice() };
+	if (current === mesh) current = { positions: mesh.positions.slice(), indices: mesh.indices.slice() }; // empty recipe
 	return { mesh: current, log };
 }

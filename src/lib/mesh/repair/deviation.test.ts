@@ -94,6 +94,16 @@ describe('meshDeviation', () => {
 		expect(dev.perVertex!.length).toBe(inner.positions.length / 3);
 	});
 
+	it('adds seeded area-weighted samples on top of vertices and centroids (seed 5): never a smaller maximum, same result for the same seed', () => {
+		const a = randomSoup(4, 40, 3), b = randomSoup(104, 50, 3);
+		const base = meshDeviation(a, b);
+		const more = meshDeviation(a, b, { areaSamples: 500, seed: 5 });
+		expect(more.aToB.samples).toBe(base.aToB.samples + 500);
+		expect(more.aToB.max).toBeGreaterThanOrEqual(base.aToB.max);
+		expect(meshDeviation(a, b, { areaSamples: 500, seed: 5 }).aToB.mean).toBe(more.aToB.mean);
+		expect(() => meshDeviation(a, b, { areaSamples: -1 })).toThrow(/areaSamples must be a whole number/);
+	});
+
 	it('is zero from a mesh to itself and refuses an empty target', () => {
 		const s = icosphere(2);
 		// Centroid samples are rounded once: zero up to float64 rounding.

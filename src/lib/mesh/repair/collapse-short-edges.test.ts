@@ -3,7 +3,7 @@ import { collapseShortEdges } from './collapse-short-edges';
 import { meshDeviation } from './deviation';
 import { FORMATS, implicitMesh, inspect, roundTrip } from './test-support';
 import { towBody } from '../implicit-shapes';
-import { plateWithHoles, unitCube } from '../test-meshes';
+import { icosphere, plateWithHoles, unitCube } from '../test-meshes';
 
 const CELL = 0.1;
 
@@ -53,6 +53,32 @@ describe('collapseShortEdges', () => {
 		expect(r.counts.edgesCollapsed).toBe(0);
 		expect(r.counts.skipped.linkCondition).toBe(1);
 		expect(inspect(r.mesh).watertight).toBe(true);
+	});
+
+	it('refuses a collapse whose midpoint would turn a neighbour face over', () => {
+		// Icosphere: pick vertex u, a neighbour v and a face (u, x, y) of u without v. Put u just
+		// inside edge x–y and v just beyond it: the midpoint of u–v lies past x–y, so (m, x, y) flips.
+		const m = icosphere(1);
+		const p = m.positions, ix = m.indices;
+		const u = ix[0];
+		const faces = [] as number[];
+		for (let t = 0; t < ix.length / 3; t++) if (ix[3 * t] === u || ix[3 * t + 1] === u || ix[3 * t + 2] === u) faces.push(t);
+		const f = faces[0];
+		const [x, y] = [0, 1, 2].map((k) => ix[3 * f + k]).filter((w) => w !== u) as [number, number];
+		// v: a neighbour of u other than x and y.
+		let v = -1;
+		for (const t of faces) for (let k = 0; k < 3; k++) { const w = ix[3 * t + k]; if (w !== u && w !== x && w !== y) v = w; }
+		const mid = [0, 1, 2].map((d) => (p[3 * x + d] + p[3 * y + d]) / 2);
+		const inward = [0, 1, 2].map((d) => p[3 * u + d] - mid[d]);
+		const q = p.slice();
+		for (let d = 0; d < 3; d++) {
+			q[3 * u + d] = mid[d] + 0.01 * inward[d];
+			q[3 * v + d] = mid[d] - 0.03 * inward[d];
+		}
+		const uvLength = Math.hypot(...[0, 1, 2].map((d) => q[3 * u + d] - q[3 * v + d]));
+		const r = collapseShortEdges({ positions: q, indices: ix }, 1.01 * uvLength);
+		expect(r.counts.edgesCollapsed).toBe(0);
+		expect(r.counts.skipped.normalFlip).toBeGreaterThanOrEqual(1);
 	});
 
 	it('refuses some collapses on a coarse tow body (link condition or normal checks) and keeps it closed and free of self-intersections', () => {

@@ -4,7 +4,7 @@ import { applyRecipe, applyStep, parseRecipe, STANDARD_RECIPE, type RepairStep }
 import { meshDeviation } from './deviation';
 import { defectiveMesh, FORMATS, inspect, manifoldVerdict, roundTrip } from './test-support';
 import { sphere, towBody, keelBulb } from '../implicit-shapes';
-import { unitCube } from '../test-meshes';
+import { concat, unitCube, weldExact } from '../test-meshes';
 import { expectClose } from '../test-close';
 
 let wasm: Awaited<ReturnType<typeof Module>>;
@@ -52,6 +52,28 @@ describe.each(FORMATS)('standard recipe on a mesh read back from %s', (_fmt, wri
 		const cleanVolume = inspect(clean).volume;
 		expect(Math.abs(rep.volume - cleanVolume) / cleanVolume).toBeLessThan(0.01);
 		expect(meshDeviation(mesh, clean).hausdorff).toBeLessThan(2 * CELL);
+	});
+});
+
+describe('standard recipe on bodies that touch', () => {
+	it.each([
+		['two blocks sharing an edge', [1, 1, 0]],
+		['two blocks sharing a corner', [1, 1, 1]]
+	] as [string, [number, number, number]][])('%s: separated into two closed shells that manifold-3d 3.5 accepts', (_name, offset) => {
+		const m = weldExact(concat(unitCube(), unitCube(offset)));
+		const before = inspect(m);
+		expect(before.nonManifoldEdges + before.nonManifoldVertices).toBeGreaterThan(0);
+		const { mesh } = applyRecipe(m, STANDARD_RECIPE(0.1));
+		const rep = inspect(mesh);
+		expect(rep.nonManifoldEdges).toBe(0);
+		expect(rep.nonManifoldVertices).toBe(0);
+		expect(rep.watertight).toBe(true);
+		expect(rep.volume).toBe(2);
+		const ref = manifoldVerdict(wasm, mesh);
+		expect(ref.status).toBe('NoError');
+		expect(ref.volume).toBeCloseTo(2, 12);
+		// Two spheres: χ = 4, and manifold-3d reports genus 1 − χ/2 = −1 for the pair.
+		expect(ref.genus).toBe(-1);
 	});
 });
 

@@ -1,7 +1,7 @@
 // Background duties of the web process: mail delivery and (when enabled) in-process check workers.
 // Started once from hooks.server.ts; never during `vite build`.
 import { building } from '$app/environment';
-import { getDb } from './db';
+import { closeDb, getDb } from './db';
 import { flushOutbox } from './mail';
 import { config } from './config';
 import { runWorkerLoop } from './jobs/runner';
@@ -29,6 +29,11 @@ export function startBackground(): void {
 	// In-process check workers (CHECK_WORKERS, default 1; 0 leaves checks to `npm run worker`).
 	const controller = new AbortController();
 	for (let i = 0; i < config.checkWorkers; i++) void runWorkerLoop({ db: getDb, signal: controller.signal });
-	process.once('SIGTERM', () => controller.abort());
-	process.once('SIGINT', () => controller.abort());
+	// adapter-node emits this after it stops accepting requests (SIGTERM/SIGINT): stop the loops and
+	// close the pool so the process can exit by itself.
+	process.once('sveltekit:shutdown' as 'exit', () => {
+		controller.abort();
+		clearInterval(timer);
+		void closeDb();
+	});
 }

@@ -1,6 +1,7 @@
 // The engine, run off the main thread: bytes in, report (or a reader's refusal) out, with progress.
 // Imports only src/lib/mesh, so a worker thread loads no server or database code.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
+import { isWorkerFor } from '../../mesh/module-worker-node';
 import { inspectBytes } from '../../mesh/inspect';
 import { inspectFileNode } from '../../mesh/inspect-node';
 import { MeshReadError } from '../../mesh/types';
@@ -43,3 +44,5 @@ export async function runCheckThread(): Promise<void> {
 		else post({ type: 'error', message: e instanceof Error ? e.message : String(e) });
 	}
 }
+
+if (isWorkerFor('shellgate-check')) void runCheckThread();

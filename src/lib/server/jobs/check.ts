@@ -13,7 +13,7 @@ import { checkRun, gateProfile, part, project, revision, ruleResult } from '../d
 import { notifyHeld, notifyRepairAwaits } from '../notify';
 import { getStore } from '../storage';
 import type { CheckThreadInput, CheckThreadMessage } from './check-thread';
-import { spawnModuleWorker } from './module-worker';
+import { spawnModuleWorker } from '../../mesh/module-worker-node';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
 
 export interface CheckLimits {
@@ -44,7 +44,7 @@ export function runEngine(
 			fn();
 		};
 		const onAbort = () => finish(() => reject(new Error('The check was cancelled.')));
-		w = spawnModuleWorker(CHECK_THREAD_URL, 'runCheckThread', input as unknown as Record<string, unknown>, {
+		w = spawnModuleWorker(CHECK_THREAD_URL, 'shellgate-check', input as unknown as Record<string, unknown>, {
 			resourceLimits: { maxOldGenerationSizeMb: limits.memoryLimitMb },
 			transferList: [input.bytes.buffer as ArrayBuffer]
 		});

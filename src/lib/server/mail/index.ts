@@ -26,46 +26,45 @@ export async function queueMail(tx: Tx, mail: Mail): Promise<void> {
 
 const MAX_ATTEMPTS = 8;
 
+/**
+ * Delivers pending mail. Each message is claimed with FOR UPDATE SKIP LOCKED inside its own
+ * transaction, so several app processes sharing the database never send the same mail twice.
+ */
 export async function flushOutbox(db: Db): Promise<{ sent: number; failed: number }> {
-	const pending = await db
-		.select()
-		.from(mailOutbox)
-		.where(and(eq(mailOutbox.status, 'pending'), lt(mailOutbox.attempts, MAX_ATTEMPTS)))
-		.orderBy(asc(mailOutbox.id))
-		.limit(50);
-	if (pending.length === 0) return { sent: 0, failed: 0 };
-	const transport = nodemailer.createTransport({
-		host: config.smtpHost,
-		port: config.smtpPort,
-		secure: false,
-		ignoreTLS: true,
-		connectionTimeout: 5000
-	});
 	let sent = 0;
 	let failed = 0;
+	let transport: ReturnType<typeof nodemailer.createTransport> | undefined;
 	try {
-		for (const m of pending) {
-			try {
-				await transport.sendMail({
-					from: config.mailFrom,
-					to: m.toAddress,
-					subject: m.subject,
-					text: m.textBody,
-					html: m.htmlBody ?? undefined
-				});
-				await db.update(mailOutbox).set({ status: 'sent', sentAt: new Date(), attempts: m.attempts + 1 }).where(eq(mailOutbox.id, m.id));
-				sent++;
-			} catch (e) {
-				const attempts = m.attempts + 1;
-				await db
-					.update(mailOutbox)
-					.set({ attempts, lastError: String((e as Error).message).slice(0, 500), status: attempts >= MAX_ATTEMPTS ? 'failed' : 'pending' })
-					.where(eq(mailOutbox.id, m.id));
-				failed++;
-			}
+		for (let i = 0; i < 50; i++) {
+			const done = await db.transaction(async (tx) => {
+				const [m] = await tx
+					.select()
+					.from(mailOutbox)
+					.where(and(eq(mailOutbox.status, 'pending'), lt(mailOutbox.attempts, MAX_ATTEMPTS)))
+					.orderBy(asc(mailOutbox.id))
+					.limit(1)
+					.for('update', { skipLocked: true });
+				if (!m) return true;
+				transport ??= nodemailer.createTransport({ host: config.smtpHost, port: config.smtpPort, secure: false, ignoreTLS: true, connectionTimeout: 5000 });
+				try {
+					await transport.sendMail({ from: config.mailFrom, to: m.toAddress, subject: m.subject, text: m.textBody, html: m.htmlBody ?? undefined });
+					await tx.update(mailOutbox).set({ status: 'sent', sentAt: new Date(), attempts: m.attempts + 1 }).where(eq(mailOutbox.id, m.id));
+					sent++;
+				} catch (e) {
+					const attempts = m.attempts + 1;
+					await tx
+						.update(mailOutbox)
+						.set({ attempts, lastError: String((e as Error).message).slice(0, 500), status: attempts >= MAX_ATTEMPTS ? 'failed' : 'pending' })
+						.where(eq(mailOutbox.id, m.id));
+					failed++;
+					return true; // SMTP trouble: try the rest on a later tick.
+				}
+				return false;
+			});
+			if (done) break;
 		}
 	} finally {
-		transport.close();
+		transport?.close();
 	}
 	return { sent, failed };
 }

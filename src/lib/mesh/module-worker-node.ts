@@ -1,0 +1,42 @@
+/**
+ * Starts a worker thread that loads one module by its own import.meta.url; the module runs its
+ * worker side at load time when `isWorkerFor(tag)` says the thread was started for it.
+ *
+ * Why not call an export by name: after `vite build` the bundler renames a chunk's exports, so the
+ * worker could not find `runX` in the chunk. A module-level `if (isWorkerFor('x')) runX()` survives
+ * bundling. The URL names the TypeScript source under tsx and vitest; then tsx's CommonJS hook is
+ * loaded first so Node can run it.
+ */
+import { createRequire } from 'node:module';
+import { isMainThread, Worker, workerData, type ResourceLimits } from 'node:worker_threads';
+
+const SOURCE = `
+const { workerData } = require('node:worker_threads');
+const { moduleUrl, tsxHook } = workerData.__module;
+if (tsxHook) {
+	require(tsxHook);
+	require(require('node:url').fileURLToPath(moduleUrl));
+} else {
+	import(moduleUrl);
+}
+`;
+
+export function spawnModuleWorker(
+	moduleUrl: string,
+	tag: string,
+	data: Record<string, unknown>,
+	opts: { resourceLimits?: ResourceLimits; transferList?: Transferable[] } = {}
+): Worker {
+	const tsxHook = moduleUrl.endsWith('.ts') ? createRequire(import.meta.url).resolve('tsx/cjs') : null;
+	return new Worker(SOURCE, {
+		eval: true,
+		workerData: { ...data, __module: { moduleUrl, tag, tsxHook } },
+		resourceLimits: opts.resourceLimits,
+		transferList: opts.transferList as never
+	});
+}
+
+/** True inside a worker thread that spawnModuleWorker started with this tag. */
+export function isWorkerFor(tag: string): boolean {
+	return !isMainThread && (workerData as { __module?: { tag?: string } } | null)?.__module?.tag === tag;
+}

@@ -1,0 +1,96 @@
+import { error, fail } from '@sveltejs/kit';
+import { and, asc, desc, eq, sql } from 'drizzle-orm';
+import { z } from 'zod';
+import { DEFAULT_GATE_RULES, gateRulesSchema } from '$lib/gate/profile';
+import { requireRole } from '$lib/server/auth';
+import { audit } from '$lib/server/audit';
+import { getDb } from '$lib/server/db';
+import { gateProfile, part, project, revision, user } from '$lib/server/db/schema';
+import type { Actions, PageServerLoad } from './$types';
+
+async function findProject(teamId: number, slug: string) {
+	const [p] = await getDb().select().from(project).where(and(eq(project.slug, slug), eq(project.teamId, teamId))).limit(1);
+	if (!p) error(404, `No project "${slug.slice(0, 64)}" in your team.`);
+	return p;
+}
+
+export const load: PageServerLoad = async ({ locals, params }) => {
+	const me = requireRole(locals);
+	const p = await findProject(me.teamId, params.slug);
+	const db = getDb();
+	const profiles = await db
+		.select({ id: gateProfile.id, version: gateProfile.version, rules: gateProfile.rules, createdAt: gateProfile.createdAt, by: user.name })
+		.from(gateProfile)
+		.leftJoin(user, eq(user.id, gateProfile.createdBy))
+		.where(eq(gateProfile.projectId, p.id))
+		.orderBy(desc(gateProfile.version));
+	const parts = await db
+		.select({ id: part.id, slug: part.slug, name: part.name, revisions: sql<number>`count(${revision.id})`, latest: sql<number>`max(${revision.id})` })
+		.from(part)
+		.leftJoin(revision, eq(revision.partId, part.id))
+		.where(eq(part.projectId, p.id))
+		.groupBy(part.id)
+		.orderBy(asc(part.name));
+	return {
+		project: p,
+		rules: gateRulesSchema.parse(profiles[0]?.rules ?? DEFAULT_GATE_RULES),
+		profiles: profiles.map((x) => ({ ...x, rules: gateRulesSchema.parse(x.rules) })),
+		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) }))
+	};
+};
+
+const num = (v: FormDataEntryValue | null) => (v === null || v === '' ? null : Number(v));
+
+const settingsSchema = z.object({
+	units: z.enum(['mm', 'm', 'in']),
+	targetCellSize: z.number().positive('The target cell size must be positive.').max(1e6),
+	flow: z.tuple([z.number(), z.number(), z.number()]).refine((f) => Math.hypot(...f) > 0, 'The flow direction cannot be zero.')
+});
+
+export const actions: Actions = {
+	profile: async ({ locals, params, request }) => {
+		const me = requireRole(locals, 'admin');
+		const p = await findProject(me.teamId, params.slug);
+		const fd = await request.formData();
+		const minVal = num(fd.get('minEdgeValue'));
+		const parsed = gateRulesSchema.safeParse({
+			closed: fd.has('closed'),
+			manifold: fd.has('manifold'),
+			outwardOriented: fd.has('outwardOriented'),
+			noSelfIntersections: fd.has('noSelfIntersections'),
+			minEdgeLength: minVal === null ? null : { mode: fd.get('minEdgeMode'), value: minVal },
+			maxShells: num(fd.get('maxShells')),
+			expectedGenus: num(fd.get('expectedGenus')),
+			maxDegenerateFaces: num(fd.get('maxDegenerateFaces')) ?? 0
+		});
+		if (!parsed.success) return fail(400, { profileError: parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ') });
+		const db = getDb();
+		// A change never edits a version: it adds the next one, so past decisions keep theirs.
+		const version = await db.transaction(async (tx) => {
+			await tx.select().from(project).where(eq(project.id, p.id)).for('update');
+			const [{ v }] = await tx.select({ v: sql<number>`coalesce(max(${gateProfile.version}), 0)` }).from(gateProfile).where(eq(gateProfile.projectId, p.id));
+			const next = Number(v) + 1;
+			await tx.insert(gateProfile).values({ projectId: p.id, version: next, rules: parsed.data, createdBy: me.id });
+			await audit(tx, me.id, 'project', p.id, 'gate-profile-changed', String(v), String(next), parsed.data);
+			return next;
+		});
+		return { profileSaved: version };
+	},
+	settings: async ({ locals, params, request }) => {
+		const me = requireRole(locals, 'admin');
+		const p = await findProject(me.teamId, params.slug);
+		const fd = await request.formData();
+		const parsed = settingsSchema.safeParse({
+			units: fd.get('units'),
+			targetCellSize: Number(fd.get('targetCellSize')),
+			flow: [Number(fd.get('flowX')), Number(fd.get('flowY')), Number(fd.get('flowZ'))]
+		});
+		if (!parsed.success) return fail(400, { settingsError: parsed.error.issues[0].message });
+		const db = getDb();
+		await db.transaction(async (tx) => {
+			await tx.update(project).set({ units: parsed.data.units, targetCellSize: parsed.data.targetCellSize, flowX: parsed.data.flow[0], flowY: parsed.data.flow[1], flowZ: parsed.data.flow[2] }).where(eq(project.id, p.id));
+			await audit(tx, me.id, 'project', p.id, 'settings-changed', null, null, parsed.data);
+		});
+		return { settingsSaved: true };
+	}
+};

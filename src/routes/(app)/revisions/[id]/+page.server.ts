@@ -1,0 +1,74 @@
+import { error, fail, redirect } from '@sveltejs/kit';
+import { z } from 'zod';
+import { requireRole } from '$lib/server/auth';
+import { addComment, commentSchema } from '$lib/server/comments';
+import { getDb } from '$lib/server/db';
+import { partHistory, revisionDetail } from '$lib/server/revision-detail';
+import { fourEyesConflict, HttpError, loadRevisionForUser, recheck, returnRevision, signOff } from '$lib/server/revisions';
+import type { Actions, PageServerLoad } from './$types';
+
+function revId(raw: string): number {
+	if (!/^\d{1,10}$/.test(raw)) error(404, `No revision "${raw.slice(0, 40)}".`);
+	return Number(raw);
+}
+
+async function guarded<T>(fn: () => Promise<T>) {
+	try {
+		return await fn();
+	} catch (e) {
+		if (e instanceof HttpError) return fail(e.status, { actionError: e.message });
+		if (e instanceof z.ZodError) return fail(400, { actionError: e.issues[0].message });
+		throw e;
+	}
+}
+
+export const load: PageServerLoad = async ({ locals, params }) => {
+	const me = requireRole(locals);
+	const db = getDb();
+	try {
+		const detail = await revisionDetail(db, me, revId(params.id));
+		const ctx = await loadRevisionForUser(db, me, detail.id);
+		return { detail, history: await partHistory(db, detail.part.id), fourEyes: fourEyesConflict(me, ctx) };
+	} catch (e) {
+		if (e instanceof HttpError) error(e.status, e.message);
+		throw e;
+	}
+};
+
+export const actions: Actions = {
+	comment: async ({ locals, params, request }) =>
+		guarded(async () => {
+			const me = requireRole(locals);
+			const fd = await request.formData();
+			const point = fd.get('point') ? JSON.parse(String(fd.get('point'))) : null;
+			const face = fd.get('face') ? Number(fd.get('face')) : null;
+			await addComment(getDb(), me, revId(params.id), commentSchema.parse({ body: fd.get('body') ?? '', point, face }));
+			return { commented: true };
+		}),
+	recheck: async ({ locals, params }) =>
+		guarded(async () => {
+			const me = requireRole(locals, 'engineer');
+			const db = getDb();
+			await recheck(db, me, await loadRevisionForUser(db, me, revId(params.id)));
+			return { rechecked: true };
+		}),
+	return: async ({ locals, params, request }) =>
+		guarded(async () => {
+			const me = requireRole(locals, 'engineer', 'reviewer');
+			const reason = String((await request.formData()).get('reason') ?? '').slice(0, 1000);
+			const db = getDb();
+			await returnRevision(db, me, await loadRevisionForUser(db, me, revId(params.id)), reason);
+			return { returned: true };
+		}),
+	signOff: async ({ locals, params, request }) => {
+		const res = await guarded(async () => {
+			const me = requireRole(locals, 'reviewer');
+			const note = String((await request.formData()).get('note') ?? '').slice(0, 1000);
+			const db = getDb();
+			await signOff(db, me, await loadRevisionForUser(db, me, revId(params.id)), note || null);
+			return null;
+		});
+		if (res) return res;
+		redirect(303, `/revisions/${params.id}/clearance`);
+	}
+};

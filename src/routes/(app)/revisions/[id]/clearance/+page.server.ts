@@ -1,0 +1,17 @@
+import { error } from '@sveltejs/kit';
+import { requireRole } from '$lib/server/auth';
+import { clearanceRecord } from '$lib/server/clearance';
+import { getDb } from '$lib/server/db';
+import { HttpError } from '$lib/server/revisions';
+import type { PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async ({ locals, params }) => {
+	const me = requireRole(locals);
+	if (!/^\d{1,10}$/.test(params.id)) error(404, 'No such revision.');
+	try {
+		return { record: await clearanceRecord(getDb(), me, Number(params.id)) };
+	} catch (e) {
+		if (e instanceof HttpError) error(e.status, e.message);
+		throw e;
+	}
+};

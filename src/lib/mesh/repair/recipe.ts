@@ -121,6 +121,9 @@ export function parseRecipe(json: unknown): RepairStep[] {
  * 7. collapse edges shorter than 0.02 cells;
  * 8. orient again (filling and collapsing keep orientation; this is a cheap check that costs O(F)).
  * The multipliers are choices of this product (common practice in spirit), not from a source.
+ * The weld merges any two vertices closer than its tolerance, so on very fine grids it also closes
+ * the tiniest marching-cubes edges (clamped at 1e-4 cells) without the checks of step 7; faces
+ * that collapse are dropped and the later steps clean up duplicates and pinches.
  */
 export function STANDARD_RECIPE(targetCellSize: number): RepairStep[] {
 	if (!(targetCellSize > 0) || !Number.isFinite(targetCellSize)) {

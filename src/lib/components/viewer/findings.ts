@@ -57,7 +57,7 @@ function segLength(seg: Float32Array, s: number): number {
 
 export function buildFindings(report: InspectionReport | null, o: MeshOverlays | null, units: string): FindingGroup[] {
 	const groups: FindingGroup[] = [];
-	const viewerNote = report ? null : 'counted in the viewer';
+	const viewerNote = report ? null : 'viewer';
 	for (const kind of KIND_ORDER) {
 		const label = KIND_STYLE[kind].label;
 		let count: number | null = null, note = viewerNote;

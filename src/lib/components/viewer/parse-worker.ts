@@ -9,7 +9,11 @@ import { MeshBVH } from 'three-mesh-bvh';
 import { readMesh } from '$lib/mesh/read';
 import { MeshReadError } from '$lib/mesh/types';
 import { computeOverlays, overlayTransferables } from '$lib/mesh/overlays';
+import { clusterProxy } from './proxy';
 import type { BvhData, LoadFailure, LoadReply, LoadRequest } from './protocol';
+
+const PROXY_ABOVE = 300_000;
+const PROXY_TARGET = 120_000;
 
 const post = (msg: LoadReply, transfer: Transferable[] = []) => (self as unknown as Worker).postMessage(msg, transfer);
 
@@ -95,9 +99,14 @@ async function load(req: LoadRequest): Promise<void> {
 		throw e;
 	}
 	const bvhMs = performance.now() - t2;
+	const t4 = performance.now();
+	// Software WebGL draws about 2–4 M triangles a second here; a stand-in keeps orbiting smooth.
+	const proxy = triCount > PROXY_ABOVE ? clusterProxy(positions, indices, PROXY_TARGET) : null;
+	const proxyMs = performance.now() - t4;
 	const transfer: Transferable[] = [positions.buffer, indices.buffer, ...bvh.roots];
 	if (bvh.indirectBuffer) transfer.push(bvh.indirectBuffer.buffer);
-	post({ type: 'mesh', positions, indices, bvh, fetchMs, parseMs, bvhMs, bytes: bytes.length }, transfer);
+	if (proxy) transfer.push(proxy.positions.buffer, proxy.indices.buffer);
+	post({ type: 'mesh', positions, indices, bvh, proxy, fetchMs, parseMs, bvhMs, proxyMs, bytes: bytes.length }, transfer);
 
 	if (req.overlays === false) return;
 	const t3 = performance.now();

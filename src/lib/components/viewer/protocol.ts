@@ -36,7 +36,10 @@ export type LoadReply =
 			positions: Float32Array;
 			indices: Uint32Array;
 			bvh: BvhData;
+			/** Coarse stand-in drawn while the camera moves (large meshes only). */
+			proxy: { positions: Float32Array; indices: Uint32Array } | null;
 			fetchMs: number;
+			proxyMs: number;
 			parseMs: number;
 			bvhMs: number;
 			bytes: number;

@@ -4,9 +4,9 @@
  * tetrahedron touching the hull at one vertex (non-manifold vertex), a flipped patch, a collapsed
  * face, a floating cube and a small cube poking through the skin (self-intersections). Pure, seeded.
  */
-import { gridFor, marchingCubes } from '$lib/mesh/marching-cubes';
-import { towBody } from '$lib/mesh/implicit-shapes';
-import type { MeshBuffers } from '$lib/mesh/types';
+import { gridFor, marchingCubes } from '../../mesh/marching-cubes';
+import { towBody } from '../../mesh/implicit-shapes';
+import type { MeshBuffers } from '../../mesh/types';
 
 const SCALE = 100;
 

@@ -119,6 +119,15 @@ function patternMaterial(colour: string, pattern: 0 | 1 | 2, opacity: number, ce
 	});
 }
 
+function meshMaterial(): MeshLambertMaterial {
+	const mat = new MeshLambertMaterial({ color: MESH_COLOUR, flatShading: true, side: DoubleSide, polygonOffset: true, polygonOffsetFactor: 1, polygonOffsetUnits: 1 });
+	mat.onBeforeCompile = (shader) => {
+		// Back faces (seen through holes, cuts or flipped faces) in a warm dark tone.
+		shader.fragmentShader = shader.fragmentShader.replace('#include <opaque_fragment>', `if (!gl_FrontFacing) outgoingLight *= ${BACK_COLOUR_SCALE};\n#include <opaque_fragment>`);
+	};
+	return mat;
+}
+
 const markerTextures = new Map<MarkerShape, Texture>();
 function markerTexture(shape: MarkerShape): Texture {
 	let tex = markerTextures.get(shape);
@@ -243,6 +252,9 @@ export class ViewerScene {
 	private insetCamera = new PerspectiveCamera(40, 1, 0.1, 100);
 	private container: HTMLElement;
 	private mesh: Mesh | null = null;
+	/** Coarse stand-in shown instead of the mesh while the camera moves. */
+	private proxy: Mesh | null = null;
+	private moving = false;
 	private wire: Mesh | null = null;
 	private compareMesh: Mesh | null = null;
 	private overlayGroups = new Map<OverlayKind, Group>();
@@ -289,6 +301,11 @@ export class ViewerScene {
 		this.controls = new OrbitControls(this.camera, this.renderer.domElement);
 		this.controls.enableDamping = false;
 		this.controls.addEventListener('change', () => this.requestRender());
+		this.controls.addEventListener('start', () => (this.moving = true));
+		this.controls.addEventListener('end', () => {
+			this.moving = false;
+			this.requestRender();
+		});
 		for (const s of [this.scene, this.compareScene]) {
 			s.add(new AmbientLight(0xffffff, 0.55));
 			const key = new DirectionalLight(0xffffff, 1.6);
@@ -347,7 +364,7 @@ export class ViewerScene {
 		this.requestRender();
 	}
 
-	setMesh(positions: Float32Array, indices: Uint32Array, bvh: BvhData | null): void {
+	setMesh(positions: Float32Array, indices: Uint32Array, bvh: BvhData | null, proxy: { positions: Float32Array; indices: Uint32Array } | null = null): void {
 		this.clearMesh();
 		const geom = new BufferGeometry();
 		geom.setAttribute('position', new BufferAttribute(positions, 3));
@@ -356,14 +373,19 @@ export class ViewerScene {
 		geom.computeBoundingSphere();
 		if (bvh) geom.boundsTree = MeshBVH.deserialize(bvh as never, geom, { setIndex: false });
 		else geom.computeBoundsTree({ indirect: true });
-		const mat = new MeshLambertMaterial({ color: MESH_COLOUR, flatShading: true, side: DoubleSide, polygonOffset: true, polygonOffsetFactor: 1, polygonOffsetUnits: 1 });
-		mat.onBeforeCompile = (shader) => {
-			// Back faces (seen through holes, cuts or flipped faces) in a warm dark tone.
-			shader.fragmentShader = shader.fragmentShader.replace('#include <opaque_fragment>', `if (!gl_FrontFacing) outgoingLight *= ${BACK_COLOUR_SCALE};\n#include <opaque_fragment>`);
-		};
+		const mat = meshMaterial();
 		this.mesh = new Mesh(geom, mat);
 		this.mesh.raycast = acceleratedRaycast;
 		this.scene.add(this.mesh);
+		if (proxy) {
+			const pg = new BufferGeometry();
+			pg.setAttribute('position', new BufferAttribute(proxy.positions, 3));
+			pg.setIndex(new BufferAttribute(proxy.indices, 1));
+			this.proxy = new Mesh(pg, meshMaterial());
+			this.proxy.visible = false;
+			this.proxy.raycast = () => {};
+			this.scene.add(this.proxy);
+		}
 		this.triCount = indices.length / 3;
 		this.bboxMin.copy(geom.boundingBox!.min);
 		this.bboxMax.copy(geom.boundingBox!.max);
@@ -389,7 +411,12 @@ export class ViewerScene {
 			this.mesh.geometry.disposeBoundsTree?.();
 			this.mesh.geometry.dispose();
 		}
-		this.mesh = this.wire = null;
+		if (this.proxy) {
+			this.scene.remove(this.proxy);
+			this.proxy.geometry.dispose();
+			(this.proxy.material as Material).dispose();
+		}
+		this.mesh = this.wire = this.proxy = null;
 		this.shellColours = null;
 	}
 
@@ -795,6 +822,12 @@ export class ViewerScene {
 		const r = this.renderer;
 		const size = r.getSize(new Vector2());
 		const w = size.x, h = size.y;
+		const coarse = !!this.proxy && (this.moving || this.anim !== null);
+		if (this.proxy && this.mesh) {
+			this.proxy.visible = coarse;
+			this.mesh.visible = !coarse;
+			// Colour modes are per vertex of the full mesh; the stand-in shows plain while moving.
+		}
 		r.setScissorTest(false);
 		r.setViewport(0, 0, w, h);
 		r.clear();
@@ -856,8 +889,9 @@ export class ViewerScene {
 	}
 
 	/** Orbit through `frames` renders, each waited for on the GPU; frame times in ms. */
-	benchmark(frames: number): FrameStats {
+	benchmark(frames: number, moving = false): FrameStats {
 		this.frameTimes = [];
+		this.moving = moving;
 		const target = this.controls.target.clone();
 		const offset = this.camera.position.clone().sub(target);
 		const axis = this.camera.up.clone().normalize();
@@ -867,6 +901,8 @@ export class ViewerScene {
 			this.camera.lookAt(target);
 			this.renderNow(true);
 		}
+		this.moving = false;
+		this.renderNow();
 		return this.frameStats();
 	}
 

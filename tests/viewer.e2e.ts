@@ -1,0 +1,105 @@
+// The mesh viewer on its dev harness (enabled in npm test through SHELLGATE_DEV_MAILBOX=1): a tow
+// body with one of each defect, its report computed here in Node by the engine from the same bytes.
+import { expect, test, type Page } from '@playwright/test';
+import { defectSampler, SAMPLER_MIN_EDGE } from '../src/lib/components/viewer/sample-defects';
+import { writeBinaryStl } from '../src/lib/mesh/write';
+import { inspectBytes } from '../src/lib/mesh/inspect';
+import { shot } from './helpers';
+
+type Hook = {
+	status: string;
+	triangles: number;
+	overlaysReady: boolean;
+	camera: { position: [number, number, number]; target: [number, number, number]; animating: boolean };
+	render: () => number;
+};
+// Software WebGL on a busy machine: loading and the first frames take seconds.
+test.describe.configure({ timeout: 120_000 });
+
+let cached: ReturnType<typeof inspectBytes> | null = null;
+function sampleReport() {
+	cached ??= inspectBytes(writeBinaryStl(defectSampler()), 'tow-body-defects.stl', { minEdgeLength: SAMPLER_MIN_EDGE });
+	return cached;
+}
+
+const hook = (page: Page) => page.evaluate(() => (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer);
+
+async function openSampler(page: Page) {
+	await page.goto('/dev/viewer?mesh=sampler');
+	await page.waitForFunction(() => (window as unknown as { __shellgateViewer?: Hook }).__shellgateViewer?.overlaysReady === true, null, { timeout: 60_000 });
+}
+
+test('the harness draws the sampler mesh: canvas pixels are not blank', async ({ page }) => {
+	await openSampler(page);
+	const h = await hook(page);
+	expect(h.status).toBe('ready');
+	expect(h.triangles).toBe(sampleReport().faces);
+	// preserveDrawingBuffer is on, so the last frame can be read back through a 2D canvas.
+	const px = await page.evaluate(() => {
+		(window as unknown as { __shellgateViewer: Hook }).__shellgateViewer.render();
+		const gl = document.querySelector<HTMLCanvasElement>('[data-testid="viewer-canvas"] canvas')!;
+		const c = document.createElement('canvas');
+		c.width = gl.width;
+		c.height = gl.height;
+		const ctx = c.getContext('2d')!;
+		ctx.drawImage(gl, 0, 0);
+		const data = ctx.getImageData(0, 0, c.width, c.height).data;
+		let lit = 0;
+		const shades = new Set<number>();
+		// Clear colour is ink-950 #0c1117.
+		for (let i = 0; i < data.length; i += 4) {
+			if (Math.abs(data[i] - 0x0c) + Math.abs(data[i + 1] - 0x11) + Math.abs(data[i + 2] - 0x17) > 24) lit++;
+			shades.add((data[i] << 16) | (data[i + 1] << 8) | data[i + 2]);
+		}
+		return { lit, total: data.length / 4, shades: shades.size };
+	});
+	expect(px.lit / px.total).toBeGreaterThan(0.03);
+	expect(px.shades).toBeGreaterThan(20);
+	await page.screenshot({ path: shot('viewer-sampler'), fullPage: true });
+});
+
+test('the findings list shows the counts of the report', async ({ page }) => {
+	await openSampler(page);
+	const r = sampleReport();
+	const expected: Record<string, number> = {
+		holes: r.boundaryLoops,
+		nonManifoldEdges: r.nonManifoldEdges,
+		nonManifoldVertices: r.nonManifoldVertices,
+		selfIntersections: r.selfIntersectingPairs ?? -1,
+		shortEdges: r.shortEdges,
+		degenerateFaces: r.degenerateFaces,
+		flippedFaces: r.flippedFaces,
+		floatingShells: r.hints.find((x) => x.kind === 'floating-shells')?.count ?? 0
+	};
+	// The sampler has at least one of each.
+	for (const [kind, n] of Object.entries(expected)) {
+		expect(n, kind).toBeGreaterThan(0);
+		await expect(page.getByTestId(`finding-count-${kind}`)).toHaveText(n.toLocaleString('en'));
+	}
+	await expect(page.getByTestId('overlay-toggle-holes')).toBeChecked();
+	await page.getByLabel('Show holes overlay').uncheck();
+	await expect(page.getByTestId('overlay-toggle-holes')).not.toBeChecked();
+});
+
+test('clicking a hole in the findings list flies the camera to it', async ({ page }) => {
+	await openSampler(page);
+	const before = (await hook(page)).camera;
+	await page.getByTestId('finding-group-holes').click();
+	await page.getByTestId('finding-item-holes:0').click();
+	await page.waitForFunction(() => (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer.camera.animating === false);
+	const after = (await hook(page)).camera;
+	const moved = Math.hypot(...after.position.map((x, i) => x - before.position[i]));
+	expect(moved).toBeGreaterThan(10);
+	const r = sampleReport();
+	// The camera now looks at the hole's centroid (float32 on the GPU side: 1e-3 mm).
+	after.target.forEach((x, i) => expect(Math.abs(x - r.holes[0].centroid[i])).toBeLessThan(1e-3));
+	await expect(page.getByTestId('finding-item-holes:0')).toHaveAttribute('aria-current', 'true');
+	await page.screenshot({ path: shot('viewer-hole'), fullPage: true });
+});
+
+test('a click on the part reports the picked face for a new comment', async ({ page }) => {
+	await openSampler(page);
+	const box = (await page.getByTestId('viewer-canvas').boundingBox())!;
+	await page.mouse.click(box.x + box.width / 2, box.y + box.height / 2);
+	await expect(page.getByTestId('harness-last-pick')).toContainText(/face \d+ shell 0/);
+});

@@ -1,12 +1,10 @@
 /**
  * Parallel self-intersection count on Node worker_threads.
  *
- * How the workers load: each worker is a tiny eval'd script that imports this very module (by its
- * own `import.meta.url`) and calls `runSelfIntersectWorker()`. That keeps working unchanged when a
- * bundler (SvelteKit adapter-node) folds this file into a server chunk, since the URL then names
- * that chunk. When the URL is TypeScript source (under tsx or vitest), the eval'd script first
- * requires tsx's CommonJS hook (`tsx/cjs`, resolved from this file's location, so the current
- * directory does not matter) and then requires this file. Measured on Node 20.20: a worker started
+ * How the workers load: module-worker-node.ts starts a thread that imports this very module by its
+ * own `import.meta.url`, and the module-level check at the bottom runs `runSelfIntersectWorker()`
+ * there (calling the export by name would break once the bundler renames a chunk's exports).
+ * When the URL is TypeScript source (under tsx or vitest), tsx's CommonJS hook is loaded first. Measured on Node 20.20: a worker started
  * with `execArgv: ['--import', 'tsx']` (or tsx's loader file) still fails with "Unknown file
  * extension .ts", and tsx's ESM `register()` API fails inside an eval'd worker, while the CommonJS
  * hook works, including for ESM-only dependencies such as robust-predicates.
@@ -23,7 +21,10 @@
  */
 import { availableParallelism } from 'node:os';
 import { createRequire } from 'node:module';
-import { Worker, isMainThread, parentPort, workerData } from 'node:worker_threads';
+import { isMainThread, parentPort, workerData, type Worker } from 'node:worker_threads';
+import { isWorkerFor, spawnModuleWorker } from './module-worker-node';
+
+const WORKER_TAG = 'shellgate-self-intersect';
 import { buildBvhSorted } from './bvh';
 import {
 	DEFAULT_SAMPLE_LIMIT,
@@ -139,22 +140,6 @@ export function runSelfIntersectWorker(): void {
 	}
 }
 
-/** tsx's CommonJS hook when this module runs as TypeScript source, else null. */
-function tsxHookPath(): string | null {
-	if (!/\.(c|m)?ts$/.test(new URL(import.meta.url).pathname)) return null;
-	return createRequire(import.meta.url).resolve('tsx/cjs');
-}
-
-const WORKER_SOURCE = `
-const { workerData } = require('node:worker_threads');
-if (workerData.tsxHook) {
-	require(workerData.tsxHook);
-	require(require('node:url').fileURLToPath(workerData.moduleUrl)).runSelfIntersectWorker();
-} else {
-	import(workerData.moduleUrl).then((m) => m.runSelfIntersectWorker());
-}
-`;
-
 /** Counts self-intersecting face pairs on worker threads; same result as findSelfIntersections. */
 export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions = {}): Promise<SelfIntersectionResult> {
 	const t0 = performance.now();
@@ -178,10 +163,8 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 		new Uint32Array(idxBuf).set(mesh.indices);
 	}
 	// Untouched pages of a SharedArrayBuffer cost nothing, so slot arrays are sized for every face.
-	const data: WorkerInput & { moduleUrl: string; tsxHook: string | null } = {
+	const data: WorkerInput = {
 		kind: 'shellgate-self-intersect',
-		moduleUrl: import.meta.url,
-		tsxHook: tsxHookPath(),
 		threads,
 		faceCount,
 		positions: posBuf,
@@ -207,7 +190,7 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 	try {
 		const parts = await Promise.all(
 			Array.from({ length: threads }, (_, index) => {
-				const w = new Worker(WORKER_SOURCE, { eval: true, workerData: { ...data, index } });
+				const w = spawnModuleWorker(import.meta.url, WORKER_TAG, { ...data, index } as unknown as Record<string, unknown>);
 				workers.push(w);
 				return new Promise<SelfIntersectionResult>((resolve, reject) => {
 					w.once('message', (msg: WorkerOutput) => (msg.result ? resolve(msg.result) : reject(new Error(msg.error ?? 'Self-intersection worker failed.'))));
@@ -241,3 +224,5 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 		stopAll();
 	}
 }
+
+if (isWorkerFor(WORKER_TAG)) runSelfIntersectWorker();

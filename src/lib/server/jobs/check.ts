@@ -152,7 +152,7 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 				watertight: report.watertight,
 				severity: severityScore(outcomes),
 				failedRules: failed.length ? `,${failed.map((o) => o.rule).join(',')},` : '',
-				durationMs: Math.round(Object.values(report.timings).reduce((a, b) => a + b, 0))
+				durationMs: Math.round(report.timings.total ?? Object.values(report.timings).reduce((a, b) => a + b, 0))
 			})
 			.$returningId();
 		await tx.insert(ruleResult).values(

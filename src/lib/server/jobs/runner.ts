@@ -20,8 +20,13 @@ export function newWorkerId(tag = 'web'): string {
 
 const sleep = (ms: number, signal: AbortSignal) =>
 	new Promise<void>((resolve) => {
-		const t = setTimeout(resolve, ms);
-		signal.addEventListener('abort', () => (clearTimeout(t), resolve()), { once: true });
+		const done = () => {
+			clearTimeout(t);
+			signal.removeEventListener('abort', done);
+			resolve();
+		};
+		const t = setTimeout(done, ms);
+		signal.addEventListener('abort', done, { once: true });
 	});
 
 export async function runWorkerLoop(opts: WorkerLoopOptions): Promise<void> {

@@ -255,6 +255,8 @@ export class ViewerScene {
 	/** Coarse stand-in shown instead of the mesh while the camera moves. */
 	private proxy: Mesh | null = null;
 	private moving = false;
+	/** When the mesh first became visible (performance.now), for the debug hook. */
+	meshShown = 0;
 	private wire: Mesh | null = null;
 	private compareMesh: Mesh | null = null;
 	private overlayGroups = new Map<OverlayKind, Group>();
@@ -359,9 +361,15 @@ export class ViewerScene {
 	private resize(): void {
 		const w = Math.max(1, this.container.clientWidth), h = Math.max(1, this.container.clientHeight);
 		this.renderer.setSize(w, h);
-		this.camera.aspect = w / h;
+		this.camera.aspect = this.viewAspect();
 		this.camera.updateProjectionMatrix();
 		this.requestRender();
+	}
+
+	/** Aspect of one view: half the canvas when two revisions stand side by side. */
+	private viewAspect(): number {
+		const w = Math.max(1, this.container.clientWidth), h = Math.max(1, this.container.clientHeight);
+		return (this.compareMode === 'side' && this.compareMesh ? w / 2 : w) / h;
 	}
 
 	setMesh(positions: Float32Array, indices: Uint32Array, bvh: BvhData | null, proxy: { positions: Float32Array; indices: Uint32Array } | null = null): void {
@@ -376,7 +384,20 @@ export class ViewerScene {
 		const mat = meshMaterial();
 		this.mesh = new Mesh(geom, mat);
 		this.mesh.raycast = acceleratedRaycast;
-		this.scene.add(this.mesh);
+		// Compile the shaders without blocking (KHR_parallel_shader_compile where available): a
+		// synchronous link on software WebGL holds the page for seconds.
+		const mesh = this.mesh;
+		mesh.visible = false;
+		this.scene.add(mesh);
+		this.renderer
+			.compileAsync(mesh, this.camera, this.scene)
+			.catch(() => {})
+			.then(() => {
+				if (this.mesh !== mesh) return;
+				mesh.visible = true;
+				this.meshShown = performance.now();
+				this.requestRender();
+			});
 		if (proxy) {
 			const pg = new BufferGeometry();
 			pg.setAttribute('position', new BufferAttribute(proxy.positions, 3));
@@ -632,7 +653,10 @@ export class ViewerScene {
 	}
 
 	setCompareMode(mode: CompareMode | null): void {
+		const wasSide = this.compareMode === 'side';
 		this.compareMode = this.compareMesh ? mode : null;
+		// The view width halves or doubles: frame the part again.
+		if (wasSide !== (this.compareMode === 'side') && this.mesh) this.fit();
 		if (this.compareMesh) {
 			this.compareMesh.parent?.remove(this.compareMesh);
 			const mat = this.compareMesh.material as MeshLambertMaterial;
@@ -686,7 +710,7 @@ export class ViewerScene {
 	/** Distance at which the bounding box fills about 85 % of the view from direction dir. */
 	private fitDistance(dir: Vector3): number {
 		const half = Math.tan((this.camera.fov * Math.PI) / 360);
-		const aspect = Math.max(0.3, this.camera.aspect);
+		const aspect = Math.max(0.3, this.viewAspect());
 		const right = new Vector3().crossVectors(dir, this.camera.up);
 		if (right.lengthSq() < 1e-9) right.set(1, 0, 0);
 		right.normalize();
@@ -823,7 +847,7 @@ export class ViewerScene {
 		const size = r.getSize(new Vector2());
 		const w = size.x, h = size.y;
 		const coarse = !!this.proxy && (this.moving || this.anim !== null);
-		if (this.proxy && this.mesh) {
+		if (this.proxy && this.mesh && this.meshShown) {
 			this.proxy.visible = coarse;
 			this.mesh.visible = !coarse;
 			// Colour modes are per vertex of the full mesh; the stand-in shows plain while moving.

@@ -69,16 +69,16 @@ async function load(req: LoadRequest): Promise<void> {
 	try {
 		parsed = readMesh(bytes, req.fileName, { maxFaces: req.maxFaces });
 	} catch (e) {
-		if (isAllocationFailure(e)) return fail('memory', 'The browser ran out of memory while reading this mesh. The report below is complete; open the file in a desktop tool to look at it.');
+		if (isAllocationFailure(e)) return fail('memory', 'The browser ran out of memory while reading this mesh. The inspection report is complete and unaffected.');
 		const msg = (e as Error).message;
 		if (e instanceof MeshReadError && /limit|more than|too many/i.test(msg)) {
-			return fail('too-large', `This mesh is too large to show in the browser (the view stops at ${req.maxFaces.toLocaleString('en')} triangles): ${msg}. The report below is complete.`);
+			return fail('too-large', `This mesh is too large to show in the browser (the view stops at ${req.maxFaces.toLocaleString('en')} triangles): ${msg}. The inspection report is complete and unaffected.`);
 		}
 		return fail('read', `The mesh could not be read: ${msg}`);
 	}
 	const triCount = parsed.indices.length / 3;
 	if (triCount > req.maxFaces) {
-		return fail('too-large', `This mesh has ${triCount.toLocaleString('en')} triangles, more than the browser view shows (${req.maxFaces.toLocaleString('en')}). The report below is complete.`);
+		return fail('too-large', `This mesh has ${triCount.toLocaleString('en')} triangles, more than the browser view shows (${req.maxFaces.toLocaleString('en')}). The inspection report is complete and unaffected.`);
 	}
 	let positions: Float32Array, indices: Uint32Array, keptIndices: Uint32Array, bvh: BvhData;
 	const parseMs = performance.now() - t1;
@@ -95,7 +95,7 @@ async function load(req: LoadRequest): Promise<void> {
 		const s = MeshBVH.serialize(tree, { cloneBuffers: false }) as unknown as BvhData;
 		bvh = { version: s.version, roots: s.roots, index: null, indirectBuffer: s.indirectBuffer };
 	} catch (e) {
-		if (isAllocationFailure(e)) return fail('memory', 'The browser ran out of memory while preparing this mesh for display. The report below is complete.');
+		if (isAllocationFailure(e)) return fail('memory', 'The browser ran out of memory while preparing this mesh for display. The inspection report is complete and unaffected.');
 		throw e;
 	}
 	const bvhMs = performance.now() - t2;

@@ -16,7 +16,7 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 	const [activeJob] = await db
 		.select({ status: job.status, stage: job.stage, percent: job.percent, attempts: job.attempts, maxAttempts: job.maxAttempts, lastError: job.lastError })
 		.from(job)
-		.where(and(eq(job.revisionId, id), inArray(job.status, ['queued', 'running'])))
+		.where(and(eq(job.revisionId, id), eq(job.kind, 'check'), inArray(job.status, ['queued', 'running'])))
 		.orderBy(desc(job.id))
 		.limit(1);
 	const decisions = await db
@@ -77,8 +77,30 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 			reportSha256: d.reportSha256,
 			gateProfileVersion: d.gateProfileVersion
 		})),
-		comments: await listComments(db, id)
+		comments: await listComments(db, id),
+		repairJobs: (
+			await db
+				.select({ id: job.id, status: job.status, stage: job.stage, percent: job.percent, lastError: job.lastError, payload: job.payload, createdAt: job.createdAt })
+				.from(job)
+				.where(and(eq(job.revisionId, id), eq(job.kind, 'repair')))
+				.orderBy(desc(job.id))
+				.limit(5)
+		).map((j) => {
+			const p = (j.payload ?? {}) as { recipeName?: string; resultRevisionId?: number };
+			return { id: j.id, status: j.status, stage: j.stage, percent: j.percent, lastError: j.lastError, recipeName: p.recipeName ?? 'recipe', resultRevisionId: p.resultRevisionId ?? null, createdAt: j.createdAt };
+		}),
+		parent: rev.parentRevisionId ? await parentSummary(db, rev.parentRevisionId) : null,
+		/** Largest surface deviation a repair may introduce: half the target cell size (project units). */
+		repairTolerance: ctx.project.targetCellSize * 0.5
 	};
+}
+
+/** The parent's latest report, for the before/after comparison of a repair. */
+async function parentSummary(db: Db, parentId: number) {
+	const [p] = await db.select({ id: revision.id, number: revision.number, status: revision.status }).from(revision).where(eq(revision.id, parentId)).limit(1);
+	if (!p) return null;
+	const [run] = await db.select({ report: checkRun.report }).from(checkRun).where(eq(checkRun.revisionId, parentId)).orderBy(desc(checkRun.id)).limit(1);
+	return { ...p, report: run ? (JSON.parse(run.report) as InspectionReport) : null };
 }
 
 export type RevisionDetail = Awaited<ReturnType<typeof revisionDetail>>;

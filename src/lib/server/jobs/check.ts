@@ -12,7 +12,7 @@ import type { Db } from '../db';
 import { checkRun, gateProfile, part, project, revision, ruleResult } from '../db/schema';
 import { notifyHeld, notifyRepairAwaits } from '../notify';
 import { getStore } from '../storage';
-import type { CheckThreadInput, CheckThreadMessage } from './check-thread';
+import type { EngineMessage, EngineTask } from './engine-thread';
 import { spawnModuleWorker } from '../../mesh/module-worker-node';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
 
@@ -23,50 +23,47 @@ export interface CheckLimits {
 
 export class CheckRefused extends Error {}
 
-/** Runs the engine in a worker thread; rejects on timeout, crash or memory cap. */
-export function runEngine(
-	input: CheckThreadInput,
-	limits: CheckLimits,
-	onProgress: (stage: string, percent: number) => void,
-	signal?: AbortSignal
-): Promise<InspectionReport> {
+/** Runs one engine task in a worker thread; rejects on timeout, crash or memory cap. */
+export function runEngine<T>(input: EngineTask, limits: CheckLimits, onProgress: (stage: string, percent: number) => void, signal?: AbortSignal): Promise<T> {
 	// Imported dynamically so the bundler gives the thread's code a chunk of its own, whose URL the
-	// worker then loads (the module reports it as CHECK_THREAD_URL).
-	return import('./check-thread').then(({ CHECK_THREAD_URL }) => new Promise<InspectionReport>((resolve, reject) => {
-		let settled = false;
-		let w: Worker;
-		const finish = (fn: () => void) => {
-			if (settled) return;
-			settled = true;
-			clearTimeout(timer);
-			signal?.removeEventListener('abort', onAbort);
-			void w.terminate();
-			fn();
-		};
-		const onAbort = () => finish(() => reject(new Error('The check was cancelled.')));
-		w = spawnModuleWorker(CHECK_THREAD_URL, 'shellgate-check', input as unknown as Record<string, unknown>, {
-			resourceLimits: { maxOldGenerationSizeMb: limits.memoryLimitMb },
-			transferList: [input.bytes.buffer as ArrayBuffer]
-		});
-		const timer = setTimeout(
-			() => finish(() => reject(new Error(`The check ran past its time limit of ${Math.round(limits.timeLimitMs / 1000)} s.`))),
-			limits.timeLimitMs
-		);
-		signal?.addEventListener('abort', onAbort);
-		w.on('message', (m: CheckThreadMessage) => {
-			if (m.type === 'progress') onProgress(m.stage, m.percent);
-			else if (m.type === 'done') finish(() => resolve(m.report as InspectionReport));
-			else if (m.type === 'refused') finish(() => reject(new CheckRefused(m.message)));
-			else finish(() => reject(new Error(m.message)));
-		});
-		w.on('error', (e) => {
-			const msg = /ERR_WORKER_OUT_OF_MEMORY|heap/i.test(String((e as { code?: string }).code ?? e.message))
-				? `The check ran out of its memory allowance (${limits.memoryLimitMb} MB).`
-				: `The engine stopped: ${e.message}`;
-			finish(() => reject(new Error(msg)));
-		});
-		w.on('exit', (code) => finish(() => reject(new Error(`The engine thread exited (code ${code}) before finishing.`))));
-	}));
+	// worker then loads (the module reports it as ENGINE_THREAD_URL).
+	return import('./engine-thread').then(
+		({ ENGINE_THREAD_URL, ENGINE_THREAD_TAG }) =>
+			new Promise<T>((resolve, reject) => {
+				let settled = false;
+				const finish = (fn: () => void) => {
+					if (settled) return;
+					settled = true;
+					clearTimeout(timer);
+					signal?.removeEventListener('abort', onAbort);
+					void w.terminate();
+					fn();
+				};
+				const onAbort = () => finish(() => reject(new Error('The work was cancelled.')));
+				const w: Worker = spawnModuleWorker(ENGINE_THREAD_URL, ENGINE_THREAD_TAG, input as unknown as Record<string, unknown>, {
+					resourceLimits: { maxOldGenerationSizeMb: limits.memoryLimitMb },
+					transferList: [input.bytes.buffer as ArrayBuffer]
+				});
+				const timer = setTimeout(
+					() => finish(() => reject(new Error(`The engine ran past its time limit of ${Math.round(limits.timeLimitMs / 1000)} s.`))),
+					limits.timeLimitMs
+				);
+				signal?.addEventListener('abort', onAbort);
+				w.on('message', (m: EngineMessage) => {
+					if (m.type === 'progress') onProgress(m.stage, m.percent);
+					else if (m.type === 'done') finish(() => resolve(m.result as T));
+					else if (m.type === 'refused') finish(() => reject(new CheckRefused(m.message)));
+					else finish(() => reject(new Error(m.message)));
+				});
+				w.on('error', (e) => {
+					const msg = /ERR_WORKER_OUT_OF_MEMORY|heap/i.test(String((e as { code?: string }).code ?? e.message))
+						? `The engine ran out of its memory allowance (${limits.memoryLimitMb} MB).`
+						: `The engine stopped: ${e.message}`;
+					finish(() => reject(new Error(msg)));
+				});
+				w.on('exit', (code) => finish(() => reject(new Error(`The engine thread exited (code ${code}) before finishing.`))));
+			})
+	);
 }
 
 export function reportHash(reportJson: string): string {
@@ -102,8 +99,9 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 	try {
 		beat('fetching file', 2);
 		const bytes = await getStore().read(ctx.rev.sha256);
-		report = await runEngine(
+		report = await runEngine<InspectionReport>(
 			{
+				task: 'check',
 				bytes,
 				fileName: ctx.rev.fileName,
 				options: {

@@ -1,48 +1,87 @@
-// The engine, run off the main thread: bytes in, report (or a reader's refusal) out, with progress.
-// Imports only src/lib/mesh, so a worker thread loads no server or database code.
+// The engine, run off the main thread: checks, repairs and format conversions. Bytes in, a report,
+// a repaired file or a converted file out, with progress. Imports only src/lib/mesh, so a worker
+// thread loads no server or database code.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
-import { isWorkerFor } from '../../mesh/module-worker-node';
 import { inspectBytes } from '../../mesh/inspect';
 import { inspectFileNode } from '../../mesh/inspect-node';
-import { MeshReadError } from '../../mesh/types';
+import { isWorkerFor } from '../../mesh/module-worker-node';
+import { readMesh } from '../../mesh/read';
+import { applyRecipe, meshDeviation, RepairError, type RepairLogEntry, type RepairStep } from '../../mesh/repair';
 import type { InspectOptions } from '../../mesh/report';
+import { MeshReadError } from '../../mesh/types';
+import { writeBinaryStl, writeObj, writePly } from '../../mesh/write';
 
 /** This module's own URL: the TypeScript source under tsx/vitest, its bundled chunk after `vite build`. */
-export const CHECK_THREAD_URL = import.meta.url;
+export const ENGINE_THREAD_URL = import.meta.url;
+export const ENGINE_THREAD_TAG = 'shellgate-engine';
 
-export interface CheckThreadInput {
+export type EngineTask =
+	| { task: 'check'; bytes: Uint8Array; fileName: string; options: InspectOptions; threads: number }
+	| { task: 'repair'; bytes: Uint8Array; fileName: string; steps: RepairStep[]; maxFaces: number }
+	| { task: 'export'; bytes: Uint8Array; fileName: string; format: ExportFormat; maxFaces: number };
+
+export type ExportFormat = 'stl' | 'ply' | 'obj';
+
+export interface RepairOutput {
 	bytes: Uint8Array;
-	fileName: string;
-	options: InspectOptions;
-	/** Worker threads for the self-intersection stage, inside this thread. */
-	threads: number;
+	log: RepairLogEntry[];
+	/** Parent surface versus repaired surface, model units. */
+	deviation: { hausdorff: number; mean: number; parentToRepaired: number; repairedToParent: number | null };
+	facesBefore: number;
+	facesAfter: number;
 }
 
-export type CheckThreadMessage =
+export type EngineMessage =
 	| { type: 'progress'; stage: string; percent: number }
-	| { type: 'done'; report: unknown }
+	| { type: 'done'; result: unknown }
 	| { type: 'refused'; message: string }
 	| { type: 'error'; message: string };
 
-export async function runCheckThread(): Promise<void> {
-	if (isMainThread || !parentPort) throw new Error('runCheckThread must run in a worker thread');
-	const port = parentPort;
-	const input = workerData as CheckThreadInput;
-	const post = (m: CheckThreadMessage) => port.postMessage(m);
-	try {
+function write(mesh: Parameters<typeof writeBinaryStl>[0], format: ExportFormat): Uint8Array {
+	return format === 'stl' ? writeBinaryStl(mesh) : format === 'ply' ? writePly(mesh, 'binary-le') : writeObj(mesh);
+}
+
+async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise<unknown> {
+	if (input.task === 'check') {
 		// Small files: starting more threads would cost more than the whole check.
-		const small = input.bytes.byteLength < 4 * 1024 * 1024;
-		const report = small ? inspectBytes(input.bytes, input.fileName, input.options) : await inspectFileNode(input.bytes, input.fileName, {
+		if (input.bytes.byteLength < 4 * 1024 * 1024) return inspectBytes(input.bytes, input.fileName, input.options);
+		return inspectFileNode(input.bytes, input.fileName, {
 			...input.options,
 			threads: input.threads,
 			onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
 		});
-		post({ type: 'progress', stage: 'storing', percent: 95 });
-		post({ type: 'done', report });
+	}
+	post({ type: 'progress', stage: 'reading', percent: 5 });
+	const parent = readMesh(input.bytes, input.fileName, { maxFaces: input.maxFaces });
+	if (input.task === 'export') return write(parent, input.format);
+	post({ type: 'progress', stage: 'repairing', percent: 20 });
+	const { mesh, log } = applyRecipe(parent, input.steps);
+	if (mesh.indices.length === 0) throw new RepairError('the recipe removed every face; nothing is left to check');
+	post({ type: 'progress', stage: 'measuring deviation', percent: 70 });
+	const dev = meshDeviation(parent, mesh, { symmetric: true });
+	post({ type: 'progress', stage: 'writing', percent: 90 });
+	const out: RepairOutput = {
+		bytes: writeBinaryStl(mesh, 'binary STL repaired by Shellgate'),
+		log,
+		deviation: { hausdorff: dev.hausdorff, mean: dev.mean, parentToRepaired: dev.aToB.max, repairedToParent: dev.bToA?.max ?? null },
+		facesBefore: parent.indices.length / 3,
+		facesAfter: mesh.indices.length / 3
+	};
+	return out;
+}
+
+export async function runEngineThread(): Promise<void> {
+	if (isMainThread || !parentPort) throw new Error('runEngineThread must run in a worker thread');
+	const port = parentPort;
+	const post = (m: EngineMessage) => port.postMessage(m);
+	try {
+		const result = await run(workerData as EngineTask, post);
+		const transfer = result instanceof Uint8Array ? [result.buffer] : (result as RepairOutput | null)?.bytes instanceof Uint8Array ? [(result as RepairOutput).bytes.buffer] : [];
+		port.postMessage({ type: 'done', result } satisfies EngineMessage, transfer as ArrayBuffer[]);
 	} catch (e) {
-		if (e instanceof MeshReadError) post({ type: 'refused', message: e.message });
+		if (e instanceof MeshReadError || e instanceof RepairError) post({ type: 'refused', message: e.message });
 		else post({ type: 'error', message: e instanceof Error ? e.message : String(e) });
 	}
 }
 
-if (isWorkerFor('shellgate-check')) void runCheckThread();
+if (isWorkerFor(ENGINE_THREAD_TAG)) void runEngineThread();

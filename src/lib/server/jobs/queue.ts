@@ -10,6 +10,10 @@ export const LEASE_MS = 30_000;
 
 export type ClaimedJob = typeof job.$inferSelect;
 
+export async function enqueueRepair(tx: Pick<Db, 'insert'>, revisionId: number, payload: unknown, maxAttempts: number): Promise<void> {
+	await tx.insert(job).values({ kind: 'repair', revisionId, payload, maxAttempts });
+}
+
 export async function enqueueCheck(tx: Pick<Db, 'insert'>, revisionId: number, maxAttempts: number): Promise<void> {
 	await tx.insert(job).values({ kind: 'check', revisionId, maxAttempts });
 }
@@ -30,7 +34,7 @@ export async function claimJob(db: Db, workerId: string, leaseMs = LEASE_MS): Pr
 			if (row.attempts >= row.maxAttempts) {
 				const reason = `The check gave up after ${row.attempts} attempts. Last problem: ${row.lastError ?? 'the worker stopped answering (killed, out of memory or over its time limit).'}`;
 				await tx.update(job).set({ status: 'failed', finishedAt: now, lastError: reason.slice(0, 1000) }).where(eq(job.id, row.id));
-				await markUnreadable(tx as unknown as Db, row.revisionId, reason, null);
+				await closeFailed(tx as unknown as Db, row, reason);
 				return { kind: 'closed' as const };
 			}
 			const leaseUntil = new Date(now.getTime() + leaseMs);
@@ -39,7 +43,7 @@ export async function claimJob(db: Db, workerId: string, leaseMs = LEASE_MS): Pr
 				.set({ status: 'running', attempts: row.attempts + 1, workerId, leaseUntil, heartbeatAt: now, stage: 'queued for engine', percent: 0 })
 				.where(eq(job.id, row.id));
 			const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, row.revisionId)).limit(1);
-			if (rev && rev.status !== 'checking') {
+			if (row.kind === 'check' && rev && rev.status !== 'checking') {
 				await tx.update(revision).set({ status: 'checking', updatedAt: now }).where(eq(revision.id, row.revisionId));
 				await audit(tx, null, 'revision', row.revisionId, 'check-started', rev.status, 'checking', { job: row.id, attempt: row.attempts + 1, workerId });
 			}
@@ -82,11 +86,17 @@ export async function failAttempt(db: Db, jobId: number, workerId: string, messa
 		if (permanent || row.attempts >= row.maxAttempts) {
 			const reason = permanent ? message : `The check gave up after ${row.attempts} attempts. Last problem: ${message}`;
 			await tx.update(job).set({ status: 'failed', lastError: reason.slice(0, 1000), finishedAt: new Date() }).where(eq(job.id, jobId));
-			await markUnreadable(tx as unknown as Db, row.revisionId, reason, null);
+			await closeFailed(tx as unknown as Db, row, reason);
 		} else {
 			await tx.update(job).set({ status: 'queued', lastError: message.slice(0, 1000), workerId: null, leaseUntil: null, stage: 'waiting to retry' }).where(eq(job.id, jobId));
 		}
 	});
+}
+
+/** A check that cannot finish makes its revision unreadable; a failed repair leaves the original as it was. */
+async function closeFailed(tx: Db, row: ClaimedJob, reason: string): Promise<void> {
+	if (row.kind === 'check') await markUnreadable(tx, row.revisionId, reason, null);
+	else await audit(tx, null, 'revision', row.revisionId, 'repair-failed', null, null, { job: row.id, reason });
 }
 
 export async function markUnreadable(tx: Db, revisionId: number, reason: string, actorId: string | null): Promise<void> {

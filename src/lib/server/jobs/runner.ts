@@ -4,6 +4,7 @@ import { hostname } from 'node:os';
 import { config } from '../config';
 import type { Db } from '../db';
 import { processCheckJob } from './check';
+import { processRepairJob } from './repair';
 import { claimJob } from './queue';
 
 export interface WorkerLoopOptions {
@@ -39,7 +40,7 @@ export async function runWorkerLoop(opts: WorkerLoopOptions): Promise<void> {
 				await sleep(idle, opts.signal);
 				continue;
 			}
-			const outcome = await processCheckJob(opts.db(), j, workerId, { timeLimitMs: config.checkTimeLimitMs, memoryLimitMb: config.checkMemoryLimitMb }, opts.signal);
+			const outcome = await (j.kind === 'repair' ? processRepairJob : processCheckJob)(opts.db(), j, workerId, { timeLimitMs: config.checkTimeLimitMs, memoryLimitMb: config.checkMemoryLimitMb }, opts.signal);
 			opts.onResult?.(j.id, outcome);
 		} catch (e) {
 			// Database down or a write failed: the lease runs out and the job is claimed again later.

@@ -4,6 +4,7 @@ import { requireRole } from '$lib/server/auth';
 import { addComment, commentSchema } from '$lib/server/comments';
 import { getDb } from '$lib/server/db';
 import { partHistory, revisionDetail } from '$lib/server/revision-detail';
+import { checkRecipe, projectRecipes, proposeRepair, saveRecipe, standardRecipe } from '$lib/server/repairs';
 import { fourEyesConflict, HttpError, loadRevisionForUser, recheck, returnRevision, signOff } from '$lib/server/revisions';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -28,7 +29,13 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 	try {
 		const detail = await revisionDetail(db, me, revId(params.id));
 		const ctx = await loadRevisionForUser(db, me, detail.id);
-		return { detail, history: await partHistory(db, detail.part.id), fourEyes: fourEyesConflict(me, ctx) };
+		return {
+			detail,
+			history: await partHistory(db, detail.part.id),
+			fourEyes: fourEyesConflict(me, ctx),
+			recipes: await projectRecipes(db, detail.project.id),
+			standardRecipe: standardRecipe(detail.project.targetCellSize)
+		};
 	} catch (e) {
 		if (e instanceof HttpError) error(e.status, e.message);
 		throw e;
@@ -59,6 +66,21 @@ export const actions: Actions = {
 			const db = getDb();
 			await returnRevision(db, me, await loadRevisionForUser(db, me, revId(params.id)), reason);
 			return { returned: true };
+		}),
+	repair: async ({ locals, params, request }) =>
+		guarded(async () => {
+			const me = requireRole(locals, 'engineer');
+			const fd = await request.formData();
+			const steps = checkRecipe(String(fd.get('steps') ?? ''));
+			const name = String(fd.get('name') ?? '').trim();
+			if (fd.get('save') === '1') {
+				const db = getDb();
+				const ctx = await loadRevisionForUser(db, me, revId(params.id));
+				await saveRecipe(db, me, ctx.project.slug, name, steps);
+				return { recipeSaved: name };
+			}
+			await proposeRepair(getDb(), me, revId(params.id), steps, name || 'custom');
+			return { repairQueued: true };
 		}),
 	signOff: async ({ locals, params, request }) => {
 		const res = await guarded(async () => {

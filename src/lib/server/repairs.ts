@@ -1,0 +1,93 @@
+// Proposing repairs: a recipe applied to a revision becomes a repair job; recipes can be saved on a
+// project and applied to every held revision of a batch.
+import { and, asc, eq, inArray } from 'drizzle-orm';
+import { parseRecipe, STANDARD_RECIPE, type RepairStep } from '../mesh/repair';
+import { audit } from './audit';
+import type { SessionUser } from './auth';
+import { config } from './config';
+import type { Db } from './db';
+import { job, part, recipe, revision } from './db/schema';
+import { enqueueRepair } from './jobs/queue';
+import type { RepairPayload } from './jobs/repair';
+import { assertCan, findProjectForUser, HttpError, loadRevisionForUser } from './revisions';
+
+export const REPAIRABLE = ['held', 'clear', 'returned'] as const;
+
+export function checkRecipe(raw: unknown): RepairStep[] {
+	try {
+		return parseRecipe(raw);
+	} catch (e) {
+		throw new HttpError(400, `The recipe is not valid: ${(e as Error).message}`);
+	}
+}
+
+export function standardRecipe(targetCellSize: number): RepairStep[] {
+	return STANDARD_RECIPE(targetCellSize);
+}
+
+export async function proposeRepair(db: Db, u: SessionUser, revisionId: number, steps: RepairStep[], recipeName: string): Promise<void> {
+	assertCan(u, 'repair');
+	const ctx = await loadRevisionForUser(db, u, revisionId);
+	if (!(REPAIRABLE as readonly string[]).includes(ctx.rev.status)) {
+		throw new HttpError(409, `A repair starts from a held, clear or returned revision; this one is "${ctx.rev.status.replace(/-/g, ' ')}".`);
+	}
+	await db.transaction(async (txx) => {
+		const tx = txx as unknown as Db;
+		const [pending] = await tx
+			.select({ id: job.id })
+			.from(job)
+			.where(and(eq(job.revisionId, ctx.rev.id), eq(job.kind, 'repair'), inArray(job.status, ['queued', 'running'])))
+			.limit(1);
+		if (pending) throw new HttpError(409, 'A repair of this revision is already running.');
+		const payload: RepairPayload = { steps, requestedBy: u.id, recipeName: recipeName.slice(0, 120) };
+		await enqueueRepair(tx, ctx.rev.id, payload, config.checkAttempts);
+		await audit(tx, u.id, 'revision', ctx.rev.id, 'repair-requested', null, null, { recipe: recipeName, steps: steps.length });
+	});
+}
+
+export async function saveRecipe(db: Db, u: SessionUser, projectSlug: string, name: string, steps: RepairStep[]): Promise<number> {
+	assertCan(u, 'repair');
+	const p = await findProjectForUser(db, u, projectSlug);
+	if (!name.trim()) throw new HttpError(400, 'Give the recipe a name.');
+	return db.transaction(async (tx) => {
+		const [r] = await tx.insert(recipe).values({ projectId: p.id, name: name.trim().slice(0, 120), steps, createdBy: u.id }).$returningId();
+		await audit(tx, u.id, 'recipe', r.id, 'saved', null, null, { project: p.slug });
+		return r.id;
+	});
+}
+
+export async function projectRecipes(db: Db, projectId: number) {
+	const rows = await db.select().from(recipe).where(eq(recipe.projectId, projectId)).orderBy(asc(recipe.name));
+	return rows.map((r) => ({ id: r.id, name: r.name, steps: r.steps as RepairStep[] }));
+}
+
+/** Applies a saved (or the standard) recipe to every held revision of a project. */
+export async function repairBatch(db: Db, u: SessionUser, projectSlug: string, recipeId: number | null): Promise<{ queued: number; skipped: number }> {
+	assertCan(u, 'repair');
+	const p = await findProjectForUser(db, u, projectSlug);
+	let steps: RepairStep[];
+	let name = 'standard';
+	if (recipeId) {
+		const [r] = await db.select().from(recipe).where(and(eq(recipe.id, recipeId), eq(recipe.projectId, p.id))).limit(1);
+		if (!r) throw new HttpError(404, 'No such recipe in this project.');
+		steps = checkRecipe(r.steps);
+		name = r.name;
+	} else steps = standardRecipe(p.targetCellSize);
+	const held = await db
+		.select({ id: revision.id })
+		.from(revision)
+		.innerJoin(part, eq(part.id, revision.partId))
+		.where(and(eq(part.projectId, p.id), eq(revision.status, 'held')));
+	let queued = 0;
+	let skipped = 0;
+	for (const h of held) {
+		try {
+			await proposeRepair(db, u, h.id, steps, name);
+			queued++;
+		} catch (e) {
+			if (e instanceof HttpError && e.status === 409) skipped++;
+			else throw e;
+		}
+	}
+	return { queued, skipped };
+}

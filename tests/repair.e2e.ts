@@ -1,0 +1,69 @@
+import { expect, test, type Page } from '@playwright/test';
+import { shot, signInAs, signOut } from './helpers';
+
+const PART = `tow-repair-${Date.now().toString(36)}`;
+
+async function setEngineerAlsoReviewer(page: Page, on: boolean) {
+	await signInAs(page, 'admin');
+	await page.goto('/admin/users');
+	const row = page.getByRole('row').filter({ hasText: 'engineer@example.test' });
+	const box = row.getByRole('checkbox', { name: 'reviewer' });
+	if (on) await box.check();
+	else await box.uncheck();
+	await row.getByRole('button', { name: 'Save' }).click();
+	await expect(row.getByText('saved')).toBeVisible();
+	await signOut(page);
+}
+
+test('an engineer repairs a held revision, cannot sign off their own repair, and a different reviewer signs it off', async ({ page }) => {
+	test.setTimeout(150_000);
+	// The engineer also holds the reviewer role here, so the four-eyes rule is what stops them.
+	await setEngineerAlsoReviewer(page, true);
+	try {
+		await signInAs(page, 'designer');
+		await page.goto('/upload?project=tow-bodies');
+		await page.getByLabel('Part').fill(PART);
+		await page.getByLabel('Files').setInputFiles('fixtures/tow-body-hole.obj');
+		await page.getByRole('button', { name: 'Upload' }).click();
+		await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+		await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
+		const heldUrl = page.url();
+		await signOut(page);
+
+		await signInAs(page, 'engineer');
+		await page.goto(heldUrl);
+		await expect(page.getByTestId('repair-panel')).toBeVisible();
+		await page.getByRole('button', { name: 'Propose repair' }).click();
+		await expect(page.getByTestId('repair-result')).toBeVisible({ timeout: 60_000 });
+		await page.getByTestId('repair-result').click();
+		await expect(page.locator('h1 [data-status]')).toHaveText(/Repair proposed/, { timeout: 30_000 });
+		// Before and after, with the measured deviation inside the project's tolerance.
+		const changes = page.getByTestId('repair-changes');
+		await expect(changes).toContainText('What the repair changed');
+		await expect(page.getByTestId('deviation')).toContainText('within the project tolerance');
+		await expect(page.getByTestId('repair-log').locator('li')).toHaveCount(8);
+		await expect(page.getByTestId('four-eyes')).toHaveText('You ran this repair; a different reviewer must sign it off.');
+		await expect(page.getByRole('button', { name: 'Sign off for the solver' })).toHaveCount(0);
+		await page.screenshot({ path: shot('repair-proposed-engineer'), fullPage: true });
+		const repairedUrl = page.url();
+		// The server refuses the engineer's sign-off even when the form is posted by hand.
+		const forced = await page.request.post(`${repairedUrl}?/signOff`, { form: { note: '' }, headers: { origin: new URL(repairedUrl).origin } });
+		expect(JSON.stringify(await forced.json())).toContain('You ran this repair');
+		// The repaired surface downloads in each format.
+		for (const f of ['stl', 'ply', 'obj']) {
+			const res = await page.request.get(`/api/v1/revisions/${repairedUrl.split('/').pop()}/export?format=${f}`);
+			expect(res.status()).toBe(200);
+			expect(res.headers()['content-disposition']).toContain(`.${f}`);
+		}
+		await signOut(page);
+
+		await signInAs(page, 'reviewer');
+		await page.goto(repairedUrl);
+		await page.screenshot({ path: shot('repair-proposed-reviewer'), fullPage: true });
+		await page.getByRole('button', { name: 'Sign off for the solver' }).click();
+		await expect(page.getByTestId('signed-by')).toContainText('reviewer@example.test');
+		await signOut(page);
+	} finally {
+		await setEngineerAlsoReviewer(page, false);
+	}
+});

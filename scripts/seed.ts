@@ -1,10 +1,16 @@
 // Demo data for `npm start`: a small marine-robotics team, one person per role, three projects.
 // Idempotent: rows are found by their natural keys (e-mail, slug) and only created when missing.
-import { and, eq } from 'drizzle-orm';
+import { Readable } from 'node:stream';
+import { and, eq, sql } from 'drizzle-orm';
 import { hashPassword, newUserId } from '../src/lib/server/auth/password';
 import { closeDb, getDb } from '../src/lib/server/db';
 import { gateProfile, part, project, team, user, userRole, type Role } from '../src/lib/server/db/schema';
 import { DEFAULT_GATE_RULES, type GateRules } from '../src/lib/gate/profile';
+import { loadSessionUser } from '../src/lib/server/auth';
+import { revision } from '../src/lib/server/db/schema';
+import { ingestRevision } from '../src/lib/server/revisions';
+import { spool } from '../src/lib/server/storage';
+import { demoUploads } from './demo-meshes';
 
 export const DEMO_PASSWORD = 'shellgate-demo';
 
@@ -63,7 +69,7 @@ const PROJECTS: {
 	}
 ];
 
-export async function seed(): Promise<{ created: number }> {
+export async function seed(opts: { meshes?: boolean } = {}): Promise<{ created: number }> {
 	const db = getDb();
 	let created = 0;
 	let [t] = await db.select().from(team).where(eq(team.name, 'Tidewater Survey Robotics')).limit(1);
@@ -109,7 +115,23 @@ export async function seed(): Promise<{ created: number }> {
 			}
 		}
 	}
+	if ((opts.meshes ?? true) && process.env.SEED_MESHES !== '0') created += await seedRevisions(ids['designer@example.test']);
 	return { created };
+}
+
+/** Demo revisions, only into an empty revision table; the app's check workers pick them up. */
+async function seedRevisions(designerId: string): Promise<number> {
+	const db = getDb();
+	const [{ n }] = await db.select({ n: sql<number>`count(*)` }).from(revision);
+	if (Number(n) > 0) return 0;
+	const designer = (await loadSessionUser(db, designerId))!;
+	let created = 0;
+	for (const up of demoUploads()) {
+		const spooled = await spool(Readable.from([Buffer.from(up.bytes)]), 1024 ** 3);
+		await ingestRevision(db, { user: designer, projectSlug: up.project, partSlug: up.part, fileName: up.fileName, spooled, source: 'upload', note: up.note });
+		created++;
+	}
+	return created;
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {

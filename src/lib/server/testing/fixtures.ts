@@ -10,7 +10,7 @@ import { ingestRevision, type IngestResult } from '../revisions';
 import { spool } from '../storage';
 
 export async function seededUsers(db: Db): Promise<Record<'admin' | 'engineer' | 'designer' | 'reviewer', SessionUser>> {
-	await seed();
+	await seed({ meshes: false });
 	const out = {} as Record<string, SessionUser>;
 	for (const role of ['admin', 'engineer', 'designer', 'reviewer']) {
 		const [u] = await db.select().from(user).where(eq(user.email, `${role}@example.test`)).limit(1);

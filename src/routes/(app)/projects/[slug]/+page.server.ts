@@ -6,6 +6,8 @@ import { requireRole } from '$lib/server/auth';
 import { audit } from '$lib/server/audit';
 import { getDb } from '$lib/server/db';
 import { gateProfile, part, project, revision, user } from '$lib/server/db/schema';
+import { projectRecipes, repairBatch } from '$lib/server/repairs';
+import { HttpError } from '$lib/server/revisions';
 import type { Actions, PageServerLoad } from './$types';
 
 async function findProject(teamId: number, slug: string) {
@@ -35,7 +37,9 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		project: p,
 		rules: gateRulesSchema.parse(profiles[0]?.rules ?? DEFAULT_GATE_RULES),
 		profiles: profiles.map((x) => ({ ...x, rules: gateRulesSchema.parse(x.rules) })),
-		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) }))
+		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) })),
+		recipes: await projectRecipes(db, p.id),
+		held: Number((await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(and(eq(part.projectId, p.id), eq(revision.status, 'held'))))[0].n)
 	};
 };
 
@@ -48,6 +52,17 @@ const settingsSchema = z.object({
 });
 
 export const actions: Actions = {
+	batchRepair: async ({ locals, params, request }) => {
+		const me = requireRole(locals, 'engineer');
+		const raw = String((await request.formData()).get('recipe') ?? '');
+		try {
+			const res = await repairBatch(getDb(), me, params.slug, raw && raw !== 'standard' ? Number(raw) : null);
+			return { batchQueued: res.queued, batchSkipped: res.skipped };
+		} catch (e) {
+			if (e instanceof HttpError) return fail(e.status, { batchError: e.message });
+			throw e;
+		}
+	},
 	profile: async ({ locals, params, request }) => {
 		const me = requireRole(locals, 'admin');
 		const p = await findProject(me.teamId, params.slug);

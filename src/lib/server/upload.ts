@@ -38,10 +38,14 @@ export async function receiveMultipart(request: Request, limitBytes: number): Pr
 	}
 	const source = Readable.fromWeb(request.body as import('node:stream/web').ReadableStream);
 	await new Promise<void>((resolve) => {
+		// File parts still being spooled: on a failure they are destroyed too, or their spool would wait
+		// forever for the rest of a body that is never coming (and leave its temporary file behind).
+		const open = new Set<Readable>();
 		const fail = (e: Error) => {
 			failure ??= e;
 			source.unpipe(bb);
 			source.destroy();
+			for (const s of open) s.destroy(e);
 			resolve();
 		};
 		bb.on('field', (name, value, info) => {
@@ -49,6 +53,10 @@ export async function receiveMultipart(request: Request, limitBytes: number): Pr
 			fields[name] = value;
 		});
 		bb.on('file', (field, stream, info) => {
+			open.add(stream);
+			stream.once('close', () => open.delete(stream));
+			// The spool reports the failure; this keeps a late error event from going unhandled.
+			stream.on('error', () => {});
 			pending.push(
 				spool(stream, limitBytes).then(
 					(spooled) => {

@@ -105,7 +105,14 @@ export async function ingestRevision(db: Db, input: IngestInput): Promise<Ingest
 		if (!SLUG.test(input.partSlug)) throw new HttpError(400, 'A part name in the address may use lower-case letters, digits and dashes (at most 64).');
 		const proj = await findProjectForUser(db, u, input.projectSlug);
 		const store = getStore();
-		await store.putFile(spooled.tmpPath, spooled.sha256, spooled.size);
+		try {
+			await store.putFile(spooled.tmpPath, spooled.sha256, spooled.size);
+		} catch (e) {
+			// Nothing refers to the bytes yet; a half-written object is removed so no row can point at it.
+			await store.delete(spooled.sha256).catch(() => {});
+			console.error('[shellgate] file store write failed:', (e as Error)?.message ?? e);
+			throw new HttpError(503, 'The file store did not accept the file right now. Nothing was saved; try the upload again in a moment.');
+		}
 		try {
 			return await db.transaction(async (txx) => {
 				const tx = txx as unknown as Db;

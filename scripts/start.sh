@@ -77,7 +77,8 @@ else
 fi
 
 port_open "$PORT" && die "port $PORT is already in use; set PORT to a free port"
-PORT=$PORT HOST=$HOST ORIGIN=$ORIGIN node build </dev/null &
+# The app enforces its own upload limit (UPLOAD_LIMIT_MB) while it streams; adapter-node's own cap is lifted.
+BODY_SIZE_LIMIT=${BODY_SIZE_LIMIT:-Infinity} PORT=$PORT HOST=$HOST ORIGIN=$ORIGIN node build </dev/null &
 APP_PID=$!
 wait_port "$PORT" "$APP_PID" app 60 || die "the app did not start"
 

@@ -3,7 +3,9 @@
  * written as binary STL into bench-out/ (kept between runs), then every bench case run on every
  * size, each in its own child process (scripts/bench-one.ts) so peak memory does not mix.
  *
- * Env: BENCH_SIZES=100k,1m (subset of sizes), BENCH_CASES=report (subset of cases), BENCH_REGEN=1.
+ * Then the reader and repair benchmarks (scripts/bench-readers.ts, scripts/bench-repair.ts).
+ *
+ * Env: BENCH_SIZES=100k,1m (subset of sizes), BENCH_CASES=report,repair (subset of cases), BENCH_REGEN=1.
  * To add a row kind, add a case in scripts/bench-one.ts and its name to CASE_ORDER below.
  */
 import { spawnSync } from 'node:child_process';
@@ -135,4 +137,20 @@ function main(): void {
 	if (si) console.log(`self-intersections 1M on 2 workers ${fmt(si.wallMs)} ms (goal ≲ 500 ms) ${si.wallMs <= 500 ? 'PASS' : 'FAIL'}`);
 }
 
+/** Benchmarks kept in scripts of their own, run as child processes after the table above. */
+const EXTRA_SCRIPTS: { name: string; file: string; what: string }[] = [
+	{ name: 'readers', file: 'scripts/bench-readers.ts', what: 'file readers at 1M triangles (binary STL, binary PLY, OBJ, and @loaders.gl/ply for comparison)' },
+	{ name: 'repair', file: 'scripts/bench-repair.ts', what: 'the standard repair recipe on a 1M-triangle tow body with injected defects' }
+];
+
 main();
+{
+	const caseFilter = process.env.BENCH_CASES?.split(',');
+	const tsxCli = createRequire(import.meta.url).resolve('tsx/cli');
+	for (const x of EXTRA_SCRIPTS) {
+		if (caseFilter && !caseFilter.includes(x.name)) continue;
+		console.log(`\n## ${x.name}: ${x.what}`);
+		const res = spawnSync(process.execPath, [tsxCli, join(root, x.file)], { stdio: 'inherit' });
+		if (res.status !== 0) console.log(`${x.file} exited with ${res.status}`);
+	}
+}

@@ -1,17 +1,7 @@
 import { describe, expect, it } from 'vitest';
+import { mulberry32 as rng } from './implicit-shapes';
 import { countDuplicatePositions, weldFloat32Bits, weldFloat64 } from './weld';
 
-/** Seeded 32-bit generator (mulberry32) so failures replay. */
-function rng(seed: number): () => number {
-	let a = seed >>> 0;
-	return () => {
-		a = (a + 0x6d2b79f5) >>> 0;
-		let t = a;
-		t = Math.imul(t ^ (t >>> 15), t | 1);
-		t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-		return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-	};
-}
 
 /** Brute-force oracle: first-appearance ids by a string key per corner. */
 function oracle(c: Float64Array): { ids: number[]; count: number } {

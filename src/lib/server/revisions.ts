@@ -165,6 +165,18 @@ export async function ingestRevision(db: Db, input: IngestInput): Promise<Ingest
 	}
 }
 
+/** A revision with its part and project, for workers (no team check: jobs act for the system). */
+export async function loadRevisionContext(db: Db, id: number) {
+	const [row] = await db
+		.select({ rev: revision, part, project })
+		.from(revision)
+		.innerJoin(part, eq(part.id, revision.partId))
+		.innerJoin(project, eq(project.id, part.projectId))
+		.where(eq(revision.id, id))
+		.limit(1);
+	return row ?? null;
+}
+
 export async function loadRevisionForUser(db: Db, u: SessionUser, id: number) {
 	const [row] = await db
 		.select({ rev: revision, part, project })

@@ -1,6 +1,7 @@
 /** Shared helpers of the repair operations: input checks, compaction, shells, measures. */
 import { buildEdges, type EdgeTable } from '../edges';
 import type { MeshBuffers } from '../types';
+import { referencedBbox } from '../quality';
 
 /** A repair refusal: the input cannot be repaired as given (malformed buffers, bad parameters). */
 export class RepairError extends Error {
@@ -82,19 +83,9 @@ export function compactMesh(positions: Float64Array, indices: Uint32Array, keep?
 
 /** Diagonal of the bounding box of the referenced vertices (0 for an empty mesh). */
 export function bboxDiagonal(mesh: MeshBuffers): number {
-	const p = mesh.positions, ix = mesh.indices;
-	let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;
-	for (let i = 0; i < ix.length; i++) {
-		const v3 = 3 * ix[i];
-		const x = p[v3], y = p[v3 + 1], z = p[v3 + 2];
-		if (x < mnx) mnx = x;
-		if (x > mxx) mxx = x;
-		if (y < mny) mny = y;
-		if (y > mxy) mxy = y;
-		if (z < mnz) mnz = z;
-		if (z > mxz) mxz = z;
-	}
-	return ix.length ? Math.hypot(mxx - mnx, mxy - mny, mxz - mnz) : 0;
+	if (mesh.indices.length === 0) return 0;
+	const { min, max } = referencedBbox(mesh.positions, mesh.indices);
+	return Math.hypot(max[0] - min[0], max[1] - min[1], max[2] - min[2]);
 }
 
 export function findRoot(parent: Int32Array, x: number): number {

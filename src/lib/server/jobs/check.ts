@@ -9,7 +9,8 @@ import { evaluateGate, gatePasses, minEdgeThreshold, RULE_TITLES, severityScore 
 import { audit } from '../audit';
 import { config } from '../config';
 import type { Db } from '../db';
-import { checkRun, gateProfile, part, project, revision, ruleResult } from '../db/schema';
+import { checkRun, gateProfile, revision, ruleResult } from '../db/schema';
+import { loadRevisionContext } from '../revisions';
 import { notifyHeld, notifyRepairAwaits } from '../notify';
 import { getStore } from '../storage';
 import type { EngineMessage, EngineTask } from './engine-thread';
@@ -72,13 +73,7 @@ export function reportHash(reportJson: string): string {
 
 /** Processes one claimed job end to end; never throws for a bad file (that ends as unreadable). */
 export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, limits: CheckLimits, signal?: AbortSignal): Promise<'done' | 'refused' | 'failed' | 'lost'> {
-	const [ctx] = await db
-		.select({ rev: revision, part, project })
-		.from(revision)
-		.innerJoin(part, eq(part.id, revision.partId))
-		.innerJoin(project, eq(project.id, part.projectId))
-		.where(eq(revision.id, j.revisionId))
-		.limit(1);
+	const ctx = await loadRevisionContext(db, j.revisionId);
 	if (!ctx) {
 		await failAttempt(db, j.id, workerId, 'The revision no longer exists.', true);
 		return 'refused';

@@ -8,8 +8,8 @@ import { loadSessionUser } from '../auth';
 import { audit } from '../audit';
 import { config } from '../config';
 import type { Db } from '../db';
-import { job, part, project, revision } from '../db/schema';
-import { ingestRevision } from '../revisions';
+import { job } from '../db/schema';
+import { ingestRevision, loadRevisionContext } from '../revisions';
 import { getStore, spool } from '../storage';
 import { CheckRefused, runEngine, type CheckLimits } from './check';
 import type { RepairOutput } from './engine-thread';
@@ -24,13 +24,7 @@ export interface RepairPayload {
 
 export async function processRepairJob(db: Db, j: ClaimedJob, workerId: string, limits: CheckLimits, signal?: AbortSignal): Promise<'done' | 'refused' | 'failed' | 'lost'> {
 	const payload = j.payload as RepairPayload;
-	const [ctx] = await db
-		.select({ rev: revision, part, project })
-		.from(revision)
-		.innerJoin(part, eq(part.id, revision.partId))
-		.innerJoin(project, eq(project.id, part.projectId))
-		.where(eq(revision.id, j.revisionId))
-		.limit(1);
+	const ctx = await loadRevisionContext(db, j.revisionId);
 	const engineer = ctx ? await loadSessionUser(db, payload.requestedBy) : null;
 	if (!ctx || !engineer) {
 		await failAttempt(db, j.id, workerId, 'The revision or the engineer who asked for the repair no longer exists.', true);

@@ -54,7 +54,7 @@ export default defineConfig({
 		}
 	},
 	webServer: {
-		command: 'node build',
+		command: `node ${process.env.BUILD_DIR ?? 'build'}`,
 		url: baseURL,
 		reuseExistingServer: false,
 		timeout: 60_000,

@@ -6,7 +6,8 @@ const config = {
 	preprocess: vitePreprocess(),
 	kit: {
 		// SvelteKit's origin check on form posts stays on (the default): cross-site posts get 403.
-		adapter: adapter()
+		// BUILD_DIR lets two builds of one checkout live side by side (default build/).
+		adapter: adapter({ out: process.env.BUILD_DIR ?? 'build' })
 	}
 };
 

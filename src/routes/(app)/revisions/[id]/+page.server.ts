@@ -47,7 +47,12 @@ export const actions: Actions = {
 		guarded(async () => {
 			const me = requireRole(locals);
 			const fd = await request.formData();
-			const point = fd.get('point') ? JSON.parse(String(fd.get('point'))) : null;
+			let point: unknown = null;
+			try {
+				point = fd.get('point') ? JSON.parse(String(fd.get('point'))) : null;
+			} catch {
+				throw new HttpError(400, 'The comment point must be JSON like [x, y, z].');
+			}
 			const face = fd.get('face') ? Number(fd.get('face')) : null;
 			await addComment(getDb(), me, revId(params.id), commentSchema.parse({ body: fd.get('body') ?? '', point, face }));
 			return { commented: true };

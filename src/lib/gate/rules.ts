@@ -43,8 +43,8 @@ export interface GateContext {
 }
 
 const n = (x: number) => x.toLocaleString('en-US');
-const len = (x: number, units: string) => `${Number(x.toPrecision(3)).toLocaleString('en-US')} ${units}`;
-const at = (p: Vec3, units: string) => `(${p.map((c) => Number(c.toPrecision(4))).join(', ')}) ${units}`;
+const len = (x: number, units: string) => `${x.toLocaleString('en-US', { maximumSignificantDigits: 3 })} ${units}`;
+const at = (p: Vec3, units: string) => `(${p.map((c) => c.toLocaleString('en-US', { maximumSignificantDigits: 4 })).join(', ')}) ${units}`;
 const plural = (k: number, one: string, many = one + 's') => `${n(k)} ${k === 1 ? one : many}`;
 
 /** Minimum edge length the profile asks for, in project units, or null when the rule is off. */

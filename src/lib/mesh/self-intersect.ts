@@ -489,12 +489,14 @@ function loadTriangle(ctx: Ctx, slot: number, a: number, b: number, c: number): 
 /**
  * The pair rule on slots si, sj (see the file comment); the caller has loaded slot si into scratch
  * slot 0 (loadTriangle), since it stays fixed across a run of sj. Writes a point into ctx.hit when true.
+ * Most candidates in a fine mesh are neighbours sharing a vertex or an edge; those are first tested
+ * against the plane of slot 0 alone, reading the other face's corners straight from `positions`, so
+ * most of them are rejected before the second face's plane is computed.
  */
 export function testPair(ctx: Ctx, verts: Uint32Array, si: number, sj: number): boolean {
 	const i3 = 3 * si, j3 = 3 * sj;
 	const a0 = verts[i3], a1 = verts[i3 + 1], a2 = verts[i3 + 2];
 	const b0 = verts[j3], b1 = verts[j3 + 1], b2 = verts[j3 + 2];
-	loadTriangle(ctx, 1, b0, b1, b2);
 	const i = 0, j = 1;
 	// Which corners of i are shared (bit k: corner k of i), and which corner of j each matches.
 	const m0 = a0 === b0 ? 0 : a0 === b1 ? 1 : a0 === b2 ? 2 : -1;
@@ -503,6 +505,7 @@ export function testPair(ctx: Ctx, verts: Uint32Array, si: number, sj: number): 
 	const shared = (m0 >= 0 ? 1 : 0) + (m1 >= 0 ? 1 : 0) + (m2 >= 0 ? 1 : 0);
 	const tp = ctx.tp, i9 = 9 * i, j9 = 9 * j;
 	if (shared === 0) {
+		loadTriangle(ctx, 1, b0, b1, b2);
 		const dx = tp[j9], dy = tp[j9 + 1], dz = tp[j9 + 2];
 		const ex = tp[j9 + 3], ey = tp[j9 + 4], ez = tp[j9 + 5];
 		const fx = tp[j9 + 6], fy = tp[j9 + 7], fz = tp[j9 + 8];
@@ -523,28 +526,32 @@ export function testPair(ctx: Ctx, verts: Uint32Array, si: number, sj: number): 
 			segTri(ctx, fx, fy, fz, dx, dy, dz, s2, s0, i)
 		);
 	}
+	const pos = ctx.positions;
 	if (shared === 1) {
-		// With s shared: if the edge of i opposite s lies strictly on one side of j's plane, i meets
-		// that plane only at s, so neither opposite edge can meet the other face; likewise for j.
+		// With s shared: if the edge of j opposite s lies strictly on one side of i's plane, j meets
+		// that plane only at s, so neither opposite edge can meet the other face; likewise for i.
 		// Only when both opposite edges reach the other plane are the segment tests needed.
 		const si = m0 >= 0 ? 0 : m1 >= 0 ? 1 : 2;
 		const sj = m0 >= 0 ? m0 : m1 >= 0 ? m1 : m2;
+		const vr = sj === 0 ? b1 : sj === 1 ? b2 : b0, vs = sj === 0 ? b2 : sj === 1 ? b0 : b1;
+		const r3 = 3 * vr, s3 = 3 * vs;
+		const rx = pos[r3], ry = pos[r3 + 1], rz = pos[r3 + 2], sx = pos[s3], sy = pos[s3 + 1], sz = pos[s3 + 2];
+		const sr = sidePlane(ctx, i, rx, ry, rz), ss = sidePlane(ctx, i, sx, sy, sz);
+		if ((sr > 0 && ss > 0) || (sr < 0 && ss < 0)) return false;
+		loadTriangle(ctx, 1, b0, b1, b2);
 		const p = i9 + 3 * ((si + 1) % 3), q = i9 + 3 * ((si + 2) % 3);
 		const px = tp[p], py = tp[p + 1], pz = tp[p + 2], qx = tp[q], qy = tp[q + 1], qz = tp[q + 2];
 		const sp = sidePlane(ctx, j, px, py, pz), sq = sidePlane(ctx, j, qx, qy, qz);
 		if ((sp > 0 && sq > 0) || (sp < 0 && sq < 0)) return false;
-		const r = j9 + 3 * ((sj + 1) % 3), s = j9 + 3 * ((sj + 2) % 3);
-		const rx = tp[r], ry = tp[r + 1], rz = tp[r + 2], sx = tp[s], sy = tp[s + 1], sz = tp[s + 2];
-		const sr = sidePlane(ctx, i, rx, ry, rz), ss = sidePlane(ctx, i, sx, sy, sz);
-		if ((sr > 0 && ss > 0) || (sr < 0 && ss < 0)) return false;
 		return segTri(ctx, px, py, pz, qx, qy, qz, sp, sq, j) || segTri(ctx, rx, ry, rz, sx, sy, sz, sr, ss, i);
 	}
 	if (shared === 2) {
 		const oi = m0 < 0 ? 0 : m1 < 0 ? 1 : 2; // corner of i not shared
 		const oj = 3 - (m0 < 0 ? 0 : m0) - (m1 < 0 ? 0 : m1) - (m2 < 0 ? 0 : m2); // corner of j not shared
+		const ov3 = 3 * (oj === 0 ? b0 : oj === 1 ? b1 : b2);
+		if (sidePlane(ctx, i, pos[ov3], pos[ov3 + 1], pos[ov3 + 2]) !== 0) return false;
+		loadTriangle(ctx, 1, b0, b1, b2);
 		const o = j9 + 3 * oj;
-		const ox = tp[o], oy = tp[o + 1], oz = tp[o + 2];
-		if (sidePlane(ctx, i, ox, oy, oz) !== 0) return false;
 		// Coplanar: a fold when both opposite corners lie on the same side of the shared edge.
 		const e0 = i9 + 3 * ((oi + 1) % 3), e1 = i9 + 3 * ((oi + 2) % 3), oo = i9 + 3 * oi;
 		const axis = dropAxis(tp[i9], tp[i9 + 1], tp[i9 + 2], tp[i9 + 3], tp[i9 + 4], tp[i9 + 5], tp[i9 + 6], tp[i9 + 7], tp[i9 + 8]);

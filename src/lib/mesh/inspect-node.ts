@@ -3,7 +3,7 @@
  * projections run on the calling thread; the report is the same as inspectBytes gives.
  */
 import { readMesh } from './read';
-import { findSelfIntersectionsParallel } from './self-intersect-node';
+import { findSelfIntersectionsParallel, warmSelfIntersectPool } from './self-intersect-node';
 import { validateMesh } from './build-report';
 import { buildReport, type InspectionReport } from './report';
 import type { InspectRunOptions } from './inspect';
@@ -21,6 +21,8 @@ export interface InspectNodeOptions extends InspectRunOptions {
 export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts: InspectNodeOptions = {}): Promise<InspectionReport> {
 	const t0 = performance.now();
 	const progress = (stage: string, percent: number) => opts.onProgress?.(stage, percent);
+	// Worker start-up (module loading in each thread) then overlaps reading the file.
+	if (!opts.skipSelfIntersections) warmSelfIntersectPool(opts.threads);
 	progress('read', 0);
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
 	const parsed = readMesh(bytes, fileName, { maxFaces });

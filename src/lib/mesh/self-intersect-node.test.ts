@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { mulberry32, sphere, towBody } from './implicit-shapes';
 import { gridFor, marchingCubes } from './marching-cubes';
 import { findSelfIntersections } from './self-intersect';
-import { findSelfIntersectionsParallel } from './self-intersect-node';
+import { closeSelfIntersectPool, findSelfIntersectionsParallel, warmSelfIntersectPool } from './self-intersect-node';
 
 /** Small triangles scattered in a 12-unit box on a 1/8 grid; a third reuse a corner of the previous one. */
 function soup(seed: number, triCount: number) {
@@ -65,5 +65,27 @@ describe('findSelfIntersectionsParallel', () => {
 		const run = findSelfIntersectionsParallel(m, { threads: 2, signal: ctl.signal });
 		setTimeout(() => ctl.abort(), 20);
 		await expect(run).rejects.toThrow(/cancelled/);
+	});
+
+	it('gives the single-threaded count on reused pool workers, on overlapping calls and after the pool was closed (seed 13)', async () => {
+		const m = soup(13, 2000);
+		const want = findSelfIntersections(m).pairs;
+		warmSelfIntersectPool(2);
+		const [x, y] = await Promise.all([findSelfIntersectionsParallel(m, { threads: 2 }), findSelfIntersectionsParallel(m, { threads: 2 })]);
+		expect([x.pairs, y.pairs]).toEqual([want, want]);
+		expect((await findSelfIntersectionsParallel(m, { threads: 2 })).pairs).toBe(want);
+		await closeSelfIntersectPool();
+		expect((await findSelfIntersectionsParallel(m, { threads: 3 })).pairs).toBe(want);
+	});
+
+	it('keeps working after a cancelled call terminated the pool workers (seed 14)', async () => {
+		const s = sphere(1);
+		const big = marchingCubes(s.field, gridFor(s.min, s.max, 0.01));
+		const ctl = new AbortController();
+		const run = findSelfIntersectionsParallel(big, { threads: 2, signal: ctl.signal });
+		setTimeout(() => ctl.abort(), 20);
+		await expect(run).rejects.toThrow(/cancelled/);
+		const m = soup(14, 1500);
+		expect((await findSelfIntersectionsParallel(m, { threads: 2 })).pairs).toBe(findSelfIntersections(m).pairs);
 	});
 });

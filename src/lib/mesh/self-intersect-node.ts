@@ -17,11 +17,18 @@
  * forever at a barrier. Tasks partition the face-pair space, so the shard
  * counts sum exactly to the single-threaded count. Samples are merged, sorted by face ids, capped.
  *
+ * Worker pool: starting a worker costs 0.1-0.5 s (more under tsx, which compiles the modules in
+ * each thread), so the workers are kept in a small pool per thread, created lazily and reused by
+ * later calls; `warmSelfIntersectPool` starts them ahead of need (inspect-node.ts calls it before
+ * reading the file). Idle workers are unref'd, so the pool never keeps a process alive; they are
+ * ref'd only while a check runs. One check uses the pool at a time; a call that overlaps a running
+ * one gets its own workers, terminated after. `closeSelfIntersectPool` terminates the pool.
+ *
  * Cancellation: pass an AbortSignal; all workers are terminated and the promise rejects.
  */
 import { availableParallelism } from 'node:os';
 import { createRequire } from 'node:module';
-import { isMainThread, parentPort, workerData, type Worker } from 'node:worker_threads';
+import { isMainThread, parentPort, type Worker } from 'node:worker_threads';
 import { isWorkerFor, spawnModuleWorker } from './module-worker-node';
 
 const WORKER_TAG = 'shellgate-self-intersect';
@@ -51,6 +58,10 @@ export interface ParallelSelfIntersectionOptions {
 
 interface WorkerInput {
 	kind: 'shellgate-self-intersect';
+	/** Job id, echoed back so a late answer from an earlier job is never taken for this one. */
+	job: number;
+	/** Which of the `threads` workers of this job this one is. */
+	index: number;
 	threads: number;
 	faceCount: number;
 	positions: SharedArrayBuffer;
@@ -72,6 +83,7 @@ interface WorkerInput {
 }
 
 interface WorkerOutput {
+	job: number;
 	result?: SelfIntersectionResult;
 	error?: string;
 }
@@ -90,54 +102,91 @@ function barrier(ctrl: Int32Array, slot: number, threads: number): void {
 const share = (from: number, to: number, k: number, n: number) => [from + Math.floor(((to - from) * k) / n), from + Math.floor(((to - from) * (k + 1)) / n)];
 
 /**
- * Worker side. Setup is split between the workers: encode a share of the faces, worker 0 sorts,
- * gather a share of the slots, then each builds the (identical) tree over the shared slot arrays
- * and takes traversal tasks from the shared counter. Posts its partial result.
+ * One job on the worker side. Setup is split between the workers: encode a share of the faces,
+ * worker 0 sorts, gather a share of the slots, then each builds the (identical) tree over the
+ * shared slot arrays and takes traversal tasks from the shared counter. Returns its partial result.
  */
+function runJob(input: WorkerInput): SelfIntersectionResult {
+	const t0 = performance.now();
+	const { threads, faceCount, index } = input;
+	const ctrl = new Int32Array(input.control);
+	const mesh: MeshBuffers = {
+		positions: new Float64Array(input.positions, 0, input.positionCount),
+		indices: new Uint32Array(input.indices, 0, 3 * faceCount)
+	};
+	const live = new Uint8Array(input.live);
+	const rawCodes = new Uint32Array(input.rawCodes);
+	const [f0, f1] = share(0, faceCount, index, threads);
+	encodeFaces(mesh, codeFrame(mesh.positions), f0, f1, live, rawCodes);
+	barrier(ctrl, 1, threads);
+	if (index === 0) {
+		const { codes, slotFace } = sortLiveFaces(live, rawCodes, faceCount);
+		new Uint32Array(input.sortedCodes).set(codes);
+		new Uint32Array(input.slotFace).set(slotFace);
+		Atomics.store(ctrl, CTRL_LIVE, slotFace.length);
+	}
+	barrier(ctrl, 2, threads);
+	const liveCount = Atomics.load(ctrl, CTRL_LIVE);
+	const slots: SlotArrays = {
+		faceOf: new Uint32Array(input.faceOf, 0, liveCount),
+		verts: new Uint32Array(input.verts, 0, 3 * liveCount),
+		box: new Float32Array(input.box, 0, 6 * liveCount)
+	};
+	const [s0, s1] = share(0, liveCount, index, threads);
+	gatherSlots(mesh, new Uint32Array(input.slotFace, 0, liveCount), s0, s1, slots);
+	barrier(ctrl, 3, threads);
+	const bvh = buildBvhSorted(new Uint32Array(input.sortedCodes, 0, liveCount), slots.box, LEAF_SIZE);
+	const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh };
+	return findInPrepared(
+		prep,
+		{ sampleLimit: input.sampleLimit, taskTarget: input.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } },
+		performance.now() - t0
+	);
+}
+
+/** Worker side: runs each job message it is sent and posts its partial result. */
 export function runSelfIntersectWorker(): void {
 	if (isMainThread || !parentPort) throw new Error('runSelfIntersectWorker must run inside a worker thread.');
-	const input = workerData as WorkerInput & { index: number };
 	const port = parentPort;
-	try {
-		const t0 = performance.now();
-		const { threads, faceCount, index } = input;
-		const ctrl = new Int32Array(input.control);
-		const mesh: MeshBuffers = {
-			positions: new Float64Array(input.positions, 0, input.positionCount),
-			indices: new Uint32Array(input.indices, 0, 3 * faceCount)
-		};
-		const live = new Uint8Array(input.live);
-		const rawCodes = new Uint32Array(input.rawCodes);
-		const [f0, f1] = share(0, faceCount, index, threads);
-		encodeFaces(mesh, codeFrame(mesh.positions), f0, f1, live, rawCodes);
-		barrier(ctrl, 1, threads);
-		if (index === 0) {
-			const { codes, slotFace } = sortLiveFaces(live, rawCodes, faceCount);
-			new Uint32Array(input.sortedCodes).set(codes);
-			new Uint32Array(input.slotFace).set(slotFace);
-			Atomics.store(ctrl, CTRL_LIVE, slotFace.length);
+	port.on('message', (input: WorkerInput) => {
+		try {
+			port.postMessage({ job: input.job, result: runJob(input) } satisfies WorkerOutput);
+		} catch (e) {
+			port.postMessage({ job: input.job, error: e instanceof Error ? e.message : String(e) } satisfies WorkerOutput);
 		}
-		barrier(ctrl, 2, threads);
-		const liveCount = Atomics.load(ctrl, CTRL_LIVE);
-		const slots: SlotArrays = {
-			faceOf: new Uint32Array(input.faceOf, 0, liveCount),
-			verts: new Uint32Array(input.verts, 0, 3 * liveCount),
-			box: new Float32Array(input.box, 0, 6 * liveCount)
-		};
-		const [s0, s1] = share(0, liveCount, index, threads);
-		gatherSlots(mesh, new Uint32Array(input.slotFace, 0, liveCount), s0, s1, slots);
-		barrier(ctrl, 3, threads);
-		const bvh = buildBvhSorted(new Uint32Array(input.sortedCodes, 0, liveCount), slots.box, LEAF_SIZE);
-		const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh };
-		const result = findInPrepared(
-			prep,
-			{ sampleLimit: input.sampleLimit, taskTarget: input.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } },
-			performance.now() - t0
-		);
-		port.postMessage({ result } satisfies WorkerOutput);
-	} catch (e) {
-		port.postMessage({ error: e instanceof Error ? e.message : String(e) } satisfies WorkerOutput);
-	}
+	});
+}
+
+/** Workers kept between calls on this thread (see the file comment). */
+const pool: Worker[] = [];
+let poolBusy = false;
+let nextJob = 1;
+
+function spawnWorker(): Worker {
+	const w = spawnModuleWorker(import.meta.url, WORKER_TAG, {});
+	// A worker that dies while idle (or is terminated) leaves the pool.
+	w.once('exit', () => {
+		const k = pool.indexOf(w);
+		if (k >= 0) pool.splice(k, 1);
+	});
+	w.unref();
+	return w;
+}
+
+/**
+ * Starts pool workers up to `threads` (default os.availableParallelism()) without waiting for
+ * them, so a later findSelfIntersectionsParallel does not pay their start-up.
+ */
+export function warmSelfIntersectPool(threads?: number): void {
+	const n = Math.max(1, Math.floor(threads ?? availableParallelism()));
+	if (poolBusy) return;
+	while (pool.length < n) pool.push(spawnWorker());
+}
+
+/** Terminates the pooled workers; the next call starts new ones. */
+export async function closeSelfIntersectPool(): Promise<void> {
+	const ws = pool.splice(0, pool.length);
+	await Promise.all(ws.map((w) => w.terminate()));
 }
 
 /** Counts self-intersecting face pairs on worker threads; same result as findSelfIntersections. */
@@ -165,6 +214,8 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 	// Untouched pages of a SharedArrayBuffer cost nothing, so slot arrays are sized for every face.
 	const data: WorkerInput = {
 		kind: 'shellgate-self-intersect',
+		job: nextJob++,
+		index: 0,
 		threads,
 		faceCount,
 		positions: posBuf,
@@ -181,27 +232,55 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 		sampleLimit,
 		taskTarget: Math.max(DEFAULT_TASK_TARGET, 64 * threads)
 	};
-	const workers: Worker[] = [];
+	// The pool when it is free, else workers of this call's own.
+	const pooled = !poolBusy;
+	let workers: Worker[];
+	if (pooled) {
+		poolBusy = true;
+		while (pool.length < threads) pool.push(spawnWorker());
+		workers = pool.slice(0, threads);
+	} else workers = Array.from({ length: threads }, () => spawnWorker());
+	const cleanups: (() => void)[] = [];
 	const stopAll = () => {
-		for (const w of workers) void w.terminate();
+		for (const w of workers) {
+			const k = pool.indexOf(w);
+			if (k >= 0) pool.splice(k, 1);
+			void w.terminate();
+		}
 	};
 	const onAbort = () => stopAll();
 	opts.signal?.addEventListener('abort', onAbort, { once: true });
 	try {
 		const parts = await Promise.all(
-			Array.from({ length: threads }, (_, index) => {
-				const w = spawnModuleWorker(import.meta.url, WORKER_TAG, { ...data, index } as unknown as Record<string, unknown>);
-				workers.push(w);
+			workers.map((w, index) => {
+				w.ref();
 				return new Promise<SelfIntersectionResult>((resolve, reject) => {
-					w.once('message', (msg: WorkerOutput) => (msg.result ? resolve(msg.result) : reject(new Error(msg.error ?? 'Self-intersection worker failed.'))));
-					w.once('error', reject);
-					w.once('exit', (code) => {
+					const onMessage = (msg: WorkerOutput) => {
+						if (msg.job !== data.job) return;
+						if (msg.result) resolve(msg.result);
+						else reject(new Error(msg.error ?? 'Self-intersection worker failed.'));
+					};
+					const onExit = (code: number) => {
 						if (opts.signal?.aborted) reject(new Error('Self-intersection check was cancelled.'));
 						else reject(new Error(`Self-intersection worker stopped early (exit code ${code}).`));
+					};
+					w.on('message', onMessage);
+					w.on('error', reject);
+					w.on('exit', onExit);
+					cleanups.push(() => {
+						w.off('message', onMessage);
+						w.off('error', reject);
+						w.off('exit', onExit);
+						w.unref();
 					});
+					w.postMessage({ ...data, index } satisfies WorkerInput);
 				});
 			})
-		);
+		).catch((e: unknown) => {
+			// A failed worker may leave the others waiting at a barrier forever: stop them all.
+			stopAll();
+			throw e;
+		});
 		const sample = parts.flatMap((p) => p.sample);
 		sample.sort((x, y) => x.a - y.a || x.b - y.b);
 		sample.length = Math.min(sample.length, sampleLimit);
@@ -221,7 +300,9 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 		};
 	} finally {
 		opts.signal?.removeEventListener('abort', onAbort);
-		stopAll();
+		for (const c of cleanups) c();
+		if (!pooled) for (const w of workers) void w.terminate();
+		else poolBusy = false;
 	}
 }
 

@@ -88,21 +88,57 @@ export function sortByCode(codesIn: Uint32Array): { codes: Uint32Array; order: U
 	return { codes, order };
 }
 
+/** Node arrays a caller provides (e.g. views of SharedArrayBuffers), each for bvhMaxNodes(n) nodes. */
+export interface BvhNodeStore {
+	firstChild: Int32Array;
+	start: Uint32Array;
+	count: Uint32Array;
+	/** 6 per node. */
+	bounds: Float32Array;
+}
+
+/** Most nodes a hierarchy over n items can have. */
+export function bvhMaxNodes(n: number): number {
+	return Math.max(1, 2 * n - 1);
+}
+
 /**
  * Builds the hierarchy over items already in Morton order: `codes` sorted ascending and `boxes`
  * (6 floats per item: min xyz, max xyz) in the same order, so every pass reads memory in sequence.
  * Leaves hold at most `leafSize` items; `order` of the result is the identity (empty array).
+ * With `store`, nodes are written there (the result's arrays are views of it) instead of new arrays.
  */
-export function buildBvhSorted(codes: Uint32Array, boxes: Float32Array | Float64Array, leafSize = 4): FlatBvh<Float32Array> {
-	return buildSorted(codes, boxes, leafSize, true) as FlatBvh<Float32Array>;
+export function buildBvhSorted(codes: Uint32Array, boxes: Float32Array | Float64Array, leafSize = 4, store?: BvhNodeStore): FlatBvh<Float32Array> {
+	return buildSorted(codes, boxes, leafSize, true, store) as FlatBvh<Float32Array>;
 }
 
-function buildSorted(codes: Uint32Array, boxes: Float32Array | Float64Array, leafSize: number, f32: boolean): FlatBvh<Float32Array> | FlatBvh<Float64Array> {
+/** A FlatBvh over the first nodeCount nodes of a store that buildBvhSorted filled (e.g. in another thread). */
+export function bvhFromStore(store: BvhNodeStore, nodeCount: number): FlatBvh<Float32Array> {
+	return {
+		nodeCount,
+		bounds: store.bounds.subarray(0, 6 * nodeCount),
+		firstChild: store.firstChild.subarray(0, nodeCount),
+		start: store.start.subarray(0, nodeCount),
+		count: store.count.subarray(0, nodeCount),
+		order: new Uint32Array(0)
+	};
+}
+
+function buildSorted(
+	codes: Uint32Array,
+	boxes: Float32Array | Float64Array,
+	leafSize: number,
+	f32: boolean,
+	store?: BvhNodeStore
+): FlatBvh<Float32Array> | FlatBvh<Float64Array> {
 	const n = codes.length;
-	const maxNodes = Math.max(1, 2 * n - 1);
-	const firstChild = new Int32Array(maxNodes);
-	const start = new Uint32Array(maxNodes);
-	const count = new Uint32Array(maxNodes);
+	const maxNodes = bvhMaxNodes(n);
+	if (store && (store.firstChild.length < maxNodes || store.start.length < maxNodes || store.count.length < maxNodes || store.bounds.length < 6 * maxNodes)) {
+		throw new Error(`BVH node store holds fewer than ${maxNodes} nodes.`);
+	}
+	const firstChild = store ? store.firstChild : new Int32Array(maxNodes);
+	const start = store ? store.start : new Uint32Array(maxNodes);
+	const count = store ? store.count : new Uint32Array(maxNodes);
 	// Top-down split at the highest differing code bit (Karras 2012); children are allocated after
 	// their parent, so bounds can be filled in reverse. Depth ≤ 30 bits + log2(n) for equal codes.
 	const stack = new Int32Array(3 * 256);
@@ -145,7 +181,7 @@ function buildSorted(codes: Uint32Array, boxes: Float32Array | Float64Array, lea
 		stack[sp++] = mid;
 		stack[sp++] = e;
 	}
-	const bounds = f32 ? new Float32Array(6 * nodeCount) : new Float64Array(6 * nodeCount);
+	const bounds = store && f32 ? store.bounds.subarray(0, 6 * nodeCount) : f32 ? new Float32Array(6 * nodeCount) : new Float64Array(6 * nodeCount);
 	for (let node = nodeCount - 1; node >= 0; node--) {
 		const o = 6 * node;
 		let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;

@@ -11,8 +11,8 @@
  *
  * Work split: the mesh buffers are copied once into SharedArrayBuffers. The workers share the
  * setup (each encodes a share of the faces; worker 0 sorts; each gathers a share of the slots,
- * with Atomics barriers between the steps), then each builds the same deterministic BVH and task
- * list (self-intersect.ts `makeTasks`) and takes tasks from a shared Atomics counter until none
+ * with Atomics barriers between the steps), worker 0 builds the BVH into shared node arrays, then
+ * each makes the same deterministic task list (self-intersect.ts `makeTasks`) and takes tasks from a shared Atomics counter until none
  * are left. A failing worker rejects the promise and all workers are terminated, so none waits
  * forever at a barrier. Tasks partition the face-pair space, so the shard
  * counts sum exactly to the single-threaded count. Samples are merged, sorted by face ids, capped.
@@ -32,7 +32,7 @@ import { isMainThread, parentPort, type Worker } from 'node:worker_threads';
 import { isWorkerFor, spawnModuleWorker } from './module-worker-node';
 
 const WORKER_TAG = 'shellgate-self-intersect';
-import { buildBvhSorted } from './bvh';
+import { buildBvhSorted, bvhFromStore, bvhMaxNodes, type BvhNodeStore } from './bvh';
 import {
 	DEFAULT_SAMPLE_LIMIT,
 	DEFAULT_TASK_TARGET,
@@ -76,7 +76,12 @@ interface WorkerInput {
 	faceOf: SharedArrayBuffer;
 	verts: SharedArrayBuffer;
 	box: SharedArrayBuffer;
-	/** Int32: [0] next task, [1..3] barriers, [4] live face count. */
+	/** BVH nodes, built once by worker 0 and read by all (sized for bvhMaxNodes(faceCount)). */
+	nodeFirstChild: SharedArrayBuffer;
+	nodeStart: SharedArrayBuffer;
+	nodeCount: SharedArrayBuffer;
+	nodeBounds: SharedArrayBuffer;
+	/** Int32: [0] next task, [1..4] barriers, [5] live face count, [6] BVH node count. */
 	control: SharedArrayBuffer;
 	sampleLimit: number;
 	taskTarget: number;
@@ -88,7 +93,7 @@ interface WorkerOutput {
 	error?: string;
 }
 
-const CTRL_TASK = 0, CTRL_LIVE = 4;
+const CTRL_TASK = 0, CTRL_LIVE = 5, CTRL_NODES = 6;
 
 /** Blocks until all `threads` workers reached barrier `slot` (each slot is used once). */
 function barrier(ctrl: Int32Array, slot: number, threads: number): void {
@@ -103,8 +108,8 @@ const share = (from: number, to: number, k: number, n: number) => [from + Math.f
 
 /**
  * One job on the worker side. Setup is split between the workers: encode a share of the faces,
- * worker 0 sorts, gather a share of the slots, then each builds the (identical) tree over the
- * shared slot arrays and takes traversal tasks from the shared counter. Returns its partial result.
+ * worker 0 sorts, gather a share of the slots, worker 0 builds the tree into the shared node
+ * arrays, then each takes traversal tasks from the shared counter. Returns its partial result.
  */
 function runJob(input: WorkerInput): SelfIntersectionResult {
 	const t0 = performance.now();
@@ -135,7 +140,20 @@ function runJob(input: WorkerInput): SelfIntersectionResult {
 	const [s0, s1] = share(0, liveCount, index, threads);
 	gatherSlots(mesh, new Uint32Array(input.slotFace, 0, liveCount), s0, s1, slots);
 	barrier(ctrl, 3, threads);
-	const bvh = buildBvhSorted(new Uint32Array(input.sortedCodes, 0, liveCount), slots.box, LEAF_SIZE);
+	// One tree for all: worker 0 builds it into the shared node arrays while the others wait, which
+	// frees their core for the caller's own stages and saves each a copy of the nodes.
+	const store: BvhNodeStore = {
+		firstChild: new Int32Array(input.nodeFirstChild),
+		start: new Uint32Array(input.nodeStart),
+		count: new Uint32Array(input.nodeCount),
+		bounds: new Float32Array(input.nodeBounds)
+	};
+	if (index === 0) {
+		const built = buildBvhSorted(new Uint32Array(input.sortedCodes, 0, liveCount), slots.box, LEAF_SIZE, store);
+		Atomics.store(ctrl, CTRL_NODES, built.nodeCount);
+	}
+	barrier(ctrl, 4, threads);
+	const bvh = bvhFromStore(store, Atomics.load(ctrl, CTRL_NODES));
 	const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh };
 	return findInPrepared(
 		prep,
@@ -228,6 +246,10 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 		faceOf: new SharedArrayBuffer(4 * faceCount),
 		verts: new SharedArrayBuffer(12 * faceCount),
 		box: new SharedArrayBuffer(24 * faceCount),
+		nodeFirstChild: new SharedArrayBuffer(4 * bvhMaxNodes(faceCount)),
+		nodeStart: new SharedArrayBuffer(4 * bvhMaxNodes(faceCount)),
+		nodeCount: new SharedArrayBuffer(4 * bvhMaxNodes(faceCount)),
+		nodeBounds: new SharedArrayBuffer(24 * bvhMaxNodes(faceCount)),
 		control: new SharedArrayBuffer(4 * 8),
 		sampleLimit,
 		taskTarget: Math.max(DEFAULT_TASK_TARGET, 64 * threads)

@@ -301,7 +301,9 @@ export function analyseTopology(
 	const bEdge = new Uint32Array(boundaryEdges);
 	for (let e = 0, i = 0; e < edgeCount; e++) if (edgeStart[e + 1] - edgeStart[e] === 1) bEdge[i++] = e;
 	const partner = new Int32Array(2 * boundaryEdges).fill(-1);
-	const pending = new Int32Array(heCount).fill(-1); // fan root corner → unpaired end slot
+	// Fan root corner → unpaired end slot. Allocated only for an open mesh: 12 bytes per face of
+	// fresh pages is a noticeable share of a closed mesh's whole topology pass.
+	const pending = boundaryEdges > 0 ? new Int32Array(heCount).fill(-1) : new Int32Array(0);
 	for (let i = 0; i < boundaryEdges; i++) {
 		const e = bEdge[i];
 		const h = heSorted[edgeStart[e]];

@@ -606,7 +606,7 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 		stack[sp++] = tasks[2 * task];
 		stack[sp++] = tasks[2 * task + 1];
 		while (sp > 0) {
-			let sa = 0, ea = 0, sb = 0, eb = 0, same = false;
+			let sa = 0, ea = 0, sb = 0, eb = 0, same = false, nb6 = -1;
 			const b = stack[--sp];
 			const a = stack[--sp];
 			const fa = firstChild[a];
@@ -648,12 +648,17 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 					}
 					continue;
 				}
-				sa = start[a]; ea = sa + count[a]; sb = start[b]; eb = sb + count[b]; same = false;
+				sa = start[a]; ea = sa + count[a]; sb = start[b]; eb = sb + count[b]; same = false; nb6 = b6;
 			}
 			// Leaf against leaf (or a leaf against itself): box test, then the exact pair rule.
 			for (let i = sa; i < ea; i++) {
 				const i6 = 6 * i;
 				const minX = box[i6], minY = box[i6 + 1], minZ = box[i6 + 2], maxX = box[i6 + 3], maxY = box[i6 + 4], maxZ = box[i6 + 5];
+				// Every box of leaf b lies inside b's bounds: a face missing those meets none of them.
+				if (
+					nb6 >= 0 &&
+					(bounds[nb6] > maxX || bounds[nb6 + 3] < minX || bounds[nb6 + 1] > maxY || bounds[nb6 + 4] < minY || bounds[nb6 + 2] > maxZ || bounds[nb6 + 5] < minZ)
+				) continue;
 				let loaded = false;
 				for (let j = same ? i + 1 : sb; j < eb; j++) {
 					const j6 = 6 * j;

@@ -15,9 +15,13 @@ function json(status: number, message: string): Response {
 	});
 }
 
+/** Drizzle wraps the driver's error ("Failed query: …"), so the connection code sits in a cause. */
 function isDbDown(e: unknown): boolean {
-	const code = (e as { code?: string })?.code ?? '';
-	return ['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ER_CON_COUNT_ERROR', 'ECONNRESET'].includes(code);
+	for (let x = e, depth = 0; x && depth < 5; x = (x as { cause?: unknown }).cause, depth++) {
+		const code = (x as { code?: string }).code ?? '';
+		if (['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ER_CON_COUNT_ERROR', 'ECONNRESET'].includes(code)) return true;
+	}
+	return false;
 }
 
 async function authenticate(event: Parameters<Handle>[0]['event']) {

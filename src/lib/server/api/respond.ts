@@ -15,8 +15,10 @@ export async function handleApi(fn: () => Promise<Response>): Promise<Response> 
 		if (e instanceof z.ZodError) return apiError(400, e.issues.map((i) => `${i.path.join('.') || 'body'}: ${i.message}`).join('; '));
 		const status = (e as { status?: number }).status;
 		if (typeof status === 'number' && status >= 400 && status < 500) return apiError(status, (e as { body?: { message?: string } }).body?.message ?? 'Request refused.');
-		const code = (e as { code?: string }).code ?? '';
-		if (['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ECONNRESET'].includes(code)) {
+		// Drizzle wraps the driver's error, so the connection code may sit in a cause.
+		const codes: string[] = [];
+		for (let x: unknown = e, depth = 0; x && depth < 5; x = (x as { cause?: unknown }).cause, depth++) codes.push((x as { code?: string }).code ?? '');
+		if (codes.some((code) => ['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ECONNRESET', 'ER_CON_COUNT_ERROR'].includes(code))) {
 			return apiError(503, 'The database is not reachable right now. Nothing was changed; try again in a moment.');
 		}
 		console.error('[shellgate api]', (e as Error)?.stack ?? e);

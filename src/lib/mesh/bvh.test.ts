@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { buildBvh, f32Down, f32Up } from './bvh';
+import { buildBvh, f32Down, f32Up, sortByCode, sortByCodeInto } from './bvh';
+import { sortLiveFaces, sortLiveFacesInto } from './self-intersect';
 import { mulberry32 } from './implicit-shapes';
 
 describe('flat BVH', () => {
@@ -45,5 +46,26 @@ describe('flat BVH', () => {
 		};
 		walk(0, []);
 		expect(seen.every((s) => s === 1)).toBe(true);
+	});
+
+	it('sorts into caller-owned arrays in the same stable order as sortByCode, with and without dead faces (seed 6)', () => {
+		const rnd = mulberry32(6);
+		const n = 5000;
+		// Few distinct codes, so stability (ties in input order) is exercised.
+		const codes = Uint32Array.from({ length: n }, () => Math.floor(rnd() * 300) * 3_000_001);
+		const want = sortByCode(codes);
+		const outC = new Uint32Array(n), outO = new Uint32Array(n), tmpC = new Uint32Array(n), tmpO = new Uint32Array(n);
+		sortByCodeInto(codes, null, n, outC, outO, tmpC, tmpO);
+		expect(Array.from(outC)).toEqual(Array.from(want.codes));
+		expect(Array.from(outO)).toEqual(Array.from(want.order));
+		for (const deadShare of [0, 0.2]) {
+			const live = Uint8Array.from({ length: n }, () => (rnd() < deadShare ? 0 : 1));
+			const ref = sortLiveFaces(live, codes, n);
+			const sc = new Uint32Array(n), sf = new Uint32Array(n);
+			const liveCount = sortLiveFacesInto(live, codes, n, sc, sf, new Uint32Array(n), new Uint32Array(n));
+			expect(liveCount).toBe(ref.slotFace.length);
+			expect(Array.from(sc.subarray(0, liveCount))).toEqual(Array.from(ref.codes));
+			expect(Array.from(sf.subarray(0, liveCount))).toEqual(Array.from(ref.slotFace));
+		}
 	});
 });

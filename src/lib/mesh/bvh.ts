@@ -103,6 +103,46 @@ export function bvhMaxNodes(n: number): number {
 }
 
 /**
+ * The same stable sort as sortByCode into caller-owned arrays, so no fresh memory is touched:
+ * item k has code codesIn[k] and id ids[k] (k itself when ids is null); outCodes/outOrder receive
+ * the sorted codes and ids, tmpCodes/tmpOrder are scratch. All of length ≥ n; codesIn and ids may be
+ * tmpCodes and tmpOrder themselves (they are read only by the first pass).
+ */
+export function sortByCodeInto(
+	codesIn: Uint32Array,
+	ids: Uint32Array | null,
+	n: number,
+	outCodes: Uint32Array,
+	outOrder: Uint32Array,
+	tmpCodes: Uint32Array,
+	tmpOrder: Uint32Array
+): void {
+	const hist = new Uint32Array(1024);
+	// Three 10-bit passes: input → out, out → tmp, tmp → out.
+	for (let pass = 0; pass < 3; pass++) {
+		const shift = 10 * pass;
+		const srcC = pass === 0 ? codesIn : pass === 1 ? outCodes : tmpCodes;
+		const srcO = pass === 0 ? ids : pass === 1 ? outOrder : tmpOrder;
+		const dstC = pass === 1 ? tmpCodes : outCodes;
+		const dstO = pass === 1 ? tmpOrder : outOrder;
+		hist.fill(0);
+		for (let i = 0; i < n; i++) hist[(srcC[i] >>> shift) & 1023]++;
+		let sum = 0;
+		for (let b = 0; b < 1024; b++) {
+			const h = hist[b];
+			hist[b] = sum;
+			sum += h;
+		}
+		for (let i = 0; i < n; i++) {
+			const c = srcC[i];
+			const dst = hist[(c >>> shift) & 1023]++;
+			dstC[dst] = c;
+			dstO[dst] = srcO ? srcO[i] : i;
+		}
+	}
+}
+
+/**
  * Builds the hierarchy over items already in Morton order: `codes` sorted ascending and `boxes`
  * (6 floats per item: min xyz, max xyz) in the same order, so every pass reads memory in sequence.
  * Leaves hold at most `leafSize` items; `order` of the result is the identity (empty array).

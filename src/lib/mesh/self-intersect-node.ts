@@ -41,7 +41,7 @@ import {
 	encodeFaces,
 	findInPrepared,
 	gatherSlots,
-	sortLiveFaces,
+	sortLiveFacesInto,
 	validateMesh,
 	type PreparedMesh,
 	type SelfIntersectionResult,
@@ -125,10 +125,18 @@ function runJob(input: WorkerInput): SelfIntersectionResult {
 	encodeFaces(mesh, codeFrame(mesh.positions), f0, f1, live, rawCodes);
 	barrier(ctrl, 1, threads);
 	if (index === 0) {
-		const { codes, slotFace } = sortLiveFaces(live, rawCodes, faceCount);
-		new Uint32Array(input.sortedCodes).set(codes);
-		new Uint32Array(input.slotFace).set(slotFace);
-		Atomics.store(ctrl, CTRL_LIVE, slotFace.length);
+		// faceOf and verts are not written before the gather, so they serve as the sort's scratch:
+		// their pages are touched once instead of fresh scratch arrays.
+		const liveCount = sortLiveFacesInto(
+			live,
+			rawCodes,
+			faceCount,
+			new Uint32Array(input.sortedCodes),
+			new Uint32Array(input.slotFace),
+			new Uint32Array(input.faceOf, 0, faceCount),
+			new Uint32Array(input.verts, 0, faceCount)
+		);
+		Atomics.store(ctrl, CTRL_LIVE, liveCount);
 	}
 	barrier(ctrl, 2, threads);
 	const liveCount = Atomics.load(ctrl, CTRL_LIVE);

@@ -29,7 +29,7 @@
  * Splitting work: `faceRange` filters by the lower face index; `shard` splits the traversal into
  * tasks (used by self-intersect-node.ts). Both partition the pairs exactly.
  */
-import { buildBvhSorted, f32Down, f32Up, morton3, mortonScale, sortByCode, type FlatBvh } from './bvh';
+import { buildBvhSorted, f32Down, f32Up, morton3, mortonScale, sortByCode, sortByCodeInto, type FlatBvh } from './bvh';
 import { ccw2 as ccw2Import, dropAxis as dropAxisImport, isDegenerateTriangle, side3 as side3Import } from './predicates';
 import type { MeshBuffers } from './types';
 
@@ -201,6 +201,36 @@ export function sortLiveFaces(live: Uint8Array, codes: Uint32Array, faceCount: n
 	const slotFace = sorted.order;
 	for (let k = 0; k < liveCount; k++) slotFace[k] = liveFace[slotFace[k]];
 	return { codes: sorted.codes, slotFace };
+}
+
+/**
+ * sortLiveFaces into caller-owned arrays (e.g. SharedArrayBuffer views, so the sort touches no fresh
+ * pages): outCodes and outSlotFace receive the result, tmpCodes and tmpFace are scratch, all of
+ * length ≥ faceCount. Same order as sortLiveFaces. Returns the live face count.
+ */
+export function sortLiveFacesInto(
+	live: Uint8Array,
+	codes: Uint32Array,
+	faceCount: number,
+	outCodes: Uint32Array,
+	outSlotFace: Uint32Array,
+	tmpCodes: Uint32Array,
+	tmpFace: Uint32Array
+): number {
+	let liveCount = 0;
+	for (let t = 0; t < faceCount; t++) liveCount += live[t];
+	if (liveCount === faceCount) {
+		sortByCodeInto(codes, null, faceCount, outCodes, outSlotFace, tmpCodes, tmpFace);
+		return liveCount;
+	}
+	for (let t = 0, k = 0; t < faceCount; t++) {
+		if (live[t]) {
+			tmpFace[k] = t;
+			tmpCodes[k++] = codes[t];
+		}
+	}
+	sortByCodeInto(tmpCodes, tmpFace, liveCount, outCodes, outSlotFace, tmpCodes, tmpFace);
+	return liveCount;
 }
 
 /** Slot-ordered arrays of the prepared mesh (may live in SharedArrayBuffers). */

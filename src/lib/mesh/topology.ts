@@ -122,7 +122,9 @@ export function analyseTopology(
 	// Each BFS patch keeps its smaller colour class as its flip set. Patches joined across
 	// non-manifold edges form the shells.
 	const colour = new Int8Array(triCount).fill(-1);
-	const queue = new Int32Array(Math.max(1, triCount));
+	// Sized for every halfedge although the BFS uses one slot per face: the buffer becomes the corner
+	// union-find below, so those pages are faulted in once (fresh pages are the dearer part here).
+	const queue = new Int32Array(Math.max(1, heCount));
 	const flipFace = new Uint8Array(triCount);
 	const patchOf = new Int32Array(triCount).fill(-1);
 	const patchFlips: number[] = [];
@@ -233,7 +235,7 @@ export function analyseTopology(
 
 	// Fans: union face corners around each vertex through the edges they share there.
 	// Corner c = 3t + k sits at vertex indices[c]; halfedge h starts at corner h, ends at corner next(h).
-	const cornerParent = new Int32Array(heCount);
+	const cornerParent = queue.subarray(0, heCount);
 	for (let c = 0; c < heCount; c++) cornerParent[c] = c;
 	for (let h = 0; h < heCount; h++) {
 		const o = heOpp[h];

@@ -189,7 +189,8 @@ export function analyseTopology(
 		const r = find(patchParent, i);
 		shellOfPatch[i] = r === i ? shellCount++ : shellOfPatch[r];
 	}
-	const faceShell = new Int32Array(triCount).fill(-1);
+	// patchOf is not read after this, so it becomes faceShell in place (−1 stays −1 for skipped faces).
+	const faceShell = patchOf;
 	for (let t = 0; t < triCount; t++) if (patchOf[t] >= 0) faceShell[t] = shellOfPatch[patchOf[t]];
 
 	const sFaces = new Uint32Array(shellCount);

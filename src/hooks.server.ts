@@ -5,6 +5,7 @@ import { accessFor } from '$lib/server/auth/guard';
 import { getDb } from '$lib/server/db';
 import { apiToken } from '$lib/server/db/schema';
 import { startBackground } from '$lib/server/background';
+import { loggable } from '$lib/server/api/respond';
 
 startBackground();
 
@@ -98,6 +99,6 @@ export const handleError: HandleServerError = ({ error: err, status, message }) 
 	if (isDbDown(err)) {
 		return { message: 'The database is not reachable right now. Nothing was changed; try again in a moment.' };
 	}
-	if (status >= 500) console.error('[shellgate] unexpected error:', (err as Error)?.stack ?? err);
+	if (status >= 500) console.error('[shellgate] unexpected error:', loggable(err));
 	return { message: status >= 500 ? 'Something went wrong on the server. It has been logged.' : message };
 };

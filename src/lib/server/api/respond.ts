@@ -21,7 +21,7 @@ export async function handleApi(fn: () => Promise<Response>): Promise<Response> 
 		if (codes.some((code) => ['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ECONNRESET', 'ER_CON_COUNT_ERROR'].includes(code))) {
 			return apiError(503, 'The database is not reachable right now. Nothing was changed; try again in a moment.');
 		}
-		console.error('[shellgate api]', (e as Error)?.stack ?? e);
+		console.error('[shellgate api]', loggable(e));
 		return apiError(500, 'Something went wrong on the server. It has been logged.');
 	}
 }
@@ -29,4 +29,12 @@ export async function handleApi(fn: () => Promise<Response>): Promise<Response> 
 export function parseId(raw: string, what = 'revision'): number {
 	if (!/^\d{1,10}$/.test(raw)) throw new HttpError(404, `No ${what} "${raw.slice(0, 40)}".`);
 	return Number(raw);
+}
+
+/**
+ * An error for the log without its query parameters: Drizzle puts them in the message
+ * ("Failed query: …\nparams: …"), and they can be session ids or token hashes.
+ */
+export function loggable(e: unknown): string {
+	return String((e as Error)?.stack ?? e).replace(/^params: .*$/gm, 'params: (not logged)');
 }

@@ -16,3 +16,13 @@ describe('API answers while the database is unreachable', () => {
 		});
 	}
 });
+
+describe('error logs', () => {
+	it('leave out query parameters, which can be session ids or token hashes', async () => {
+		const { loggable } = await import('../api/respond');
+		const e = new Error('Failed query: select * from session where id = ?\nparams: npal4uliaq7pv7mmhczwefpf7jcnv5w4kwdycnqb');
+		const text = loggable(e);
+		expect(text).toContain('Failed query');
+		expect(text).not.toContain('npal4uliaq7pv7mmhczwefpf7jcnv5w4kwdycnqb');
+	});
+});

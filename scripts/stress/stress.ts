@@ -1,0 +1,399 @@
+// Load and fault runs for `npm run test:stress` (started by scripts/stress/run.sh, which provides
+// MariaDB, migrations, demo data and the build). Everything on loopback, bounded in count and time.
+//   load:   STRESS_READERS connections on the queue page and on the revision API (autocannon) while
+//           STRESS_UPLOADS generator clients upload ~1 M-triangle binary STLs; every check must finish.
+//   faults: a check worker SIGKILLed mid-check, MariaDB stopped and started under the running app,
+//           the web process SIGKILLed during uploads and checks.
+import { spawn, type ChildProcess } from 'node:child_process';
+import { createWriteStream, existsSync, openAsBlob, readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import autocannon from 'autocannon';
+import { parse as devalueParse } from 'devalue';
+import mysql from 'mysql2/promise';
+import { towBody } from '../../src/lib/mesh/implicit-shapes';
+import { gridFor, marchingCubes } from '../../src/lib/mesh/marching-cubes';
+import { writeBinaryStl } from '../../src/lib/mesh/write';
+import { checkConsistency } from '../../src/lib/server/consistency';
+import { closeDb, getDb } from '../../src/lib/server/db';
+import { getStore } from '../../src/lib/server/storage';
+
+const env = (k: string) => {
+	const v = process.env[k];
+	if (!v) throw new Error(`${k} is not set: run this through npm run test:stress`);
+	return v;
+};
+const TMP = env('STRESS_TMP');
+const PORT = Number(env('STRESS_APP_PORT'));
+const BASE = `http://127.0.0.1:${PORT}`;
+const UPLOADS = Number(process.env.STRESS_UPLOADS ?? 10);
+const READERS = Number(process.env.STRESS_READERS ?? 50);
+const LOAD_SECONDS = Number(process.env.STRESS_SECONDS ?? 80);
+const CELL = Number(process.env.STRESS_CELL ?? 0.0062); // tow body at this cell size: ~1.0 M triangles
+const P95_TARGET_MS = 300;
+
+const results: { name: string; ok: boolean; detail: string }[] = [];
+const figures: string[] = [];
+const say = (s: string) => console.log(`[stress] ${s}`);
+const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+function record(name: string, ok: boolean, detail: string) {
+	results.push({ name, ok, detail });
+	say(`${ok ? 'PASS' : 'FAIL'} ${name}: ${detail}`);
+}
+
+// ---------- processes ----------
+const logs: string[] = [];
+function startApp(tag: string, checkWorkers: number): ChildProcess {
+	const log = path.join(TMP, `app-${tag}.log`);
+	logs.push(log);
+	const out = createWriteStream(log);
+	const p = spawn(process.execPath, ['build'], {
+		env: { ...process.env, PORT: String(PORT), HOST: '127.0.0.1', ORIGIN: BASE, BODY_SIZE_LIMIT: 'Infinity', CHECK_WORKERS: String(checkWorkers) },
+		stdio: ['ignore', 'pipe', 'pipe']
+	});
+	p.stdout!.pipe(out);
+	p.stderr!.pipe(out);
+	return p;
+}
+function startWorker(tag: string): ChildProcess {
+	const log = path.join(TMP, `worker-${tag}.log`);
+	logs.push(log);
+	const out = createWriteStream(log);
+	const p = spawn(process.execPath, ['--import', 'tsx', 'src/lib/server/jobs/standalone.ts'], { env: { ...process.env, CHECK_WORKERS: '1' }, stdio: ['ignore', 'pipe', 'pipe'] });
+	p.stdout!.pipe(out);
+	p.stderr!.pipe(out);
+	return p;
+}
+async function waitHttp(ms = 60_000) {
+	const t0 = Date.now();
+	while (Date.now() - t0 < ms) {
+		try {
+			if ((await fetch(`${BASE}/health`)).status < 500) return;
+		} catch {
+			/* not yet */
+		}
+		await sleep(200);
+	}
+	throw new Error('the app did not answer in time');
+}
+async function stop(p: ChildProcess, signal: NodeJS.Signals = 'SIGTERM') {
+	if (p.exitCode !== null || p.signalCode !== null) return;
+	const done = new Promise((r) => p.once('exit', r));
+	p.kill(signal);
+	await Promise.race([done, sleep(15_000).then(() => p.kill('SIGKILL'))]);
+	await done;
+}
+
+let dbProc: ChildProcess | null = null;
+function dbPid(): number {
+	return Number(readFileSync(path.join(env('STRESS_DB_DIR'), 'mariadbd.pid'), 'utf8'));
+}
+async function stopDb() {
+	const pid = dbPid();
+	process.kill(pid, 'SIGTERM');
+	for (let i = 0; i < 300; i++) {
+		try {
+			process.kill(pid, 0);
+			await sleep(100);
+		} catch {
+			return;
+		}
+	}
+	throw new Error('MariaDB did not stop');
+}
+async function startDb() {
+	const dir = env('STRESS_DB_DIR');
+	dbProc = spawn(env('STRESS_MARIADBD'), ['--no-defaults', `--datadir=${dir}/data`, `--socket=${env('STRESS_DB_SOCK')}`, `--port=${env('STRESS_DB_PORT')}`, '--bind-address=127.0.0.1', '--user=root', `--pid-file=${dir}/mariadbd.pid`, `--log-error=${dir}/error.log`, '--skip-name-resolve', '--character-set-server=utf8mb4', '--collation-server=utf8mb4_unicode_ci'], { stdio: 'ignore', detached: true });
+	dbProc.unref();
+	for (let i = 0; i < 300; i++) {
+		try {
+			const c = await mysql.createConnection({ uri: env('DATABASE_URL') });
+			await c.end();
+			return;
+		} catch {
+			await sleep(100);
+		}
+	}
+	throw new Error('MariaDB did not come back');
+}
+
+// ---------- data ----------
+let sql: mysql.Pool;
+async function q<T = mysql.RowDataPacket>(s: string, args: unknown[] = []): Promise<T[]> {
+	const [rows] = await sql.query(s, args);
+	return rows as T[];
+}
+
+async function signIn(email: string): Promise<string> {
+	const res = await fetch(`${BASE}/sign-in`, { method: 'POST', redirect: 'manual', headers: { origin: BASE, 'content-type': 'application/x-www-form-urlencoded' }, body: `email=${encodeURIComponent(email)}&password=shellgate-demo` });
+	const c = res.headers.getSetCookie().find((h) => h.startsWith('shellgate_session='));
+	if (!c) throw new Error(`sign-in as ${email} failed: ${res.status}`);
+	return c.split(';')[0];
+}
+async function createToken(cookie: string): Promise<string> {
+	const res = await fetch(`${BASE}/settings?/create`, { method: 'POST', headers: { cookie, origin: BASE, 'x-sveltekit-action': 'true', accept: 'application/json', 'content-type': 'application/x-www-form-urlencoded' }, body: 'name=stress-pipeline' });
+	const j = (await res.json()) as { data: string };
+	return (devalueParse(j.data) as { newToken: string }).newToken;
+}
+
+/** Uploads a file as a pipeline does (raw body, bearer token); returns the revision id. */
+async function upload(token: string, file: string, name: string, part = 'keel-bulb-a', project = 'keel-bulbs'): Promise<{ id: number; ms: number; status: number }> {
+	const t0 = performance.now();
+	const res = await fetch(`${BASE}/api/v1/projects/${project}/parts/${part}/revisions?fileName=${encodeURIComponent(name)}`, {
+		method: 'POST',
+		headers: { authorization: `Bearer ${token}`, 'content-type': 'application/octet-stream' },
+		body: await openAsBlob(file)
+	});
+	const j = (await res.json().catch(() => ({}))) as { id?: number; message?: string };
+	if (res.status >= 300) throw new Error(`upload ${name}: ${res.status} ${j.message ?? ''}`);
+	return { id: j.id!, ms: performance.now() - t0, status: res.status };
+}
+
+async function waitChecks(ids: number[], ms: number): Promise<Map<number, string>> {
+	const t0 = Date.now();
+	for (;;) {
+		const rows = await q(`SELECT id, status FROM revision WHERE id IN (${ids.map(Number).join(',') || 0})`).catch(() => []);
+		const m = new Map(rows.map((r) => [Number(r.id), String(r.status)]));
+		if (ids.every((id) => m.has(id) && !['awaiting-check', 'checking'].includes(m.get(id)!))) return m;
+		if (Date.now() - t0 > ms) return m;
+		await sleep(1000);
+	}
+}
+
+function makeMeshes(n: number): string[] {
+	const s = towBody(1);
+	const t0 = performance.now();
+	const mesh = marchingCubes(s.field, gridFor(s.min, s.max, CELL));
+	const triCount = mesh.indices.length / 3;
+	const files: string[] = [];
+	for (let i = 0; i < n; i++) {
+		// A different 80-byte header per copy: same geometry, distinct content, so no upload is a duplicate.
+		const f = path.join(TMP, `tow-${i}.stl`);
+		writeFileSync(f, writeBinaryStl(mesh, `stress tow body copy ${i} ${Date.now()}`));
+		files.push(f);
+	}
+	const mb = readFileSync(files[0]).length / 1e6;
+	figures.push(`meshes: ${n} × ${triCount.toLocaleString('en')} triangles, ${mb.toFixed(1)} MB each (marching cubes, ${((performance.now() - t0) / 1000).toFixed(1)} s to make)`);
+	return files;
+}
+
+interface Cannon {
+	result: autocannon.Result;
+	p50: number;
+	p95: number;
+	p99: number;
+}
+
+/** One bounded autocannon run; latencies collected per response, so p95 is exact (autocannon prints p97.5). */
+function cannon(opts: autocannon.Options): Promise<Cannon> {
+	const lat: number[] = [];
+	return new Promise((resolve, reject) => {
+		const inst = autocannon({ pipelining: 1, timeout: 20, ...opts }, (err, result) => {
+			if (err) return reject(err);
+			lat.sort((a, b) => a - b);
+			const at = (p: number) => lat[Math.min(lat.length - 1, Math.floor((p / 100) * lat.length))] ?? NaN;
+			resolve({ result, p50: at(50), p95: at(95), p99: at(99) });
+		});
+		inst.on('response', (_client, _status, _bytes, ms) => lat.push(ms));
+	});
+}
+
+function describe(c: Cannon): string {
+	const r = c.result;
+	return `${r.requests.total} requests in ${r.duration} s (${r.requests.average.toFixed(0)} req/s), p50 ${c.p50.toFixed(0)} ms, p95 ${c.p95.toFixed(0)} ms, p99 ${c.p99.toFixed(0)} ms, max ${r.latency.max} ms; ${r.non2xx} non-2xx, ${r.errors} errors, ${r.timeouts} timeouts, ${r.connections} connections`;
+}
+
+// ---------- phases ----------
+async function loadPhase(token: string, cookie: string) {
+	const files = makeMeshes(UPLOADS);
+	const app = startApp('load', 1);
+	await waitHttp();
+	const [rev] = await q("SELECT r.id FROM revision r ORDER BY r.id LIMIT 1");
+	// Event-loop probe: /health every 100 ms; a long stall would show as a long answer.
+	let probing = true;
+	const probe: number[] = [];
+	const probeLoop = (async () => {
+		while (probing) {
+			const t0 = performance.now();
+			await fetch(`${BASE}/health`).catch(() => null);
+			probe.push(performance.now() - t0);
+			await sleep(100);
+		}
+	})();
+	const t0 = performance.now();
+	const uploads = Promise.all(files.map((f, i) => upload(token, f, `tow-body-${i}.stl`)));
+	// Two bounded runs while the uploads stream in and the checks run: first saturation (every
+	// connection sends its next request as soon as the last is answered), then readers at a human
+	// pace (each of the connections asks about once every two seconds).
+	const sat = LOAD_SECONDS / 2;
+	const satRuns = await Promise.all([
+		cannon({ duration: sat, connections: READERS, url: `${BASE}/queue`, headers: { cookie } }),
+		cannon({ duration: sat, connections: READERS, url: `${BASE}/api/v1/revisions/${rev.id}?report=0`, headers: { authorization: `Bearer ${token}` } })
+	]);
+	const pacedRuns = await Promise.all([
+		cannon({ duration: LOAD_SECONDS - sat, connections: READERS, overallRate: READERS / 2, url: `${BASE}/queue`, headers: { cookie } }),
+		cannon({ duration: LOAD_SECONDS - sat, connections: READERS, overallRate: READERS / 2, url: `${BASE}/api/v1/revisions/${rev.id}?report=0`, headers: { authorization: `Bearer ${token}` } })
+	]);
+	const up = await uploads;
+	const uploadedAt = performance.now();
+	const ids = up.map((u) => u.id);
+	const statuses = await waitChecks(ids, 20 * 60_000);
+	const checkedAt = performance.now();
+	probing = false;
+	await probeLoop;
+	const done = ids.filter((id) => !['awaiting-check', 'checking'].includes(statuses.get(id) ?? 'checking'));
+	const runs = await q(`SELECT revision_id, COUNT(*) AS n, MAX(duration_ms) AS ms FROM check_run WHERE revision_id IN (${ids.join(',')}) GROUP BY revision_id`);
+	const sorted = [...probe].sort((a, b) => a - b);
+	const runsAll = [['saturated', satRuns], ['paced', pacedRuns]] as const;
+	for (const [mode, [page, api]] of runsAll) {
+		for (const [name, r] of [['queue page', page], ['revision API', api]] as const) figures.push(`${name} (${mode}): ${describe(r)}`);
+	}
+	figures.push(`uploads: ${up.length} × ~50 MB in ${((uploadedAt - t0) / 1000).toFixed(1)} s total, each ${Math.min(...up.map((u) => u.ms / 1000)).toFixed(1)}–${Math.max(...up.map((u) => u.ms / 1000)).toFixed(1)} s`);
+	figures.push(`checks: ${done.length}/${ids.length} finished (${[...new Set(done.map((id) => statuses.get(id)))].join(', ')}) ${((checkedAt - t0) / 1000).toFixed(0)} s after the first upload began; engine time per check ${runs.map((r) => (Number(r.ms) / 1000).toFixed(1)).join(', ')} s; check rows per revision ${[...new Set(runs.map((r) => Number(r.n)))].join(',')}`);
+	figures.push(`event loop probe (/health every 100 ms during load and checks): ${probe.length} answers, p50 ${sorted[Math.floor(sorted.length / 2)].toFixed(0)} ms, p99 ${sorted[Math.floor(sorted.length * 0.99)].toFixed(0)} ms, max ${sorted[sorted.length - 1].toFixed(0)} ms`);
+	const [satPage, satApi] = satRuns;
+	const [pacedPage, pacedApi] = pacedRuns;
+	record('queue page p95 under load, readers at a human pace', pacedPage.p95 <= P95_TARGET_MS, `p95 = ${pacedPage.p95.toFixed(0)} ms with ${READERS} readers at ${READERS / 2} req/s total (target < ${P95_TARGET_MS} ms)`);
+	record('queue page p95 under load, saturated', satPage.p95 <= P95_TARGET_MS, `p95 = ${satPage.p95.toFixed(0)} ms with ${READERS} connections sending back to back, ${satPage.result.requests.average.toFixed(0)} req/s (target < ${P95_TARGET_MS} ms)`);
+	record('every upload checked', done.length === ids.length && runs.every((r) => Number(r.n) === 1), `${done.length}/${ids.length} finished, one check row each`);
+	const all = [satPage, satApi, pacedPage, pacedApi].map((r) => r.result);
+	record('no server errors under load', all.every((r) => r.non2xx === 0 && r.errors === 0), `${all.reduce((a, r) => a + r.non2xx, 0)} non-2xx, ${all.reduce((a, r) => a + r.errors + r.timeouts, 0)} errors or timeouts`);
+	record('web process answers while the engine runs', sorted[sorted.length - 1] < 2000, `longest /health answer ${sorted[sorted.length - 1].toFixed(0)} ms while checks ran in worker threads`);
+	await stop(app);
+}
+
+async function workerKillPhase(token: string) {
+	const app = startApp('faults', 0);
+	await waitHttp();
+	const [file] = makeMeshes(1).map((f) => f);
+	const w1 = startWorker('doomed');
+	const { id } = await upload(token, file, 'killed-mid-check.stl', 'mag-tow-body', 'tow-bodies');
+	let stage = '';
+	for (let i = 0; i < 600; i++) {
+		const [j] = await q('SELECT status, stage, percent FROM job WHERE revision_id = ? ORDER BY id DESC LIMIT 1', [id]);
+		if (j?.status === 'running' && Number(j.percent) >= 5) {
+			stage = `${j.stage} ${j.percent}%`;
+			break;
+		}
+		await sleep(250);
+	}
+	await stop(w1, 'SIGKILL');
+	const w2 = startWorker('rescuer');
+	const statuses = await waitChecks([id], 5 * 60_000);
+	const [j] = await q('SELECT status, attempts FROM job WHERE revision_id = ? ORDER BY id DESC LIMIT 1', [id]);
+	const [runs] = await q('SELECT COUNT(*) AS n FROM check_run WHERE revision_id = ?', [id]);
+	const jobs = await q('SELECT COUNT(*) AS n FROM job WHERE revision_id = ?', [id]);
+	record('worker SIGKILLed mid-check', j.status === 'done' && Number(j.attempts) === 2 && Number(runs.n) === 1 && Number(jobs[0].n) === 1, `killed at "${stage}"; after the 30 s lease another worker finished it: job ${j.status} after ${j.attempts} attempts, ${runs.n} check row, revision ${statuses.get(id)}`);
+	return { app, w2 };
+}
+
+async function dbOutagePhase(token: string, cookie: string, smallFile: string) {
+	const before = await upload(token, smallFile, 'before-outage.stl', 'ctd-pod', 'sensor-pods');
+	await stopDb();
+	const t0 = performance.now();
+	const api = await fetch(`${BASE}/api/v1/queue`, { headers: { authorization: `Bearer ${token}` } });
+	const apiBody = await api.text();
+	const page = await fetch(`${BASE}/queue`, { headers: { cookie } });
+	const pageBody = await page.text();
+	const up = await fetch(`${BASE}/api/v1/projects/sensor-pods/parts/ctd-pod/revisions?fileName=during.stl`, { method: 'POST', headers: { authorization: `Bearer ${token}`, 'content-type': 'application/octet-stream' }, body: readFileSync(smallFile) });
+	const upBody = await up.text();
+	const outageMs = performance.now() - t0;
+	await startDb();
+	let recoveredMs = -1;
+	const t1 = performance.now();
+	for (let i = 0; i < 300; i++) {
+		const r = await fetch(`${BASE}/api/v1/queue`, { headers: { authorization: `Bearer ${token}` } }).catch(() => null);
+		if (r?.status === 200) {
+			recoveredMs = performance.now() - t1;
+			break;
+		}
+		await sleep(100);
+	}
+	const statuses = await waitChecks([before.id], 3 * 60_000);
+	const jsonOk = api.status === 503 && /not reachable/.test(JSON.parse(apiBody).message ?? '');
+	const pageOk = page.status === 503 && /not reachable/.test(pageBody) && !pageBody.includes('<');
+	const upOk = up.status === 503;
+	record('MariaDB stopped and started under the app', jsonOk && pageOk && upOk && recoveredMs >= 0 && !['awaiting-check', 'checking', undefined].includes(statuses.get(before.id)), `during the outage: API ${api.status} JSON "${apiBody.slice(12, 70)}…", page ${page.status} plain text, upload ${up.status} ${upBody.slice(0, 60)} (answered in ${outageMs.toFixed(0)} ms); answering again ${(recoveredMs / 1000).toFixed(1)} s after the restart without an app restart; upload accepted before the outage is ${statuses.get(before.id)}`);
+}
+
+async function serverKillPhase(token: string, files: string[]) {
+	let app = startApp('killed', 1);
+	await waitHttp();
+	const accepted: number[] = [];
+	const attempts = files.map((f, i) =>
+		upload(token, f, `kill-${i}.stl`, `kill-part-${i}`, 'tow-bodies').then(
+			(u) => accepted.push(u.id),
+			() => null
+		)
+	);
+	// Kill once the first uploads are in and a check is running, while others are still streaming.
+	for (let i = 0; i < 600 && accepted.length < 2; i++) await sleep(100);
+	await sleep(1500);
+	await stop(app, 'SIGKILL');
+	await Promise.all(attempts);
+	const tmpLeft = existsSync(path.join(env('SHELLGATE_DATA_DIR'), 'tmp')) ? readdirSync(path.join(env('SHELLGATE_DATA_DIR'), 'tmp')).length : 0;
+	app = startApp('restarted', 1);
+	await waitHttp();
+	const revs = await q("SELECT r.id, r.status FROM revision r JOIN part p ON p.id = r.part_id WHERE p.slug LIKE 'kill-part-%'");
+	const ids = revs.map((r) => Number(r.id));
+	const statuses = await waitChecks(ids, 5 * 60_000);
+	const unfinished = ids.filter((id) => ['awaiting-check', 'checking'].includes(statuses.get(id) ?? 'checking'));
+	const cons = await checkConsistency(getDb(), getStore());
+	const noJob = await q("SELECT COUNT(*) AS n FROM revision r LEFT JOIN job j ON j.revision_id = r.id WHERE j.id IS NULL");
+	const open = await q("SELECT COUNT(*) AS n FROM job WHERE status IN ('queued', 'running')");
+	record(
+		'web process SIGKILLed during uploads and checks',
+		unfinished.length === 0 && cons.missingFiles.length === 0 && accepted.every((id) => ids.includes(id)) && Number(noJob[0].n) === 0,
+		`${accepted.length} uploads answered before the kill, ${files.length - accepted.length} cut off; after the restart ${ids.length} revisions exist, all checked (${[...new Set(ids.map((id) => statuses.get(id)))].join(', ')}), ${cons.missingFiles.length} rows missing their file, ${cons.orphanFiles.length} orphan files, ${tmpLeft} temporary spool files left by the killed process, ${open[0].n} jobs still open`
+	);
+	return app;
+}
+
+async function secretsInLogs(token: string) {
+	await sleep(500);
+	let hits = 0;
+	for (const f of logs) {
+		const text = existsSync(f) ? readFileSync(f, 'utf8') : '';
+		if (text.includes(token) || text.includes(token.slice(3)) || text.includes('shellgate-demo') || /\$argon2/.test(text)) hits++;
+	}
+	record('no token or password in any log', hits === 0, `${logs.length} app and worker logs searched for the API token, the demo password and password hashes: ${hits} hits`);
+}
+
+async function main() {
+	sql = mysql.createPool({ uri: env('DATABASE_URL'), connectionLimit: 3 });
+	const t0 = performance.now();
+	const boot = startApp('setup', 0);
+	await waitHttp();
+	const cookie = await signIn('engineer@example.test');
+	const token = await createToken(cookie);
+	await stop(boot);
+	say(`load: ${READERS} connections on /queue and ${READERS} on /api/v1/revisions/:id for ${LOAD_SECONDS} s, ${UPLOADS} uploads of ~1 M triangles`);
+	await loadPhase(token, cookie);
+	say('faults: worker kill');
+	const { app, w2 } = await workerKillPhase(token);
+	const small = path.join(TMP, 'small.stl');
+	const s = towBody(5);
+	writeFileSync(small, writeBinaryStl(marchingCubes(s.field, gridFor(s.min, s.max, 0.05))));
+	say('faults: database outage');
+	await dbOutagePhase(token, cookie, small);
+	await stop(w2);
+	await stop(app);
+	say('faults: web process kill');
+	const killFiles = makeMeshes(4);
+	const last = await serverKillPhase(token, killFiles);
+	await secretsInLogs(token);
+	await stop(last);
+	await closeDb();
+	await sql.end();
+	console.log('\n[stress] figures');
+	for (const f of figures) console.log(`  ${f}`);
+	console.log('[stress] results');
+	for (const r of results) console.log(`  ${r.ok ? 'PASS' : 'FAIL'}  ${r.name}: ${r.detail}`);
+	const failed = results.filter((r) => !r.ok).length;
+	console.log(`[stress] ${results.length - failed}/${results.length} passed in ${((performance.now() - t0) / 1000).toFixed(0)} s; logs in ${TMP} (STRESS_KEEP=1 keeps them)`);
+	process.exitCode = failed ? 1 : 0;
+}
+
+main().catch((e) => {
+	console.error('[stress] aborted:', e);
+	process.exit(2);
+});

@@ -61,30 +61,8 @@ export function mortonScale(lo: number, hi: number): number {
  */
 export function sortByCode(codesIn: Uint32Array): { codes: Uint32Array; order: Uint32Array } {
 	const n = codesIn.length;
-	let codes = codesIn.slice();
-	let order = new Uint32Array(n);
-	for (let i = 0; i < n; i++) order[i] = i;
-	let codes2 = new Uint32Array(n);
-	let order2 = new Uint32Array(n);
-	const hist = new Uint32Array(1024);
-	for (let shift = 0; shift < 30; shift += 10) {
-		hist.fill(0);
-		for (let i = 0; i < n; i++) hist[(codes[i] >>> shift) & 1023]++;
-		let sum = 0;
-		for (let b = 0; b < 1024; b++) {
-			const h = hist[b];
-			hist[b] = sum;
-			sum += h;
-		}
-		for (let i = 0; i < n; i++) {
-			const c = codes[i];
-			const dst = hist[(c >>> shift) & 1023]++;
-			codes2[dst] = c;
-			order2[dst] = order[i];
-		}
-		const tc = codes; codes = codes2; codes2 = tc;
-		const to = order; order = order2; order2 = to;
-	}
+	const codes = new Uint32Array(n), order = new Uint32Array(n);
+	sortByCodeInto(codesIn, null, n, codes, order, new Uint32Array(n), new Uint32Array(n));
 	return { codes, order };
 }
 

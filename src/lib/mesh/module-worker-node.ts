@@ -7,7 +7,9 @@
  * bundling. The URL names the TypeScript source under tsx and vitest; then tsx's CommonJS hook is
  * loaded first so Node can run it.
  */
+import { readlinkSync } from 'node:fs';
 import { createRequire } from 'node:module';
+import { getPriority, setPriority } from 'node:os';
 import { isMainThread, Worker, workerData, type ResourceLimits } from 'node:worker_threads';
 
 const SOURCE = `
@@ -39,4 +41,23 @@ export function spawnModuleWorker(
 /** True inside a worker thread that spawnModuleWorker started with this tag. */
 export function isWorkerFor(tag: string): boolean {
 	return !isMainThread && (workerData as { __module?: { tag?: string } } | null)?.__module?.tag === tag;
+}
+
+/**
+ * Raises the calling thread's nice value by `niceness` (Linux: the nice value is per thread, and
+ * threads this one starts inherit it, so the engine's own worker threads follow). The web process
+ * then keeps the CPU when both want it, and checks use what is left. Lowering a priority needs no
+ * privilege; where it is not possible (another OS, a restricted sandbox) nothing changes. Returns
+ * the nice value now in force, or null when it could not be set.
+ */
+export function lowerThisThreadPriority(niceness: number): number | null {
+	if (!(niceness > 0) || process.platform !== 'linux') return null;
+	try {
+		const tid = Number(readlinkSync('/proc/thread-self').split('/').pop());
+		if (!Number.isInteger(tid) || tid <= 0) return null;
+		setPriority(tid, Math.min(19, getPriority(tid) + Math.floor(niceness)));
+		return getPriority(tid);
+	} catch {
+		return null;
+	}
 }

@@ -4,6 +4,7 @@ import { building } from '$app/environment';
 import { closeDb, getDb } from './db';
 import { flushOutbox } from './mail';
 import { config } from './config';
+import { closeEngineThreads } from './jobs/check';
 import { runWorkerLoop } from './jobs/runner';
 
 const KEY = Symbol.for('shellgate.background');
@@ -35,5 +36,6 @@ export function startBackground(): void {
 		controller.abort();
 		clearInterval(timer);
 		void closeDb();
+		void closeEngineThreads();
 	});
 }

@@ -53,6 +53,17 @@ export const config = {
 	get checkThreads() {
 		return Math.max(1, num('CHECK_THREADS', 2));
 	},
+	/**
+	 * Nice value added to the engine threads (Linux), so the web process and MariaDB keep the CPU
+	 * when they need it and checks run on what is left. 0 leaves the engine at normal priority.
+	 */
+	get engineNiceness() {
+		return Math.min(19, num('ENGINE_NICENESS', 15));
+	},
+	/** Seconds an idle engine thread is kept for the next task before it ends. */
+	get engineIdleMs() {
+		return num('ENGINE_IDLE_S', 120) * 1000;
+	},
 	get checkTimeLimitMs() {
 		return num('CHECK_TIME_LIMIT_S', 300) * 1000;
 	},

@@ -1,8 +1,7 @@
-// One check job: fetch the stored file, run the engine in a worker thread under a time and memory
-// cap, evaluate the project's gate profile, and write everything in one transaction.
+// One check job: fetch the stored file, run the engine in a long-lived worker thread under a time
+// and memory cap, evaluate the project's gate profile, and write everything in one transaction.
 import { createHash } from 'node:crypto';
 import { desc, eq } from 'drizzle-orm';
-import type { Worker } from 'node:worker_threads';
 import type { InspectionReport } from '../../mesh/report';
 import { gateRulesSchema } from '../../gate/profile';
 import { evaluateGate, gatePasses, minEdgeThreshold, RULE_TITLES, severityScore } from '../../gate/rules';
@@ -13,58 +12,37 @@ import { checkRun, gateProfile, revision, ruleResult } from '../db/schema';
 import { loadRevisionContext } from '../revisions';
 import { notifyHeld, notifyRepairAwaits } from '../notify';
 import { getStore } from '../storage';
-import type { EngineMessage, EngineTask } from './engine-thread';
-import { spawnModuleWorker } from '../../mesh/module-worker-node';
+import type { EngineTask } from './engine-thread';
+import { EnginePool, EngineRefused as CheckRefused, type EngineLimits as CheckLimits } from './engine-pool';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
 
-export interface CheckLimits {
-	timeLimitMs: number;
-	memoryLimitMb: number;
-}
+export { CheckRefused, type CheckLimits };
 
-export class CheckRefused extends Error {}
+let engines: EnginePool | null = null;
 
-/** Runs one engine task in a worker thread; rejects on timeout, crash or memory cap. */
+/**
+ * Runs one engine task in a long-lived engine thread (engine-pool.ts); rejects on timeout, crash,
+ * cancellation or memory cap, and with CheckRefused when the engine refused the input.
+ */
 export function runEngine<T>(input: EngineTask, limits: CheckLimits, onProgress: (stage: string, percent: number) => void, signal?: AbortSignal): Promise<T> {
 	// Imported dynamically so the bundler gives the thread's code a chunk of its own, whose URL the
 	// worker then loads (the module reports it as ENGINE_THREAD_URL).
-	return import('./engine-thread').then(
-		({ ENGINE_THREAD_URL, ENGINE_THREAD_TAG }) =>
-			new Promise<T>((resolve, reject) => {
-				let settled = false;
-				const finish = (fn: () => void) => {
-					if (settled) return;
-					settled = true;
-					clearTimeout(timer);
-					signal?.removeEventListener('abort', onAbort);
-					void w.terminate();
-					fn();
-				};
-				const onAbort = () => finish(() => reject(new Error('The work was cancelled.')));
-				const w: Worker = spawnModuleWorker(ENGINE_THREAD_URL, ENGINE_THREAD_TAG, input as unknown as Record<string, unknown>, {
-					resourceLimits: { maxOldGenerationSizeMb: limits.memoryLimitMb },
-					transferList: [input.bytes.buffer as ArrayBuffer]
-				});
-				const timer = setTimeout(
-					() => finish(() => reject(new Error(`The engine ran past its time limit of ${Math.round(limits.timeLimitMs / 1000)} s.`))),
-					limits.timeLimitMs
-				);
-				signal?.addEventListener('abort', onAbort);
-				w.on('message', (m: EngineMessage) => {
-					if (m.type === 'progress') onProgress(m.stage, m.percent);
-					else if (m.type === 'done') finish(() => resolve(m.result as T));
-					else if (m.type === 'refused') finish(() => reject(new CheckRefused(m.message)));
-					else finish(() => reject(new Error(m.message)));
-				});
-				w.on('error', (e) => {
-					const msg = /ERR_WORKER_OUT_OF_MEMORY|heap/i.test(String((e as { code?: string }).code ?? e.message))
-						? `The engine ran out of its memory allowance (${limits.memoryLimitMb} MB).`
-						: `The engine stopped: ${e.message}`;
-					finish(() => reject(new Error(msg)));
-				});
-				w.on('exit', (code) => finish(() => reject(new Error(`The engine thread exited (code ${code}) before finishing.`))));
-			})
-	);
+	return import('./engine-thread').then(({ ENGINE_THREAD_URL, ENGINE_THREAD_TAG }) => {
+		engines ??= new EnginePool({
+			url: ENGINE_THREAD_URL,
+			tag: ENGINE_THREAD_TAG,
+			niceness: config.engineNiceness,
+			// One per check loop, and one for repairs and exports asked for from the web.
+			maxIdle: config.checkWorkers + 1,
+			idleMs: config.engineIdleMs
+		});
+		return engines.run<T>(input, limits, onProgress, signal);
+	});
+}
+
+/** Ends the idle engine threads (at shutdown). */
+export async function closeEngineThreads(): Promise<void> {
+	await engines?.close();
 }
 
 export function reportHash(reportJson: string): string {

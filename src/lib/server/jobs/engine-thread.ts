@@ -4,7 +4,7 @@
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
 import { inspectBytes } from '../../mesh/inspect';
 import { inspectFileNode } from '../../mesh/inspect-node';
-import { isWorkerFor } from '../../mesh/module-worker-node';
+import { isWorkerFor, lowerThisThreadPriority } from '../../mesh/module-worker-node';
 import { readMesh } from '../../mesh/read';
 import { applyRecipe, meshDeviation, RepairError, type RepairLogEntry, type RepairStep } from '../../mesh/repair';
 import type { InspectOptions } from '../../mesh/report';
@@ -70,18 +70,38 @@ async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise
 	return out;
 }
 
-export async function runEngineThread(): Promise<void> {
-	if (isMainThread || !parentPort) throw new Error('runEngineThread must run in a worker thread');
-	const port = parentPort;
-	const post = (m: EngineMessage) => port.postMessage(m);
-	try {
-		const result = await run(workerData as EngineTask, post);
-		const transfer = result instanceof Uint8Array ? [result.buffer] : (result as RepairOutput | null)?.bytes instanceof Uint8Array ? [(result as RepairOutput).bytes.buffer] : [];
-		port.postMessage({ type: 'done', result } satisfies EngineMessage, transfer as ArrayBuffer[]);
-	} catch (e) {
-		if (e instanceof MeshReadError || e instanceof RepairError) post({ type: 'refused', message: e.message });
-		else post({ type: 'error', message: e instanceof Error ? e.message : String(e) });
-	}
+/** What the pool sends a long-lived engine thread: one task at a time, tagged with its id. */
+export interface EngineRequest {
+	id: number;
+	input: EngineTask;
 }
 
-if (isWorkerFor(ENGINE_THREAD_TAG)) void runEngineThread();
+/** Thread start-up data (workerData). */
+export interface EngineThreadData {
+	/** Added to the thread's nice value on Linux, so checks yield the CPU to the web process. */
+	niceness: number;
+}
+
+/**
+ * Worker side: the thread lives across tasks (so module loading, JIT warm-up and the
+ * self-intersection workers it keeps are paid once, not per check) and runs the tasks it is sent
+ * one after another. The pool terminates it on a timeout or cancellation and starts a fresh one.
+ */
+export function runEngineThread(): void {
+	if (isMainThread || !parentPort) throw new Error('runEngineThread must run in a worker thread');
+	const port = parentPort;
+	lowerThisThreadPriority((workerData as EngineThreadData).niceness ?? 0);
+	port.on('message', async ({ id, input }: EngineRequest) => {
+		const post = (m: EngineMessage) => port.postMessage({ ...m, id });
+		try {
+			const result = await run(input, post);
+			const transfer = result instanceof Uint8Array ? [result.buffer] : (result as RepairOutput | null)?.bytes instanceof Uint8Array ? [(result as RepairOutput).bytes.buffer] : [];
+			port.postMessage({ type: 'done', result, id } satisfies EngineMessage & { id: number }, transfer as ArrayBuffer[]);
+		} catch (e) {
+			if (e instanceof MeshReadError || e instanceof RepairError) post({ type: 'refused', message: e.message });
+			else post({ type: 'error', message: e instanceof Error ? e.message : String(e) });
+		}
+	});
+}
+
+if (isWorkerFor(ENGINE_THREAD_TAG)) runEngineThread();

@@ -2,6 +2,7 @@
 // same MariaDB and file store. CHECK_WORKERS loops (default 1); Ctrl-C finishes cleanly.
 import { closeDb, getDb } from '../db';
 import { config } from '../config';
+import { closeEngineThreads } from './check';
 import { newWorkerId, runWorkerLoop } from './runner';
 
 const controller = new AbortController();
@@ -19,4 +20,5 @@ await Promise.all(
 		})
 	)
 );
+await closeEngineThreads();
 await closeDb();

@@ -1,0 +1,53 @@
+import { readdirSync, readFileSync } from 'node:fs';
+import { afterAll, describe, expect, it } from 'vitest';
+import type { InspectionReport } from '../../mesh/report';
+import { unitCube } from '../../mesh/test-meshes';
+import { writeBinaryStl } from '../../mesh/write';
+import { EnginePool, EngineRefused } from './engine-pool';
+import { ENGINE_THREAD_TAG, ENGINE_THREAD_URL, type EngineTask } from './engine-thread';
+
+const limits = { timeLimitMs: 60_000, memoryLimitMb: 1024 };
+const pool = new EnginePool({ url: ENGINE_THREAD_URL, tag: ENGINE_THREAD_TAG, niceness: 7, maxIdle: 1, idleMs: 60_000 });
+afterAll(() => pool.close());
+
+const check = (bytes: Uint8Array, fileName = 'cube.stl'): EngineTask => ({ task: 'check', bytes, fileName, options: { fileName }, threads: 1 });
+
+/** Nice values of this process's threads (Linux), from /proc/self/task/<tid>/stat field 19. */
+function threadNiceValues(): number[] {
+	return readdirSync('/proc/self/task').map((tid) => {
+		const stat = readFileSync(`/proc/self/task/${tid}/stat`, 'utf8');
+		return Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[16]);
+	});
+}
+
+describe('engine threads kept between tasks', () => {
+	it('runs checks one after another in the same kept thread, and a refused file does not cost the thread', async () => {
+		const a = await pool.run<InspectionReport>(check(writeBinaryStl(unitCube())), limits, () => {});
+		expect(a.faces).toBe(12);
+		expect(pool.idleCount).toBe(1);
+		await expect(pool.run(check(new TextEncoder().encode('solid x\n facet normal 0 0 1\n'), 'broken.stl'), limits, () => {})).rejects.toBeInstanceOf(EngineRefused);
+		expect(pool.idleCount).toBe(1);
+		const b = await pool.run<InspectionReport>(check(writeBinaryStl(unitCube([2, 0, 0]))), limits, () => {});
+		expect(b.bbox.min[0]).toBe(2);
+		expect(pool.idleCount).toBe(1);
+	});
+
+	it.runIf(process.platform === 'linux')('lowers the engine thread priority by the configured niceness', async () => {
+		await pool.run(check(writeBinaryStl(unitCube())), limits, () => {});
+		expect(Math.max(...threadNiceValues())).toBeGreaterThanOrEqual(7);
+	});
+
+	it('ends a thread that runs past its time limit and starts a fresh one for the next task', async () => {
+		await pool.close();
+		await expect(pool.run(check(writeBinaryStl(unitCube())), { ...limits, timeLimitMs: 1 }, () => {})).rejects.toThrow(/time limit/);
+		expect(pool.idleCount).toBe(0);
+		const r = await pool.run<InspectionReport>(check(writeBinaryStl(unitCube())), limits, () => {});
+		expect(r.watertight).toBe(true);
+	});
+
+	it('refuses at once when the work was already cancelled', async () => {
+		const c = new AbortController();
+		c.abort();
+		await expect(pool.run(check(writeBinaryStl(unitCube())), limits, () => {}, c.signal)).rejects.toThrow(/cancelled/);
+	});
+});

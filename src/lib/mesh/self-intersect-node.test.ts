@@ -88,4 +88,16 @@ describe('findSelfIntersectionsParallel', () => {
 		const m = soup(14, 1500);
 		expect((await findSelfIntersectionsParallel(m, { threads: 2 })).pairs).toBe(findSelfIntersections(m).pairs);
 	});
+
+	it('gives the single-threaded counts and samples when pooled calls reuse shared buffers: large, then smaller, then larger again (seeds 15-17)', async () => {
+		await closeSelfIntersectPool();
+		for (const [seed, n] of [[15, 3000], [16, 800], [17, 4000]]) {
+			const m = soup(seed, n);
+			const want = findSelfIntersections(m, { sampleLimit: 1e9 });
+			const got = await findSelfIntersectionsParallel(m, { threads: 2, sampleLimit: 1e9 });
+			expect(got.pairs).toBe(want.pairs);
+			expect(got.degenerateSkipped).toBe(want.degenerateSkipped);
+			expect(got.sample.map((x) => [x.a, x.b])).toEqual(want.sample.map((x) => [x.a, x.b]));
+		}
+	});
 });

@@ -211,8 +211,70 @@ export function warmSelfIntersectPool(threads?: number): void {
 
 /** Terminates the pooled workers; the next call starts new ones. */
 export async function closeSelfIntersectPool(): Promise<void> {
+	kept = null;
 	const ws = pool.splice(0, pool.length);
 	await Promise.all(ws.map((w) => w.terminate()));
+}
+
+/** Shared buffers of one call, each sized for `faces` faces (nodes for bvhMaxNodes) and `coords` coordinates. */
+interface SharedScratch {
+	faces: number;
+	coords: number;
+	positions: SharedArrayBuffer;
+	indices: SharedArrayBuffer;
+	live: SharedArrayBuffer;
+	rawCodes: SharedArrayBuffer;
+	sortedCodes: SharedArrayBuffer;
+	slotFace: SharedArrayBuffer;
+	faceOf: SharedArrayBuffer;
+	verts: SharedArrayBuffer;
+	box: SharedArrayBuffer;
+	nodeFirstChild: SharedArrayBuffer;
+	nodeStart: SharedArrayBuffer;
+	nodeCount: SharedArrayBuffer;
+	nodeBounds: SharedArrayBuffer;
+}
+
+/**
+ * Every buffer is fully written for the faces in use before it is read (see runJob), so old
+ * contents never leak into a later call. Untouched pages of a SharedArrayBuffer cost nothing, so
+ * slot arrays are sized for every face.
+ */
+function newScratch(faces: number, coords: number): SharedScratch {
+	const nodes = bvhMaxNodes(faces);
+	const sab = (bytes: number) => new SharedArrayBuffer(Math.max(8, bytes));
+	return {
+		faces,
+		coords,
+		positions: sab(8 * coords),
+		indices: sab(12 * faces),
+		live: sab(faces),
+		rawCodes: sab(4 * faces),
+		sortedCodes: sab(4 * faces),
+		slotFace: sab(4 * faces),
+		faceOf: sab(4 * faces),
+		verts: sab(12 * faces),
+		box: sab(24 * faces),
+		nodeFirstChild: sab(4 * nodes),
+		nodeStart: sab(4 * nodes),
+		nodeCount: sab(4 * nodes),
+		nodeBounds: sab(24 * nodes)
+	};
+}
+
+/** The pool's buffers, kept from the last pooled call and replaced when too small. */
+let kept: SharedScratch | null = null;
+
+/** Largest mesh whose buffers are kept (about 90 bytes per face: 270 MB at this size); larger calls get buffers of their own. */
+const KEEP_FACES_MAX = 3_000_000;
+
+function sharedScratch(faces: number, coords: number): SharedScratch {
+	if (faces > KEEP_FACES_MAX) return newScratch(faces, coords);
+	if (!kept || kept.faces < faces || kept.coords < coords) {
+		kept = null; // let the old buffers go before the new ones are made
+		kept = newScratch(faces, coords);
+	}
+	return kept;
 }
 
 /** Counts self-intersecting face pairs on worker threads; same result as findSelfIntersections. */
@@ -223,21 +285,25 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 	if (opts.signal?.aborted) throw new Error('Self-intersection check was cancelled.');
 	validateMesh(mesh);
 	const faceCount = mesh.indices.length / 3;
-	// Buffers that already live in a SharedArrayBuffer (from offset 0) are used as they are: copying
-	// costs fresh pages, which are slow to fault in on small VMs.
+	// The pool when it is free, else workers of this call's own.
+	const pooled = !poolBusy;
+	// Buffers that already live in a SharedArrayBuffer (from offset 0) are used as they are; others
+	// are copied into shared memory. A pooled call reuses the shared buffers of the previous pooled
+	// call when they are large enough: pages already touched cost nothing to write again, while fresh
+	// ones are slow to fault in on small VMs (measured 12-16 µs per 4 KB page).
+	const scratch = pooled ? sharedScratch(faceCount, mesh.positions.length) : newScratch(faceCount, mesh.positions.length);
 	const sharedAsIs = (a: Float64Array | Uint32Array) => a.buffer instanceof SharedArrayBuffer && a.byteOffset === 0;
 	let posBuf: SharedArrayBuffer, idxBuf: SharedArrayBuffer;
 	if (sharedAsIs(mesh.positions)) posBuf = mesh.positions.buffer as SharedArrayBuffer;
 	else {
-		posBuf = new SharedArrayBuffer(mesh.positions.byteLength);
-		new Float64Array(posBuf).set(mesh.positions);
+		posBuf = scratch.positions;
+		new Float64Array(posBuf, 0, mesh.positions.length).set(mesh.positions);
 	}
 	if (sharedAsIs(mesh.indices)) idxBuf = mesh.indices.buffer as SharedArrayBuffer;
 	else {
-		idxBuf = new SharedArrayBuffer(mesh.indices.byteLength);
-		new Uint32Array(idxBuf).set(mesh.indices);
+		idxBuf = scratch.indices;
+		new Uint32Array(idxBuf, 0, mesh.indices.length).set(mesh.indices);
 	}
-	// Untouched pages of a SharedArrayBuffer cost nothing, so slot arrays are sized for every face.
 	const data: WorkerInput = {
 		kind: 'shellgate-self-intersect',
 		job: nextJob++,
@@ -247,23 +313,21 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 		positions: posBuf,
 		positionCount: mesh.positions.length,
 		indices: idxBuf,
-		live: new SharedArrayBuffer(faceCount),
-		rawCodes: new SharedArrayBuffer(4 * faceCount),
-		sortedCodes: new SharedArrayBuffer(4 * faceCount),
-		slotFace: new SharedArrayBuffer(4 * faceCount),
-		faceOf: new SharedArrayBuffer(4 * faceCount),
-		verts: new SharedArrayBuffer(12 * faceCount),
-		box: new SharedArrayBuffer(24 * faceCount),
-		nodeFirstChild: new SharedArrayBuffer(4 * bvhMaxNodes(faceCount)),
-		nodeStart: new SharedArrayBuffer(4 * bvhMaxNodes(faceCount)),
-		nodeCount: new SharedArrayBuffer(4 * bvhMaxNodes(faceCount)),
-		nodeBounds: new SharedArrayBuffer(24 * bvhMaxNodes(faceCount)),
+		live: scratch.live,
+		rawCodes: scratch.rawCodes,
+		sortedCodes: scratch.sortedCodes,
+		slotFace: scratch.slotFace,
+		faceOf: scratch.faceOf,
+		verts: scratch.verts,
+		box: scratch.box,
+		nodeFirstChild: scratch.nodeFirstChild,
+		nodeStart: scratch.nodeStart,
+		nodeCount: scratch.nodeCount,
+		nodeBounds: scratch.nodeBounds,
 		control: new SharedArrayBuffer(4 * 8),
 		sampleLimit,
 		taskTarget: Math.max(DEFAULT_TASK_TARGET, 64 * threads)
 	};
-	// The pool when it is free, else workers of this call's own.
-	const pooled = !poolBusy;
 	let workers: Worker[];
 	if (pooled) {
 		poolBusy = true;

@@ -29,7 +29,7 @@
  * Splitting work: `faceRange` filters by the lower face index; `shard` splits the traversal into
  * tasks (used by self-intersect-node.ts). Both partition the pairs exactly.
  */
-import { buildBvhSorted, f32Down, f32Up, morton3, mortonScale, sortByCode, sortByCodeInto, type FlatBvh } from './bvh';
+import { buildBvhSorted, f32Down as f32DownImport, f32Up as f32UpImport, morton3 as morton3Import, mortonScale, sortByCode, sortByCodeInto, type FlatBvh } from './bvh';
 import { ccw2 as ccw2Import, dropAxis as dropAxisImport, isDegenerateTriangle, side3 as side3Import } from './predicates';
 import type { MeshBuffers } from './types';
 
@@ -37,6 +37,9 @@ import type { MeshBuffers } from './types';
 const ccw2 = ccw2Import;
 const dropAxis = dropAxisImport;
 const side3 = side3Import;
+const f32Down = f32DownImport;
+const f32Up = f32UpImport;
+const morton3 = morton3Import;
 
 export interface SelfIntersectionSample {
 	/** Face indices, a < b. */

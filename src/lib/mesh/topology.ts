@@ -4,7 +4,10 @@
  * over face corners; scratch is allocated once per call.
  */
 import { MeshReadError } from './types';
-import { buildEdges, nextHalfedge, NO_EDGE, type EdgeTable } from './edges';
+import { buildEdges, nextHalfedge as nextHalfedgeImport, NO_EDGE, type EdgeTable } from './edges';
+
+// Bound once (see predicates.ts: some loaders make each use of an import a getter call).
+const nextHalfedge = nextHalfedgeImport;
 
 export interface LoopTable {
 	loopCount: number;

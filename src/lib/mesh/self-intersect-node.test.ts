@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { mulberry32, sphere, towBody } from './implicit-shapes';
 import { gridFor, marchingCubes } from './marching-cubes';
 import { findSelfIntersections } from './self-intersect';
-import { closeSelfIntersectPool, findSelfIntersectionsParallel, warmSelfIntersectPool } from './self-intersect-node';
+import { closeSelfIntersectPool, findSelfIntersectionsParallel, startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
 
 /** Small triangles scattered in a 12-unit box on a 1/8 grid; a third reuse a corner of the previous one. */
 function soup(seed: number, triCount: number) {
@@ -98,6 +98,28 @@ describe('findSelfIntersectionsParallel', () => {
 			expect(got.pairs).toBe(want.pairs);
 			expect(got.degenerateSkipped).toBe(want.degenerateSkipped);
 			expect(got.sample.map((x) => [x.a, x.b])).toEqual(want.sample.map((x) => [x.a, x.b]));
+		}
+	});
+
+	it('counts the same when the calling thread joins the traversal (help), on a marching-cubes sphere and a soup (seed 18)', async () => {
+		const s = sphere(1);
+		const big = marchingCubes(s.field, gridFor(s.min, s.max, 0.02));
+		const soupMesh = soup(18, 3000);
+		for (const m of [big, soupMesh]) {
+			const want = findSelfIntersections(m, { sampleLimit: 1e9 });
+			const run = startSelfIntersections(m, { threads: 1, sampleLimit: 1e9 });
+			let helped = 0;
+			const done = run.finish();
+			let finished = false;
+			void done.then(() => (finished = true), () => (finished = true));
+			while (!finished && helped === 0) {
+				helped += run.help();
+				await new Promise((r) => setTimeout(r, 2));
+			}
+			const got = await done;
+			expect(got.pairs).toBe(want.pairs);
+			expect(got.sample.map((x) => [x.a, x.b])).toEqual(want.sample.map((x) => [x.a, x.b]));
+			expect(got.stats!.candidatePairs).toBe(want.stats!.candidatePairs);
 		}
 	});
 });

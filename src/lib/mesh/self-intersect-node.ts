@@ -279,6 +279,39 @@ function sharedScratch(faces: number, coords: number): SharedScratch {
 
 /** Counts self-intersecting face pairs on worker threads; same result as findSelfIntersections. */
 export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions = {}): Promise<SelfIntersectionResult> {
+	return startSelfIntersections(mesh, opts).finish();
+}
+
+/** A running parallel count (see startSelfIntersections). */
+export interface SelfIntersectionRun {
+	/**
+	 * Lets the calling thread take traversal tasks from the same shared counter until none are
+	 * left, then returns (at once when the workers have not built the tree yet, or are done).
+	 * Synchronous: call it when the thread has nothing else to do, before finish(). Returns how
+	 * many tasks this thread ran.
+	 */
+	help(): number;
+	/** The whole count: the workers' parts and the caller's, merged. */
+	finish(): Promise<SelfIntersectionResult>;
+}
+
+/**
+ * Starts the count on worker threads and returns at once. The caller may do other work, then
+ * call help() to join the traversal, so a machine with as many busy threads as cores stays evenly
+ * loaded to the end: with one worker per spare core, the caller finishing its own stages early or
+ * late never leaves a core idle while tasks remain. Rejections surface from finish().
+ */
+export function startSelfIntersections(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions = {}): SelfIntersectionRun {
+	let run: SelfIntersectionRun;
+	try {
+		run = startRun(mesh, opts);
+	} catch (e) {
+		return { help: () => 0, finish: () => Promise.reject(e) };
+	}
+	return run;
+}
+
+function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions): SelfIntersectionRun {
 	const t0 = performance.now();
 	const threads = Math.max(1, Math.floor(opts.threads ?? availableParallelism()));
 	const sampleLimit = opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT;
@@ -344,37 +377,80 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 	};
 	const onAbort = () => stopAll();
 	opts.signal?.addEventListener('abort', onAbort, { once: true });
-	try {
-		const parts = await Promise.all(
-			workers.map((w, index) => {
-				w.ref();
-				return new Promise<SelfIntersectionResult>((resolve, reject) => {
-					const onMessage = (msg: WorkerOutput) => {
-						if (msg.job !== data.job) return;
-						if (msg.result) resolve(msg.result);
-						else reject(new Error(msg.error ?? 'Self-intersection worker failed.'));
-					};
-					const onExit = (code: number) => {
-						if (opts.signal?.aborted) reject(new Error('Self-intersection check was cancelled.'));
-						else reject(new Error(`Self-intersection worker stopped early (exit code ${code}).`));
-					};
-					w.on('message', onMessage);
-					w.on('error', reject);
-					w.on('exit', onExit);
-					cleanups.push(() => {
-						w.off('message', onMessage);
-						w.off('error', reject);
-						w.off('exit', onExit);
-						w.unref();
-					});
-					w.postMessage({ ...data, index } satisfies WorkerInput);
+	let settled = false;
+	const workerParts = Promise.all(
+		workers.map((w, index) => {
+			w.ref();
+			return new Promise<SelfIntersectionResult>((resolve, reject) => {
+				const onMessage = (msg: WorkerOutput) => {
+					if (msg.job !== data.job) return;
+					if (msg.result) resolve(msg.result);
+					else reject(new Error(msg.error ?? 'Self-intersection worker failed.'));
+				};
+				const onExit = (code: number) => {
+					if (opts.signal?.aborted) reject(new Error('Self-intersection check was cancelled.'));
+					else reject(new Error(`Self-intersection worker stopped early (exit code ${code}).`));
+				};
+				w.on('message', onMessage);
+				w.on('error', reject);
+				w.on('exit', onExit);
+				cleanups.push(() => {
+					w.off('message', onMessage);
+					w.off('error', reject);
+					w.off('exit', onExit);
+					w.unref();
 				});
-			})
-		).catch((e: unknown) => {
+				w.postMessage({ ...data, index } satisfies WorkerInput);
+			});
+		})
+	)
+		.catch((e: unknown) => {
 			// A failed worker may leave the others waiting at a barrier forever: stop them all.
 			stopAll();
 			throw e;
+		})
+		.finally(() => {
+			// Runs on this thread's event loop, so never while help() is reading the shared buffers.
+			settled = true;
+			opts.signal?.removeEventListener('abort', onAbort);
+			for (const c of cleanups) c();
+			if (!pooled) for (const w of workers) void w.terminate();
+			else poolBusy = false;
 		});
+	// Handled here so a failure is never reported as unhandled before finish() is awaited.
+	workerParts.catch(() => {});
+	const helperParts: SelfIntersectionResult[] = [];
+
+	const help = (): number => {
+		if (settled || opts.signal?.aborted) return 0;
+		const ctrl = new Int32Array(data.control);
+		// The node count is stored after the tree is complete (runJob); 0 means not built yet.
+		const nodeCount = Atomics.load(ctrl, CTRL_NODES);
+		if (nodeCount === 0) return 0;
+		const liveCount = Atomics.load(ctrl, CTRL_LIVE);
+		const store: BvhNodeStore = {
+			firstChild: new Int32Array(data.nodeFirstChild),
+			start: new Uint32Array(data.nodeStart),
+			count: new Uint32Array(data.nodeCount),
+			bounds: new Float32Array(data.nodeBounds)
+		};
+		const prep: PreparedMesh = {
+			faceCount,
+			liveCount,
+			degenerateSkipped: faceCount - liveCount,
+			positions: new Float64Array(data.positions, 0, data.positionCount),
+			faceOf: new Uint32Array(data.faceOf, 0, liveCount),
+			verts: new Uint32Array(data.verts, 0, 3 * liveCount),
+			box: new Float32Array(data.box, 0, 6 * liveCount),
+			bvh: bvhFromStore(store, nodeCount)
+		};
+		const part = findInPrepared(prep, { sampleLimit, taskTarget: data.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } });
+		helperParts.push(part);
+		return part.stats?.tasks ?? 0;
+	};
+
+	const finish = async (): Promise<SelfIntersectionResult> => {
+		const parts = [...(await workerParts), ...helperParts];
 		const sample = parts.flatMap((p) => p.sample);
 		sample.sort((x, y) => x.a - y.a || x.b - y.b);
 		sample.length = Math.min(sample.length, sampleLimit);
@@ -392,12 +468,8 @@ export async function findSelfIntersectionsParallel(mesh: MeshBuffers, opts: Par
 				tasks: parts.reduce((s, p) => s + (p.stats?.tasks ?? 0), 0)
 			}
 		};
-	} finally {
-		opts.signal?.removeEventListener('abort', onAbort);
-		for (const c of cleanups) c();
-		if (!pooled) for (const w of workers) void w.terminate();
-		else poolBusy = false;
-	}
+	};
+	return { help, finish };
 }
 
 if (isWorkerFor(WORKER_TAG)) runSelfIntersectWorker();

@@ -1,5 +1,6 @@
 // Settings from the environment, read in one place so the app, the standalone worker and the scripts agree.
 // Plain process.env (not $env) because the worker and scripts run outside SvelteKit.
+import { availableParallelism } from 'node:os';
 import path from 'node:path';
 
 function num(name: string, fallback: number): number {
@@ -49,9 +50,12 @@ export const config = {
 	get checkWorkers() {
 		return num('CHECK_WORKERS', 1);
 	},
-	/** Threads one check uses for its self-intersection stage. */
+	/**
+	 * Worker threads one check starts for its self-intersection stage, beside the engine thread
+	 * (which joins the traversal once its own stages are done). Default: one per core.
+	 */
 	get checkThreads() {
-		return Math.max(1, num('CHECK_THREADS', 2));
+		return Math.max(1, num('CHECK_THREADS', availableParallelism()));
 	},
 	/**
 	 * Nice value added to the engine threads (Linux), so the web process and MariaDB keep the CPU

@@ -224,6 +224,8 @@ export const revision = mysqlTable(
 		status: mysqlEnum('status', REVISION_STATES).notNull().default('awaiting-check'),
 		statusReason: varchar('status_reason', { length: 1000 }),
 		assigneeId: varchar('assignee_id', { length: 32 }).references(() => user.id),
+		/** The newest check_run of this revision, set in the transaction that inserts it; the queue joins on it. */
+		latestCheckId: int('latest_check_id'),
 		createdAt: createdAt(),
 		updatedAt: datetime('updated_at', { mode: 'date', fsp: 3 }).notNull().default(now())
 	},

@@ -138,7 +138,7 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 				location: o.location
 			}))
 		);
-		await tx.update(revision).set({ status: next, statusReason: passes ? null : failed.map((o) => RULE_TITLES[o.rule]).join('; ').slice(0, 1000), updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
+		await tx.update(revision).set({ status: next, statusReason: passes ? null : failed.map((o) => RULE_TITLES[o.rule]).join('; ').slice(0, 1000), latestCheckId: run.id, updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
 		await audit(tx, null, 'revision', ctx.rev.id, 'checked', 'checking', next, { checkRun: run.id, failed: failed.map((o) => o.rule), profileVersion: profile.version });
 		const ref = { id: ctx.rev.id, number: ctx.rev.number, partName: ctx.part.name, projectName: ctx.project.name, uploaderId: ctx.rev.uploaderId };
 		if (next === 'held') {

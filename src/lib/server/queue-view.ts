@@ -29,14 +29,19 @@ export function parseQueueFilter(params: URLSearchParams): QueueFilter {
 	return queueFilterSchema.parse(raw);
 }
 
+/** Job states whose stage and percent the queue shows as live progress. */
+const ACTIVE_JOB = sql`${job.status} in ('queued', 'running')`;
+
+/**
+ * The page of rows and the per-state counts, as two queries sent together. Each revision carries
+ * its newest check run's id (revision.latest_check_id), so the check figures are one primary-key
+ * join instead of a max(id) per revision over all check runs; the counts join check_run only when
+ * a rule filter needs it. Live progress comes from correlated subqueries on job_revision, only
+ * for rows still awaiting or under check.
+ */
 export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 	const uploader = alias(user, 'uploader');
 	const assignee = alias(user, 'assignee');
-	const latest = db
-		.select({ revisionId: checkRun.revisionId, id: sql<number>`max(${checkRun.id})`.as('latest_id') })
-		.from(checkRun)
-		.groupBy(checkRun.revisionId)
-		.as('latest');
 
 	const base: SQL[] = [eq(project.teamId, u.teamId)];
 	if (f.project) base.push(eq(project.slug, f.project));
@@ -55,55 +60,56 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 				? [f.dir === 'asc' ? asc(revision.size) : desc(revision.size), desc(revision.id)]
 				: [f.dir === 'asc' ? desc(revision.createdAt) : asc(revision.createdAt), asc(revision.id)];
 
-	const from = () =>
-		db
-			.select({
-				id: revision.id,
-				number: revision.number,
-				status: revision.status,
-				statusReason: revision.statusReason,
-				fileName: revision.fileName,
-				size: revision.size,
-				source: revision.source,
-				createdAt: revision.createdAt,
-				partName: part.name,
-				partSlug: part.slug,
-				projectName: project.name,
-				projectSlug: project.slug,
-				uploaderName: uploader.name,
-				assigneeId: revision.assigneeId,
-				assigneeName: assignee.name,
-				faces: checkRun.faces,
-				severity: checkRun.severity,
-				failedRules: checkRun.failedRules,
-				boundaryEdges: checkRun.boundaryEdges,
-				selfIntersectingPairs: checkRun.selfIntersectingPairs,
-				shells: checkRun.shells,
-				genus: checkRun.genus
-			})
-			.from(revision)
-			.innerJoin(part, eq(part.id, revision.partId))
-			.innerJoin(project, eq(project.id, part.projectId))
-			.innerJoin(uploader, eq(uploader.id, revision.uploaderId))
-			.leftJoin(assignee, eq(assignee.id, revision.assigneeId))
-			.leftJoin(latest, eq(latest.revisionId, revision.id))
-			.leftJoin(checkRun, eq(checkRun.id, latest.id));
+	const live = sql`${revision.status} in ('checking', 'awaiting-check')`;
+	const activeJob = <T>(col: SQL) =>
+		sql<T | null>`case when ${live} then (select ${col} from ${job} where ${job.revisionId} = ${revision.id} and ${ACTIVE_JOB} order by ${job.id} desc limit 1) end`;
 
-	const rows = await from()
+	const rowsQuery = db
+		.select({
+			id: revision.id,
+			number: revision.number,
+			status: revision.status,
+			statusReason: revision.statusReason,
+			fileName: revision.fileName,
+			size: revision.size,
+			source: revision.source,
+			createdAt: revision.createdAt,
+			partName: part.name,
+			partSlug: part.slug,
+			projectName: project.name,
+			projectSlug: project.slug,
+			uploaderName: uploader.name,
+			assigneeId: revision.assigneeId,
+			assigneeName: assignee.name,
+			faces: checkRun.faces,
+			severity: checkRun.severity,
+			failedRules: checkRun.failedRules,
+			boundaryEdges: checkRun.boundaryEdges,
+			selfIntersectingPairs: checkRun.selfIntersectingPairs,
+			shells: checkRun.shells,
+			genus: checkRun.genus,
+			jobStage: activeJob<string>(sql`${job.stage}`),
+			jobPercent: activeJob<number>(sql`${job.percent}`)
+		})
+		.from(revision)
+		.innerJoin(part, eq(part.id, revision.partId))
+		.innerJoin(project, eq(project.id, part.projectId))
+		.innerJoin(uploader, eq(uploader.id, revision.uploaderId))
+		.leftJoin(assignee, eq(assignee.id, revision.assigneeId))
+		.leftJoin(checkRun, eq(checkRun.id, revision.latestCheckId))
 		.where(where)
 		.orderBy(...order)
 		.limit(f.pageSize)
 		.offset((f.page - 1) * f.pageSize);
 
-	const countRows = await db
+	const countBase = db
 		.select({ status: revision.status, n: sql<number>`count(*)` })
 		.from(revision)
 		.innerJoin(part, eq(part.id, revision.partId))
-		.innerJoin(project, eq(project.id, part.projectId))
-		.leftJoin(latest, eq(latest.revisionId, revision.id))
-		.leftJoin(checkRun, eq(checkRun.id, latest.id))
-		.where(and(...base))
-		.groupBy(revision.status);
+		.innerJoin(project, eq(project.id, part.projectId));
+	const countQuery = (f.rule ? countBase.leftJoin(checkRun, eq(checkRun.id, revision.latestCheckId)) : countBase).where(and(...base)).groupBy(revision.status);
+
+	const [rows, countRows] = await Promise.all([rowsQuery, countQuery]);
 	const counts = Object.fromEntries(REVISION_STATES.map((s) => [s, 0])) as Record<(typeof REVISION_STATES)[number], number>;
 	for (const c of countRows) counts[c.status] = Number(c.n);
 	const total =
@@ -113,21 +119,11 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 				? NEEDS_ACTION.reduce((a, s) => a + counts[s], 0)
 				: counts[f.status];
 
-	// Live progress for the rows being checked.
-	const checking = rows.filter((r) => r.status === 'checking' || r.status === 'awaiting-check').map((r) => r.id);
-	const progress = checking.length
-		? await db
-				.select({ revisionId: job.revisionId, stage: job.stage, percent: job.percent })
-				.from(job)
-				.where(and(inArray(job.revisionId, checking), inArray(job.status, ['queued', 'running'])))
-		: [];
-	const byRev = new Map(progress.map((p) => [p.revisionId, p]));
-
 	return {
-		rows: rows.map((r) => ({
+		rows: rows.map(({ jobStage, jobPercent, ...r }) => ({
 			...r,
 			failedRules: r.failedRules ? r.failedRules.split(',').filter(Boolean) : [],
-			progress: byRev.get(r.id) ?? null
+			progress: jobPercent === null ? null : { revisionId: r.id, stage: jobStage, percent: Number(jobPercent) }
 		})),
 		counts,
 		total,

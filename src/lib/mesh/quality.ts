@@ -5,10 +5,11 @@
 import { isDegenerateTriangle } from './predicates';
 import type { EdgeTable } from './edges';
 import type { Bbox, Histogram } from './report';
-import { EDGE_LENGTH_BINS, FACE_QUALITY_BINS as FACE_QUALITY_BINS_IMPORT } from './tolerances';
+import { EDGE_LENGTH_BINS as EDGE_LENGTH_BINS_IMPORT, FACE_QUALITY_BINS as FACE_QUALITY_BINS_IMPORT } from './tolerances';
 
 // Bound once (see predicates.ts: some loaders make each use of an import a getter call).
 const FACE_QUALITY_BINS = FACE_QUALITY_BINS_IMPORT;
+const EDGE_LENGTH_BINS = EDGE_LENGTH_BINS_IMPORT;
 
 export interface FaceMeasures {
 	/** Area of each face (0 for skipped faces). */

@@ -64,6 +64,17 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 	const activeJob = <T>(col: SQL) =>
 		sql<T | null>`case when ${live} then (select ${col} from ${job} where ${job.revisionId} = ${revision.id} and ${ACTIVE_JOB} order by ${job.id} desc limit 1) end`;
 
+	// Deferred join: the page's ids are sorted and cut on the narrow revision/part/project join
+	// (check_run only when the sort or filter needs it); names and figures are joined for those rows only.
+	const needsCheck = f.sort === 'severity' || !!f.rule;
+	const idsBase = db.select({ id: revision.id }).from(revision).innerJoin(part, eq(part.id, revision.partId)).innerJoin(project, eq(project.id, part.projectId));
+	const pageIds = (needsCheck ? idsBase.leftJoin(checkRun, eq(checkRun.id, revision.latestCheckId)) : idsBase)
+		.where(where)
+		.orderBy(...order)
+		.limit(f.pageSize)
+		.offset((f.page - 1) * f.pageSize)
+		.as('page_ids');
+
 	const rowsQuery = db
 		.select({
 			id: revision.id,
@@ -91,16 +102,14 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 			jobStage: activeJob<string>(sql`${job.stage}`),
 			jobPercent: activeJob<number>(sql`${job.percent}`)
 		})
-		.from(revision)
+		.from(pageIds)
+		.innerJoin(revision, eq(revision.id, pageIds.id))
 		.innerJoin(part, eq(part.id, revision.partId))
 		.innerJoin(project, eq(project.id, part.projectId))
 		.innerJoin(uploader, eq(uploader.id, revision.uploaderId))
 		.leftJoin(assignee, eq(assignee.id, revision.assigneeId))
 		.leftJoin(checkRun, eq(checkRun.id, revision.latestCheckId))
-		.where(where)
-		.orderBy(...order)
-		.limit(f.pageSize)
-		.offset((f.page - 1) * f.pageSize);
+		.orderBy(...order);
 
 	const countBase = db
 		.select({ status: revision.status, n: sql<number>`count(*)` })

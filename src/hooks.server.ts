@@ -39,8 +39,11 @@ async function authenticate(event: Parameters<Handle>[0]['event']) {
 			.limit(1);
 		if (row) {
 			event.locals.user = await loadSessionUser(db, row.userId);
-			// Last use is informative only; a lost update here is harmless.
-			void db.update(apiToken).set({ lastUsedAt: new Date() }).where(eq(apiToken.id, row.id)).catch(() => {});
+			// Last use is informative only (shown to the minute), so it is written at most once a
+			// minute per token rather than on every call of a polling pipeline; a lost update is harmless.
+			if (!row.lastUsedAt || Date.now() - row.lastUsedAt.getTime() > 60_000) {
+				void db.update(apiToken).set({ lastUsedAt: new Date() }).where(eq(apiToken.id, row.id)).catch(() => {});
+			}
 		}
 		return;
 	}

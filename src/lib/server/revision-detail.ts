@@ -10,23 +10,55 @@ import { loadRevisionForUser } from './revisions';
 export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: { withReport?: boolean } = {}) {
 	const ctx = await loadRevisionForUser(db, u, id);
 	const { rev } = ctx;
-	const [run] = await db.select().from(checkRun).where(eq(checkRun.revisionId, id)).orderBy(desc(checkRun.id)).limit(1);
-	const rules = run ? await db.select().from(ruleResult).where(eq(ruleResult.checkRunId, run.id)).orderBy(asc(ruleResult.id)) : [];
-	const [profile] = run ? await db.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1) : [];
-	const [activeJob] = await db
-		.select({ status: job.status, stage: job.stage, percent: job.percent, attempts: job.attempts, maxAttempts: job.maxAttempts, lastError: job.lastError })
-		.from(job)
-		.where(and(eq(job.revisionId, id), eq(job.kind, 'check'), inArray(job.status, ['queued', 'running'])))
-		.orderBy(desc(job.id))
-		.limit(1);
-	const decisions = await db
-		.select({ d: decision, by: user.name })
-		.from(decision)
-		.innerJoin(user, eq(user.id, decision.byId))
-		.where(eq(decision.revisionId, id))
-		.orderBy(asc(decision.id));
-	const [uploader] = await db.select({ name: user.name, email: user.email }).from(user).where(eq(user.id, rev.uploaderId)).limit(1);
-	const [assignee] = rev.assigneeId ? await db.select({ id: user.id, name: user.name }).from(user).where(eq(user.id, rev.assigneeId)).limit(1) : [];
+	const withReport = opts.withReport !== false;
+	// The report column is the large one (tens to hundreds of KB): read only when asked for.
+	const runColumns = {
+		id: checkRun.id,
+		createdAt: checkRun.createdAt,
+		reportSha256: checkRun.reportSha256,
+		engineVersion: checkRun.engineVersion,
+		durationMs: checkRun.durationMs,
+		severity: checkRun.severity,
+		gateProfileId: checkRun.gateProfileId
+	};
+	// Everything below depends only on the revision row, so the queries go out together.
+	const [runRows, activeJobs, decisions, uploaders, assignees, comments, repairJobRows, parent] = await Promise.all([
+		withReport
+			? db.select({ ...runColumns, report: checkRun.report }).from(checkRun).where(eq(checkRun.revisionId, id)).orderBy(desc(checkRun.id)).limit(1)
+			: db.select(runColumns).from(checkRun).where(eq(checkRun.revisionId, id)).orderBy(desc(checkRun.id)).limit(1),
+		db
+			.select({ status: job.status, stage: job.stage, percent: job.percent, attempts: job.attempts, maxAttempts: job.maxAttempts, lastError: job.lastError })
+			.from(job)
+			.where(and(eq(job.revisionId, id), eq(job.kind, 'check'), inArray(job.status, ['queued', 'running'])))
+			.orderBy(desc(job.id))
+			.limit(1),
+		db
+			.select({ d: decision, by: user.name })
+			.from(decision)
+			.innerJoin(user, eq(user.id, decision.byId))
+			.where(eq(decision.revisionId, id))
+			.orderBy(asc(decision.id)),
+		db.select({ name: user.name, email: user.email }).from(user).where(eq(user.id, rev.uploaderId)).limit(1),
+		rev.assigneeId ? db.select({ id: user.id, name: user.name }).from(user).where(eq(user.id, rev.assigneeId)).limit(1) : Promise.resolve([]),
+		listComments(db, id),
+		db
+			.select({ id: job.id, status: job.status, stage: job.stage, percent: job.percent, lastError: job.lastError, payload: job.payload, createdAt: job.createdAt })
+			.from(job)
+			.where(and(eq(job.revisionId, id), eq(job.kind, 'repair')))
+			.orderBy(desc(job.id))
+			.limit(5),
+		rev.parentRevisionId ? parentSummary(db, rev.parentRevisionId, withReport) : Promise.resolve(null)
+	]);
+	const run = runRows[0] as (typeof runRows)[number] & { report?: string };
+	const [rules, [profile]] = run
+		? await Promise.all([
+				db.select().from(ruleResult).where(eq(ruleResult.checkRunId, run.id)).orderBy(asc(ruleResult.id)),
+				db.select({ version: gateProfile.version }).from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1)
+			])
+		: [[], []];
+	const [activeJob] = activeJobs;
+	const [uploader] = uploaders;
+	const [assignee] = assignees;
 	return {
 		id: rev.id,
 		number: rev.number,
@@ -65,7 +97,7 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 					severity: run.severity
 				}
 			: null,
-		report: run && opts.withReport !== false ? (JSON.parse(run.report) as InspectionReport) : null,
+		report: run?.report !== undefined ? (JSON.parse(run.report) as InspectionReport) : null,
 		rules: rules.map((r) => ({ rule: r.rule, passed: r.passed, severity: r.severity, measured: r.measured, limit: r.limitText, explanation: r.explanation, location: r.location })),
 		decisions: decisions.map(({ d, by }) => ({
 			id: d.id,
@@ -77,29 +109,24 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 			reportSha256: d.reportSha256,
 			gateProfileVersion: d.gateProfileVersion
 		})),
-		comments: await listComments(db, id),
-		repairJobs: (
-			await db
-				.select({ id: job.id, status: job.status, stage: job.stage, percent: job.percent, lastError: job.lastError, payload: job.payload, createdAt: job.createdAt })
-				.from(job)
-				.where(and(eq(job.revisionId, id), eq(job.kind, 'repair')))
-				.orderBy(desc(job.id))
-				.limit(5)
-		).map((j) => {
+		comments,
+		repairJobs: repairJobRows.map((j) => {
 			const p = (j.payload ?? {}) as { recipeName?: string; resultRevisionId?: number };
 			return { id: j.id, status: j.status, stage: j.stage, percent: j.percent, lastError: j.lastError, recipeName: p.recipeName ?? 'recipe', resultRevisionId: p.resultRevisionId ?? null, createdAt: j.createdAt };
 		}),
-		parent: rev.parentRevisionId ? await parentSummary(db, rev.parentRevisionId) : null,
+		parent,
 		/** Largest surface deviation a repair may introduce: half the target cell size (project units). */
 		repairTolerance: ctx.project.targetCellSize * 0.5
 	};
 }
 
-/** The parent's latest report, for the before/after comparison of a repair. */
-async function parentSummary(db: Db, parentId: number) {
-	const [p] = await db.select({ id: revision.id, number: revision.number, status: revision.status }).from(revision).where(eq(revision.id, parentId)).limit(1);
+/** The parent's latest report (when reports are asked for), for the before/after comparison of a repair. */
+async function parentSummary(db: Db, parentId: number, withReport: boolean) {
+	const [[p], [run]] = await Promise.all([
+		db.select({ id: revision.id, number: revision.number, status: revision.status }).from(revision).where(eq(revision.id, parentId)).limit(1),
+		withReport ? db.select({ report: checkRun.report }).from(checkRun).where(eq(checkRun.revisionId, parentId)).orderBy(desc(checkRun.id)).limit(1) : Promise.resolve([])
+	]);
 	if (!p) return null;
-	const [run] = await db.select({ report: checkRun.report }).from(checkRun).where(eq(checkRun.revisionId, parentId)).orderBy(desc(checkRun.id)).limit(1);
 	return { ...p, report: run ? (JSON.parse(run.report) as InspectionReport) : null };
 }
 

@@ -56,16 +56,9 @@ export interface ParallelSelfIntersectionOptions {
 	signal?: AbortSignal;
 }
 
-interface WorkerInput {
-	kind: 'shellgate-self-intersect';
-	/** Job id, echoed back so a late answer from an earlier job is never taken for this one. */
-	job: number;
-	/** Which of the `threads` workers of this job this one is. */
-	index: number;
-	threads: number;
-	faceCount: number;
+/** The shared buffers of one job; each may be larger than the job needs (see newScratch). */
+interface SharedBuffers {
 	positions: SharedArrayBuffer;
-	positionCount: number;
 	indices: SharedArrayBuffer;
 	/** Per face: 1 = nonzero area. */
 	live: SharedArrayBuffer;
@@ -81,6 +74,17 @@ interface WorkerInput {
 	nodeStart: SharedArrayBuffer;
 	nodeCount: SharedArrayBuffer;
 	nodeBounds: SharedArrayBuffer;
+}
+
+interface WorkerInput extends SharedBuffers {
+	kind: 'shellgate-self-intersect';
+	/** Job id, echoed back so a late answer from an earlier job is never taken for this one. */
+	job: number;
+	/** Which of the `threads` workers of this job this one is. */
+	index: number;
+	threads: number;
+	faceCount: number;
+	positionCount: number;
 	/** Int32: [0] next task, [1..4] barriers, [5] live face count, [6] BVH node count. */
 	control: SharedArrayBuffer;
 	sampleLimit: number;
@@ -217,22 +221,9 @@ export async function closeSelfIntersectPool(): Promise<void> {
 }
 
 /** Shared buffers of one call, each sized for `faces` faces (nodes for bvhMaxNodes) and `coords` coordinates. */
-interface SharedScratch {
+interface SharedScratch extends SharedBuffers {
 	faces: number;
 	coords: number;
-	positions: SharedArrayBuffer;
-	indices: SharedArrayBuffer;
-	live: SharedArrayBuffer;
-	rawCodes: SharedArrayBuffer;
-	sortedCodes: SharedArrayBuffer;
-	slotFace: SharedArrayBuffer;
-	faceOf: SharedArrayBuffer;
-	verts: SharedArrayBuffer;
-	box: SharedArrayBuffer;
-	nodeFirstChild: SharedArrayBuffer;
-	nodeStart: SharedArrayBuffer;
-	nodeCount: SharedArrayBuffer;
-	nodeBounds: SharedArrayBuffer;
 }
 
 /**
@@ -337,26 +328,17 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions): Sel
 		idxBuf = scratch.indices;
 		new Uint32Array(idxBuf, 0, mesh.indices.length).set(mesh.indices);
 	}
+	const { faces: _f, coords: _c, ...buffers } = scratch;
 	const data: WorkerInput = {
 		kind: 'shellgate-self-intersect',
 		job: nextJob++,
 		index: 0,
 		threads,
 		faceCount,
+		...buffers,
 		positions: posBuf,
 		positionCount: mesh.positions.length,
 		indices: idxBuf,
-		live: scratch.live,
-		rawCodes: scratch.rawCodes,
-		sortedCodes: scratch.sortedCodes,
-		slotFace: scratch.slotFace,
-		faceOf: scratch.faceOf,
-		verts: scratch.verts,
-		box: scratch.box,
-		nodeFirstChild: scratch.nodeFirstChild,
-		nodeStart: scratch.nodeStart,
-		nodeCount: scratch.nodeCount,
-		nodeBounds: scratch.nodeBounds,
 		control: new SharedArrayBuffer(4 * 8),
 		sampleLimit,
 		taskTarget: Math.max(DEFAULT_TASK_TARGET, 64 * threads)

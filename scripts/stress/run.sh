@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# npm run test:stress: load and fault runs against the built app on loopback, with a throwaway
+# npm run stress: load and fault runs against the built app on loopback, with a throwaway
 # MariaDB (its own port and temp directory). Not part of npm test: it takes several minutes.
 # STRESS_UPLOADS (10), STRESS_READERS (50), STRESS_SECONDS (bounded load duration) tune it.
 set -euo pipefail
@@ -14,7 +14,7 @@ cleanup() {
 	trap - EXIT
 	db_stop
 	[ "${STRESS_KEEP:-0}" = 1 ] || rm -rf "$TMP"
-	log "test:stress $([ "$rc" = 0 ] && echo passed || echo failed) (exit $rc)"
+	log "stress $([ "$rc" = 0 ] && echo passed || echo failed) (exit $rc)"
 	exit "$rc"
 }
 trap cleanup EXIT

@@ -1,4 +1,4 @@
-// Load and fault runs for `npm run test:stress` (started by scripts/stress/run.sh, which provides
+// Load and fault runs for `npm run stress` (started by scripts/stress/run.sh, which provides
 // MariaDB, migrations, demo data and the build). Everything on loopback, bounded in count and time.
 //   load:   STRESS_READERS connections on the queue page and on the revision API (autocannon) while
 //           STRESS_UPLOADS generator clients upload ~1 M-triangle binary STLs; every check must finish.
@@ -20,7 +20,7 @@ import { getStore } from '../../src/lib/server/storage';
 
 const env = (k: string) => {
 	const v = process.env[k];
-	if (!v) throw new Error(`${k} is not set: run this through npm run test:stress`);
+	if (!v) throw new Error(`${k} is not set: run this through npm run stress`);
 	return v;
 };
 const TMP = env('STRESS_TMP');

@@ -95,12 +95,19 @@ run_stage() {
 	return "$rc"
 }
 
-run_stage svelte-check npm run check || true
-run_stage vitest npx vitest run --passWithNoTests || true
+# TEST_STAGES narrows a local run (for example TEST_STAGES=e2e TEST_FILES=tests/triage.e2e.ts npm test);
+# CI leaves both unset and runs everything.
+STAGES_WANTED=${TEST_STAGES:-check unit e2e}
+want() { case " $STAGES_WANTED " in *" $1 "*) return 0 ;; *) return 1 ;; esac; }
+UNIT_FILES=() E2E_FILES=()
+for f in ${TEST_FILES:-}; do case $f in *.e2e.ts) E2E_FILES+=("$f") ;; *) UNIT_FILES+=("$f") ;; esac; done
+if want check; then run_stage svelte-check npm run check || true; fi
+if want unit; then run_stage vitest npx vitest run --passWithNoTests "${UNIT_FILES[@]}" || true; fi
+want e2e || { [ "${#FAILED[@]}" = 0 ] || { warn "failed: ${FAILED[*]}"; exit 1; }; exit 0; }
 # The end-to-end tests sign in as the demo users, so the demo data goes in after the integration tests.
 seed_demo() { if [ -f scripts/seed.ts ]; then run_ts scripts/seed.ts; else log "scripts/seed.ts not there yet"; fi; }
 if run_stage "vite build" vite_build --logLevel error && run_stage "demo data" seed_demo; then
-	run_stage playwright npx playwright test --pass-with-no-tests || true
+	run_stage playwright npx playwright test --pass-with-no-tests "${E2E_FILES[@]}" || true
 else
 	STAGES+=("$(printf '%-22s %6s    skipped (no build or no demo data)' playwright -)")
 	FAILED+=(playwright)

@@ -65,7 +65,7 @@ describe('wall thickness and gap per face', () => {
 	it('reads the gap g between two blocks side by side exactly (analytic: g = 0.05), and the blocks are 1 thick', () => {
 		const g = 0.05;
 		const m = concat(box([0, 0, 0], [1, 1, 1], 4), box([1 + g, 0, 0], [2 + g, 1, 1], 4));
-		const r = analyseCellSize(m, { cellSize: 0.1, thinCells: 1 });
+		const r = analyseCellSize(m, { cellSize: 0.1, thinCells: 1, maxDistance: Infinity });
 		expectClose(r.narrowGap.min, g, 1e-6, 'narrowest gap');
 		expect(r.narrowGap.flaggedFaces).toBe(2 * 32); // the two facing sides, 4 × 4 × 2 triangles each
 		expect(r.narrowGap.regionCount).toBe(2);

@@ -113,6 +113,7 @@ export class RayQuery {
 	/** Face hit by the last cast (−1 for none). */
 	hitFace = -1;
 	private readonly stack = new Int32Array(STACK_SIZE);
+	private readonly stackT = new Float64Array(STACK_SIZE);
 	private readonly minCos = Math.cos((THICKNESS_FACING_MAX_DEG * Math.PI) / 180);
 	constructor(readonly rb: RayBvh) {}
 
@@ -133,27 +134,31 @@ export class RayQuery {
 		const iz = Math.abs(dz) > 1e-300 ? 1 / dz : dz < 0 || Object.is(dz, -0) ? -1e300 : 1e300;
 		const minCos = this.minCos;
 		const stack = this.stack;
+		const stackT = this.stackT;
 		let best = tMax, bestSlot = -1;
 		let sp = 0;
-		stack[sp++] = 0;
+		{
+			// Root box: the only one tested when popped; children are tested when pushed and carry their entry distance.
+			let t0 = (bounds[0] - ox) * ix, t1 = (bounds[3] - ox) * ix;
+			let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
+			t0 = (bounds[1] - oy) * iy; t1 = (bounds[4] - oy) * iy;
+			lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+			t0 = (bounds[2] - oz) * iz; t1 = (bounds[5] - oz) * iz;
+			lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+			if (hi < lo || hi < 0 || lo > best) return Infinity;
+			stack[sp] = 0;
+			stackT[sp++] = lo;
+		}
 		while (sp > 0) {
-			const node = stack[--sp];
-			let o = 6 * node;
-			// Slab test again: the box may have been pushed before `best` shrank.
-			{
-				let t0 = (bounds[o] - ox) * ix, t1 = (bounds[o + 3] - ox) * ix;
-				let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
-				t0 = (bounds[o + 1] - oy) * iy; t1 = (bounds[o + 4] - oy) * iy;
-				lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
-				t0 = (bounds[o + 2] - oz) * iz; t1 = (bounds[o + 5] - oz) * iz;
-				lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
-				if (hi < lo || hi < 0 || lo > best) continue;
-			}
+			--sp;
+			// The box may have been pushed before `best` shrank.
+			if (stackT[sp] > best) continue;
+			const node = stack[sp];
 			const fc = firstChild[node];
 			if (fc >= 0) {
 				// Entry distances of both children; push the farther first so the nearer is opened next.
 				let ea = Infinity, eb = Infinity;
-				o = 6 * fc;
+				let o = 6 * fc;
 				{
 					let t0 = (bounds[o] - ox) * ix, t1 = (bounds[o + 3] - ox) * ix;
 					let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
@@ -175,11 +180,11 @@ export class RayQuery {
 				}
 				if (sp + 2 > STACK_SIZE) throw new Error('ray traversal stack overflow');
 				if (ea <= eb) {
-					if (eb !== Infinity) stack[sp++] = fc + 1;
-					if (ea !== Infinity) stack[sp++] = fc;
+					if (eb !== Infinity) { stack[sp] = fc + 1; stackT[sp++] = eb; }
+					if (ea !== Infinity) { stack[sp] = fc; stackT[sp++] = ea; }
 				} else {
-					if (ea !== Infinity) stack[sp++] = fc;
-					stack[sp++] = fc + 1;
+					if (ea !== Infinity) { stack[sp] = fc; stackT[sp++] = ea; }
+					stack[sp] = fc + 1; stackT[sp++] = eb;
 				}
 				continue;
 			}
@@ -246,8 +251,7 @@ export interface FaceDistances {
  */
 export function faceDistances(mesh: MeshBuffers, direction: 'inward' | 'outward', opts: FaceDistanceOptions): FaceDistances {
 	const t0 = performance.now();
-	const p = mesh.positions, idx = mesh.indices;
-	const n = (idx.length / 3) | 0;
+	const n = (mesh.indices.length / 3) | 0;
 	const rb = opts.rayBvh ?? buildRayBvh(mesh);
 	const q = new RayQuery(rb);
 	const tMax = opts.maxDistance ?? Infinity;
@@ -258,10 +262,12 @@ export function faceDistances(mesh: MeshBuffers, direction: 'inward' | 'outward'
 	const hitFace = new Int32Array(n).fill(-1);
 	const from = new Float64Array(3 * n).fill(NaN);
 	let rays = 0;
-	for (let t = 0, t3 = 0; t < n; t++, t3 += 3) {
-		const a = idx[t3], b = idx[t3 + 1], c = idx[t3 + 2];
-		const a3 = 3 * a, b3 = 3 * b, c3 = 3 * c;
-		const ax = p[a3], ay = p[a3 + 1], az = p[a3 + 2], bx = p[b3], by = p[b3 + 1], bz = p[b3 + 2], cx = p[c3], cy = p[c3 + 1], cz = p[c3 + 2];
+	const { verts, vids, faceOf } = rb;
+	// Faces in the BVH's Morton order: neighbouring rays open the same nodes, so memory stays warm.
+	for (let s = 0; s < n; s++) {
+		const t = faceOf[s], t3 = 3 * t, s3 = 3 * s, o9 = 9 * s;
+		const a = vids[s3], b = vids[s3 + 1], c = vids[s3 + 2];
+		const ax = verts[o9], ay = verts[o9 + 1], az = verts[o9 + 2], bx = verts[o9 + 3], by = verts[o9 + 4], bz = verts[o9 + 5], cx = verts[o9 + 6], cy = verts[o9 + 7], cz = verts[o9 + 8];
 		const e1x = bx - ax, e1y = by - ay, e1z = bz - az, e2x = cx - ax, e2y = cy - ay, e2z = cz - az;
 		let nx = e1y * e2z - e1z * e2y, ny = e1z * e2x - e1x * e2z, nz = e1x * e2y - e1y * e2x;
 		const len = Math.sqrt(nx * nx + ny * ny + nz * nz);
@@ -596,14 +602,19 @@ export interface CellSizeOptions {
 	/** Histogram bins of one cell each. Default 8. */
 	bins?: number;
 	maxRegions?: number;
-	/** Rays stop at this distance (model units); default Infinity. Set e.g. bins × cellSize to bound the cost. */
+	/**
+	 * Rays stop at this distance (model units). Default bins × cellSize, the histogram's range: a
+	 * wall or gap wider than that is no cell-size concern, and bounded rays cost less. Per-face
+	 * values beyond it read Infinity ("nothing within range"). Infinity measures everything.
+	 */
 	maxDistance?: number;
 }
 
 /** Everything the cell-size checks produce for one mesh. */
 export interface CellSizeResult {
 	cellSize: number;
-	/** Per-face wall thickness (inward) and gap (outward), Infinity where no hit. */
+	/** Per-face wall thickness (inward) and gap (outward), Infinity where no hit within maxDistance. */
+	maxDistance: number;
 	thickness: FaceDistances;
 	gap: FaceDistances;
 	wall: DistanceSummary;
@@ -623,7 +634,7 @@ export function analyseCellSize(mesh: MeshBuffers, opts: CellSizeOptions): CellS
 	const t0 = performance.now();
 	const rayBvh = buildRayBvh(mesh);
 	const t1 = performance.now();
-	const dOpts = { cellSize, maxDistance: opts.maxDistance, rayBvh };
+	const dOpts = { cellSize, maxDistance: opts.maxDistance ?? (opts.bins ?? 8) * cellSize, rayBvh };
 	const thickness = faceDistances(mesh, 'inward', dOpts);
 	const gap = faceDistances(mesh, 'outward', dOpts);
 	const t2 = performance.now();
@@ -638,6 +649,7 @@ export function analyseCellSize(mesh: MeshBuffers, opts: CellSizeOptions): CellS
 	const t3 = performance.now();
 	return {
 		cellSize,
+		maxDistance: dOpts.maxDistance,
 		thickness,
 		gap,
 		wall,

@@ -1,0 +1,94 @@
+/**
+ * Cell-size checks bench (thickness.ts): wall thickness, gap, longest and sharp edges on the
+ * marching-cubes tow bodies (seed 1) of about 100 k and 1 M triangles from bench-out/ (made by
+ * scripts/bench.ts; made here the same way when missing). Each size runs in its own child process
+ * so peak RSS is its own; the self-intersection count on this thread is timed beside it, the
+ * stage the cell-size checks are held against.
+ *
+ * Run alone: npx tsx scripts/bench-thickness.ts   (env BENCH_SIZES=100k,1m; CELL_SIZE in model units,
+ * default the bench mesh's marching-cubes cell × 4, i.e. a CFD grid four times coarser than the facets).
+ */
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { towBody } from '../src/lib/mesh/implicit-shapes';
+import { gridFor, marchingCubes } from '../src/lib/mesh/marching-cubes';
+import { readMesh } from '../src/lib/mesh/read';
+import { findSelfIntersections } from '../src/lib/mesh/self-intersect';
+import { analyseCellSize } from '../src/lib/mesh/thickness';
+import { writeBinaryStl } from '../src/lib/mesh/write';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+const outDir = join(root, 'bench-out');
+const TARGETS: Record<string, number> = { '100k': 100_000, '1m': 1_000_000 };
+
+function ensure(id: string): { file: string; cell: number } {
+	const file = join(outDir, `tow-body-${id}.stl`);
+	if (existsSync(file) && existsSync(file + '.json')) return { file, cell: JSON.parse(readFileSync(file + '.json', 'utf8')).cell };
+	mkdirSync(outDir, { recursive: true });
+	const shape = towBody(1);
+	const c0 = 0.04;
+	const t0 = marchingCubes(shape.field, gridFor(shape.min, shape.max, c0)).indices.length / 3;
+	const cell = c0 * Math.sqrt(t0 / TARGETS[id]);
+	const mesh = marchingCubes(shape.field, gridFor(shape.min, shape.max, cell));
+	writeFileSync(file, writeBinaryStl(mesh));
+	// Same meta as scripts/bench.ts writes, so it reuses the file (its GEN_VERSION is 2).
+	writeFileSync(file + '.json', JSON.stringify({ version: 2, shape: shape.name, seed: 1, cell, tris: mesh.indices.length / 3, genMs: 0 }));
+	return { file, cell };
+}
+
+function child(file: string, mcCell: number): void {
+	const mesh = readMesh(new Uint8Array(readFileSync(file)), file);
+	const cellSize = Number(process.env.CELL_SIZE ?? 4 * mcCell);
+	const c0 = process.cpuUsage();
+	const t0 = performance.now();
+	const r = analyseCellSize(mesh, { cellSize });
+	const wallMs = performance.now() - t0;
+	const c = process.cpuUsage(c0);
+	const rssAfterCellSize = process.resourceUsage().maxRSS / 1024;
+	const t1 = performance.now();
+	const si = findSelfIntersections(mesh);
+	const siMs = performance.now() - t1;
+	const out = {
+		tris: mesh.indices.length / 3,
+		cellSize,
+		wallMs,
+		cpuMs: (c.user + c.system) / 1000,
+		stages: r.timings,
+		rays: r.thickness.rays + r.gap.rays,
+		thinnest: r.wall.min,
+		narrowestGap: r.narrowGap.min,
+		thinFaces: r.wall.flaggedFaces,
+		gapFaces: r.narrowGap.flaggedFaces,
+		sharpEdges: r.sharp.verts.length / 2,
+		coarseAreaShare: r.longEdges.areaShareOver,
+		peakRssMB: rssAfterCellSize,
+		selfIntersectMs: siMs,
+		selfIntersectPairs: si.pairs
+	};
+	process.stdout.write(JSON.stringify(out) + '\n');
+}
+
+function main(): void {
+	if (process.argv[2] === '--one') return child(process.argv[3], Number(process.argv[4]));
+	const sizes = (process.env.BENCH_SIZES?.split(',') ?? Object.keys(TARGETS)).filter((s) => s in TARGETS);
+	const fmt = (ms: number) => (ms >= 100 ? ms.toFixed(0) : ms.toFixed(1));
+	// JSON turns Infinity (no hit anywhere) into null.
+	const num = (x: number | null) => (x === null ? 'none' : x.toPrecision(4));
+	console.log('| triangles | cell size | cell-size checks wall ms | CPU ms | stages (ms) | rays | peak RSS MB | self-intersections alone, same thread, ms | thinnest wall | narrowest gap |');
+	console.log('|---:|---:|---:|---:|---|---:|---:|---:|---:|---:|');
+	for (const id of sizes) {
+		const { file, cell } = ensure(id);
+		const res = spawnSync(process.execPath, [...process.execArgv, fileURLToPath(import.meta.url), '--one', file, String(cell)], { encoding: 'utf8', maxBuffer: 1 << 24 });
+		if (res.status !== 0) {
+			console.log(`${id}: failed\n${res.stderr}`);
+			continue;
+		}
+		const o = JSON.parse(res.stdout.trim().split('\n').pop()!);
+		const stages = Object.entries(o.stages as Record<string, number>).map(([k, v]) => `${k} ${fmt(v)}`).join(', ');
+		console.log(`| ${o.tris.toLocaleString('en')} | ${o.cellSize.toPrecision(3)} | ${fmt(o.wallMs)} | ${fmt(o.cpuMs)} | ${stages} | ${o.rays.toLocaleString('en')} | ${o.peakRssMB.toFixed(0)} | ${fmt(o.selfIntersectMs)} | ${num(o.thinnest)} | ${num(o.narrowestGap)} |`);
+	}
+}
+
+main();

@@ -56,7 +56,7 @@ function child(file: string, mcCell: number): void {
 		wallMs,
 		cpuMs: (c.user + c.system) / 1000,
 		stages: r.timings,
-		rays: r.thickness.rays + r.gap.rays,
+		rays: r.thickness.rays,
 		thinnest: r.wall.min,
 		narrowestGap: r.narrowGap.min,
 		thinFaces: r.wall.flaggedFaces,
@@ -76,7 +76,7 @@ function main(): void {
 	const fmt = (ms: number) => (ms >= 100 ? ms.toFixed(0) : ms.toFixed(1));
 	// JSON turns Infinity (no hit anywhere) into null.
 	const num = (x: number | null) => (x === null ? 'none' : x.toPrecision(4));
-	console.log('| triangles | cell size | cell-size checks wall ms | CPU ms | stages (ms) | rays | peak RSS MB | self-intersections alone, same thread, ms | thinnest wall | narrowest gap |');
+	console.log('| triangles | cell size | cell-size checks wall ms | CPU ms | stages (ms) | line queries (both ways) | peak RSS MB | self-intersections alone, same thread, ms | thinnest wall | narrowest gap |');
 	console.log('|---:|---:|---:|---:|---|---:|---:|---:|---:|---:|');
 	for (const id of sizes) {
 		const { file, cell } = ensure(id);

@@ -221,6 +221,132 @@ export class RayQuery {
 		this.hitFace = faceOf[bestSlot];
 		return best;
 	}
+
+	/** Results of the last castLine: nearest accepted hit ahead (+d) and behind (−d), distance and face. */
+	aheadT = Infinity;
+	aheadFace = -1;
+	behindT = Infinity;
+	behindFace = -1;
+	private readonly stackHi = new Float64Array(STACK_SIZE);
+
+	/**
+	 * Both ways along the line o + t·d in one traversal: the nearest hit ahead that enters a solid
+	 * (a gap when d is the outward normal) and the nearest hit behind that leaves one (the wall),
+	 * each by the rules of cast(); both ask n·d ≤ −cos 60°. The boxes near o, which every ray from
+	 * a surface point opens, are visited once instead of twice. Results in aheadT/aheadFace,
+	 * behindT/behindFace (Infinity, −1 for none within tMaxAhead / tMaxBehind).
+	 */
+	castLine(ox: number, oy: number, oz: number, dx: number, dy: number, dz: number, tMaxAhead: number, tMaxBehind: number, skipA: number, skipB: number, skipC: number): void {
+		const { bvh, verts, vids, faceOf, tMin } = this.rb;
+		const { firstChild, bounds, start, count } = bvh;
+		this.aheadT = this.behindT = Infinity;
+		this.aheadFace = this.behindFace = -1;
+		if (bvh.nodeCount === 0 || count[0] === 0) return;
+		const ix = Math.abs(dx) > 1e-300 ? 1 / dx : dx < 0 || Object.is(dx, -0) ? -1e300 : 1e300;
+		const iy = Math.abs(dy) > 1e-300 ? 1 / dy : dy < 0 || Object.is(dy, -0) ? -1e300 : 1e300;
+		const iz = Math.abs(dz) > 1e-300 ? 1 / dz : dz < 0 || Object.is(dz, -0) ? -1e300 : 1e300;
+		const minCos = this.minCos;
+		const stack = this.stack, sLo = this.stackT, sHi = this.stackHi;
+		// Signed search window (−behind, ahead); a box matters while its line interval overlaps it.
+		let ahead = tMaxAhead, behind = tMaxBehind, aheadSlot = -1, behindSlot = -1;
+		let sp = 0;
+		{
+			let t0 = (bounds[0] - ox) * ix, t1 = (bounds[3] - ox) * ix;
+			let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
+			t0 = (bounds[1] - oy) * iy; t1 = (bounds[4] - oy) * iy;
+			lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+			t0 = (bounds[2] - oz) * iz; t1 = (bounds[5] - oz) * iz;
+			lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+			if (hi < lo || lo > ahead || hi < -behind) return;
+			stack[sp] = 0; sLo[sp] = lo; sHi[sp++] = hi;
+		}
+		while (sp > 0) {
+			--sp;
+			if (sLo[sp] > ahead || sHi[sp] < -behind) continue;
+			const node = stack[sp];
+			const fc = firstChild[node];
+			if (fc >= 0) {
+				// Push the child farther from o first (distance from 0 to its interval).
+				let loA = 0, hiA = 0, loB = 0, hiB = 0, okA = false, okB = false;
+				let o = 6 * fc;
+				{
+					let t0 = (bounds[o] - ox) * ix, t1 = (bounds[o + 3] - ox) * ix;
+					let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
+					t0 = (bounds[o + 1] - oy) * iy; t1 = (bounds[o + 4] - oy) * iy;
+					lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+					t0 = (bounds[o + 2] - oz) * iz; t1 = (bounds[o + 5] - oz) * iz;
+					lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+					if (hi >= lo && lo <= ahead && hi >= -behind) { okA = true; loA = lo; hiA = hi; }
+				}
+				o += 6;
+				{
+					let t0 = (bounds[o] - ox) * ix, t1 = (bounds[o + 3] - ox) * ix;
+					let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
+					t0 = (bounds[o + 1] - oy) * iy; t1 = (bounds[o + 4] - oy) * iy;
+					lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+					t0 = (bounds[o + 2] - oz) * iz; t1 = (bounds[o + 5] - oz) * iz;
+					lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+					if (hi >= lo && lo <= ahead && hi >= -behind) { okB = true; loB = lo; hiB = hi; }
+				}
+				if (sp + 2 > STACK_SIZE) throw new Error('ray traversal stack overflow');
+				const dA = loA > 0 ? loA : hiA < 0 ? -hiA : 0, dB = loB > 0 ? loB : hiB < 0 ? -hiB : 0;
+				if (okA && okB) {
+					if (dA <= dB) {
+						stack[sp] = fc + 1; sLo[sp] = loB; sHi[sp++] = hiB;
+						stack[sp] = fc; sLo[sp] = loA; sHi[sp++] = hiA;
+					} else {
+						stack[sp] = fc; sLo[sp] = loA; sHi[sp++] = hiA;
+						stack[sp] = fc + 1; sLo[sp] = loB; sHi[sp++] = hiB;
+					}
+				} else if (okA) {
+					stack[sp] = fc; sLo[sp] = loA; sHi[sp++] = hiA;
+				} else if (okB) {
+					stack[sp] = fc + 1; sLo[sp] = loB; sHi[sp++] = hiB;
+				}
+				continue;
+			}
+			for (let s = start[node], end = s + count[node]; s < end; s++) {
+				const o9 = 9 * s;
+				const ax = verts[o9], ay = verts[o9 + 1], az = verts[o9 + 2];
+				const e1x = verts[o9 + 3] - ax, e1y = verts[o9 + 4] - ay, e1z = verts[o9 + 5] - az;
+				const e2x = verts[o9 + 6] - ax, e2y = verts[o9 + 7] - ay, e2z = verts[o9 + 8] - az;
+				const px = dy * e2z - dz * e2y, py = dz * e2x - dx * e2z, pz = dx * e2y - dy * e2x;
+				const det = e1x * px + e1y * py + e1z * pz;
+				// n·d = −det must be ≤ −cos 60° · |n| on both sides: a cheap sign test first.
+				if (det <= 0) continue;
+				const inv = 1 / det;
+				const qx = ox - ax, qy = oy - ay, qz = oz - az;
+				const u = (qx * px + qy * py + qz * pz) * inv;
+				if (u < 0 || u > 1) continue;
+				const rx = qy * e1z - qz * e1y, ry = qz * e1x - qx * e1z, rz = qx * e1y - qy * e1x;
+				const v = (dx * rx + dy * ry + dz * rz) * inv;
+				if (v < 0 || u + v > 1) continue;
+				const t = (e2x * rx + e2y * ry + e2z * rz) * inv;
+				const at = t < 0 ? -t : t;
+				if (at < tMin || (t > 0 ? t >= ahead : at >= behind)) continue;
+				const s3 = 3 * s;
+				const va = vids[s3], vb = vids[s3 + 1], vc = vids[s3 + 2];
+				if (va === skipA || va === skipB || va === skipC || vb === skipA || vb === skipB || vb === skipC || vc === skipA || vc === skipB || vc === skipC) continue;
+				const nx = e1y * e2z - e1z * e2y, ny = e1z * e2x - e1x * e2z, nz = e1x * e2y - e1y * e2x;
+				if (det < minCos * Math.sqrt(nx * nx + ny * ny + nz * nz)) continue;
+				if (t > 0) {
+					ahead = t;
+					aheadSlot = s;
+				} else {
+					behind = at;
+					behindSlot = s;
+				}
+			}
+		}
+		if (aheadSlot >= 0) {
+			this.aheadT = ahead;
+			this.aheadFace = faceOf[aheadSlot];
+		}
+		if (behindSlot >= 0) {
+			this.behindT = behind;
+			this.behindFace = faceOf[behindSlot];
+		}
+	}
 }
 
 export interface FaceDistanceOptions {
@@ -297,6 +423,65 @@ export function faceDistances(mesh: MeshBuffers, direction: 'inward' | 'outward'
 		}
 	}
 	return { value, hitFace, from, rays, ms: performance.now() - t0 };
+}
+
+function emptyDistances(n: number): FaceDistances {
+	return { value: new Float32Array(n).fill(Infinity), hitFace: new Int32Array(n).fill(-1), from: new Float64Array(3 * n).fill(NaN), rays: 0, ms: 0 };
+}
+
+/**
+ * Wall thickness and gap of every face in one pass: one line query per sample along the normal
+ * (RayQuery.castLine), the same values as faceDistances 'inward' and 'outward'. `rays` counts
+ * line queries (each serves both); `ms` of each result is the shared time.
+ */
+export function faceDistancesBoth(mesh: MeshBuffers, opts: FaceDistanceOptions): { thickness: FaceDistances; gap: FaceDistances } {
+	const t0 = performance.now();
+	const n = (mesh.indices.length / 3) | 0;
+	const rb = opts.rayBvh ?? buildRayBvh(mesh);
+	const q = new RayQuery(rb);
+	const tMax = opts.maxDistance ?? Infinity;
+	const cell2 = opts.cellSize * opts.cellSize;
+	const th = emptyDistances(n), gp = emptyDistances(n);
+	let rays = 0;
+	const { verts, vids, faceOf } = rb;
+	for (let s = 0; s < n; s++) {
+		const t = faceOf[s], t3 = 3 * t, s3 = 3 * s, o9 = 9 * s;
+		const a = vids[s3], b = vids[s3 + 1], c = vids[s3 + 2];
+		const ax = verts[o9], ay = verts[o9 + 1], az = verts[o9 + 2], bx = verts[o9 + 3], by = verts[o9 + 4], bz = verts[o9 + 5], cx = verts[o9 + 6], cy = verts[o9 + 7], cz = verts[o9 + 8];
+		const e1x = bx - ax, e1y = by - ay, e1z = bz - az, e2x = cx - ax, e2y = cy - ay, e2z = cz - az;
+		let nx = e1y * e2z - e1z * e2y, ny = e1z * e2x - e1x * e2z, nz = e1x * e2y - e1y * e2x;
+		const len = Math.sqrt(nx * nx + ny * ny + nz * nz);
+		if (!(len > 0)) continue;
+		nx /= len; ny /= len; nz /= len;
+		const gx = (ax + bx + cx) / 3, gy = (ay + by + cy) / 3, gz = (az + bz + cz) / 3;
+		q.castLine(gx, gy, gz, nx, ny, nz, tMax, tMax, a, b, c);
+		rays++;
+		let gT = q.aheadT, gF = q.aheadFace, gX = gx, gY = gy, gZ = gz;
+		let wT = q.behindT, wF = q.behindFace, wX = gx, wY = gy, wZ = gz;
+		const e3x = cx - bx, e3y = cy - by, e3z = cz - bz;
+		const longest2 = Math.max(e1x * e1x + e1y * e1y + e1z * e1z, e2x * e2x + e2y * e2y + e2z * e2z, e3x * e3x + e3y * e3y + e3z * e3z);
+		if (longest2 > cell2) {
+			for (let k = 0; k < 3; k++) {
+				const vx = k === 0 ? ax : k === 1 ? bx : cx, vy = k === 0 ? ay : k === 1 ? by : cy, vz = k === 0 ? az : k === 1 ? bz : cz;
+				const sx = (gx + vx) / 2, sy = (gy + vy) / 2, sz = (gz + vz) / 2;
+				q.castLine(sx, sy, sz, nx, ny, nz, Math.min(tMax, gT), Math.min(tMax, wT), a, b, c);
+				rays++;
+				if (q.aheadT < gT) { gT = q.aheadT; gF = q.aheadFace; gX = sx; gY = sy; gZ = sz; }
+				if (q.behindT < wT) { wT = q.behindT; wF = q.behindFace; wX = sx; wY = sy; wZ = sz; }
+			}
+		}
+		if (gF >= 0) {
+			gp.value[t] = gT; gp.hitFace[t] = gF;
+			gp.from[t3] = gX; gp.from[t3 + 1] = gY; gp.from[t3 + 2] = gZ;
+		}
+		if (wF >= 0) {
+			th.value[t] = wT; th.hitFace[t] = wF;
+			th.from[t3] = wX; th.from[t3 + 1] = wY; th.from[t3 + 2] = wZ;
+		}
+	}
+	th.rays = gp.rays = rays;
+	th.ms = gp.ms = performance.now() - t0;
+	return { thickness: th, gap: gp };
 }
 
 /** An edge-connected group of flagged faces. */
@@ -621,7 +806,7 @@ export interface CellSizeResult {
 	narrowGap: DistanceSummary;
 	longEdges: LongEdgeSummary;
 	sharp: SharpEdges;
-	timings: { buildBvh: number; thickness: number; gap: number; summaries: number };
+	timings: { buildBvh: number; rays: number; summaries: number };
 }
 
 /**
@@ -635,8 +820,7 @@ export function analyseCellSize(mesh: MeshBuffers, opts: CellSizeOptions): CellS
 	const rayBvh = buildRayBvh(mesh);
 	const t1 = performance.now();
 	const dOpts = { cellSize, maxDistance: opts.maxDistance ?? (opts.bins ?? 8) * cellSize, rayBvh };
-	const thickness = faceDistances(mesh, 'inward', dOpts);
-	const gap = faceDistances(mesh, 'outward', dOpts);
+	const { thickness, gap } = faceDistancesBoth(mesh, dOpts);
 	const t2 = performance.now();
 	const areas = faceAreas(mesh);
 	const edges = buildEdges(mesh.indices, mesh.positions.length / 3);
@@ -656,6 +840,6 @@ export function analyseCellSize(mesh: MeshBuffers, opts: CellSizeOptions): CellS
 		narrowGap,
 		longEdges: le,
 		sharp,
-		timings: { buildBvh: t1 - t0, thickness: thickness.ms, gap: gap.ms, summaries: t3 - t2 }
+		timings: { buildBvh: t1 - t0, rays: t2 - t1, summaries: t3 - t2 }
 	};
 }

@@ -184,3 +184,16 @@ describe('longest edges and sharp edges against the cell size', () => {
 		expect(sharpEdges(icosphere(3)).verts.length).toBe(0);
 	});
 });
+
+describe('wall thickness and gap on worker threads', () => {
+	it('gives the same values as one thread on a torus and a shell (2 threads)', async () => {
+		const { faceDistancesBothParallel } = await import('./thickness-node');
+		const inner0 = icosphere(3, 0.8);
+		const m = concat(torus(200, 120, 2, 0.4), icosphere(3, 1), flipFaces(inner0, allFaces(inner0)));
+		const one = faceDistancesBoth(m, { cellSize: 0.1 });
+		const two = await faceDistancesBothParallel(m, { cellSize: 0.1, threads: 2 });
+		expect(Array.from(two.thickness.value)).toEqual(Array.from(one.thickness.value));
+		expect(Array.from(two.gap.value)).toEqual(Array.from(one.gap.value));
+		expect(Array.from(two.thickness.hitFace)).toEqual(Array.from(one.thickness.hitFace));
+	});
+});

@@ -438,13 +438,27 @@ export function faceDistancesBoth(mesh: MeshBuffers, opts: FaceDistanceOptions):
 	const t0 = performance.now();
 	const n = (mesh.indices.length / 3) | 0;
 	const rb = opts.rayBvh ?? buildRayBvh(mesh);
-	const q = new RayQuery(rb);
-	const tMax = opts.maxDistance ?? Infinity;
-	const cell2 = opts.cellSize * opts.cellSize;
 	const th = emptyDistances(n), gp = emptyDistances(n);
+	const rays = distancesBothRange(rb, 0, n, opts.cellSize, opts.maxDistance ?? Infinity, th, gp);
+	th.rays = gp.rays = rays;
+	th.ms = gp.ms = performance.now() - t0;
+	return { thickness: th, gap: gp };
+}
+
+/** Per-face output arrays of one direction, e.g. views of shared memory filled by several threads. */
+export type DistanceArrays = Pick<FaceDistances, 'value' | 'hitFace' | 'from'>;
+
+/**
+ * The work of faceDistancesBoth for the faces in BVH slots [s0, s1): writes their entries of
+ * th (wall) and gp (gap), which must start as Infinity / −1 / NaN. Slots are disjoint per face,
+ * so threads taking disjoint slot ranges write disjoint entries. Returns the line queries cast.
+ */
+export function distancesBothRange(rb: RayBvh, s0: number, s1: number, cellSize: number, tMax: number, th: DistanceArrays, gp: DistanceArrays): number {
+	const q = new RayQuery(rb);
+	const cell2 = cellSize * cellSize;
 	let rays = 0;
 	const { verts, vids, faceOf } = rb;
-	for (let s = 0; s < n; s++) {
+	for (let s = s0; s < s1; s++) {
 		const t = faceOf[s], t3 = 3 * t, s3 = 3 * s, o9 = 9 * s;
 		const a = vids[s3], b = vids[s3 + 1], c = vids[s3 + 2];
 		const ax = verts[o9], ay = verts[o9 + 1], az = verts[o9 + 2], bx = verts[o9 + 3], by = verts[o9 + 4], bz = verts[o9 + 5], cx = verts[o9 + 6], cy = verts[o9 + 7], cz = verts[o9 + 8];
@@ -479,9 +493,7 @@ export function faceDistancesBoth(mesh: MeshBuffers, opts: FaceDistanceOptions):
 			th.from[t3] = wX; th.from[t3 + 1] = wY; th.from[t3 + 2] = wZ;
 		}
 	}
-	th.rays = gp.rays = rays;
-	th.ms = gp.ms = performance.now() - t0;
-	return { thickness: th, gap: gp };
+	return rays;
 }
 
 /** An edge-connected group of flagged faces. */

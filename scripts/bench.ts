@@ -152,7 +152,8 @@ function main(): void {
 /** Benchmarks kept in scripts of their own, run as child processes after the table above. */
 const EXTRA_SCRIPTS: { name: string; file: string; what: string }[] = [
 	{ name: 'readers', file: 'scripts/bench-readers.ts', what: 'file readers at 1M triangles (binary STL, binary PLY, OBJ, and @loaders.gl/ply for comparison)' },
-	{ name: 'repair', file: 'scripts/bench-repair.ts', what: 'the standard repair recipe on a 1M-triangle tow body with injected defects' }
+	{ name: 'repair', file: 'scripts/bench-repair.ts', what: 'the standard repair recipe on a 1M-triangle tow body with injected defects' },
+	{ name: 'thickness', file: 'scripts/bench-thickness.ts', what: 'cell-size checks (wall thickness, gap, longest and sharp edges) at 100k and 1M triangles' }
 ];
 
 main();

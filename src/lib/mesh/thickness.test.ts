@@ -195,5 +195,12 @@ describe('wall thickness and gap on worker threads', () => {
 		expect(Array.from(two.thickness.value)).toEqual(Array.from(one.thickness.value));
 		expect(Array.from(two.gap.value)).toEqual(Array.from(one.gap.value));
 		expect(Array.from(two.thickness.hitFace)).toEqual(Array.from(one.thickness.hitFace));
+		// Summaries from the threaded measure are those of the one-call path.
+		const opts = { cellSize: 0.1, maxDistance: Infinity };
+		const direct = analyseCellSize(m, opts);
+		const given = analyseCellSize(m, { ...opts, distances: two });
+		expect(given.wall.min).toBe(direct.wall.min);
+		expect(given.narrowGap.flaggedFaces).toBe(direct.narrowGap.flaggedFaces);
+		expect(given.wall.regionCount).toBe(direct.wall.regionCount);
 	});
 });

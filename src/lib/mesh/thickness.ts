@@ -805,6 +805,13 @@ export interface CellSizeOptions {
 	 * values beyond it read Infinity ("nothing within range"). Infinity measures everything.
 	 */
 	maxDistance?: number;
+	/** The mesh's edge table when the caller has one already (topology builds the same). */
+	edges?: EdgeTable;
+	/**
+	 * Wall and gap measured already (thickness-node.ts faceDistancesBothParallel, with the same
+	 * cellSize and maxDistance): the ray stage is skipped and only the summaries are made.
+	 */
+	distances?: { thickness: FaceDistances; gap: FaceDistances };
 }
 
 /** Everything the cell-size checks produce for one mesh. */
@@ -821,6 +828,11 @@ export interface CellSizeResult {
 	timings: { buildBvh: number; rays: number; summaries: number };
 }
 
+/** The ray range analyseCellSize uses for these options (pass it to the parallel measure too). */
+export function cellSizeMaxDistance(opts: Pick<CellSizeOptions, 'cellSize' | 'bins' | 'maxDistance'>): number {
+	return opts.maxDistance ?? (opts.bins ?? 8) * opts.cellSize;
+}
+
 /**
  * The cell-size checks in one call: one BVH and one edge table shared by all measures.
  * Throws on a cell size that is not a positive finite number.
@@ -828,14 +840,14 @@ export interface CellSizeResult {
 export function analyseCellSize(mesh: MeshBuffers, opts: CellSizeOptions): CellSizeResult {
 	const cellSize = opts.cellSize;
 	if (!(cellSize > 0) || !Number.isFinite(cellSize)) throw new Error(`Cell size must be a positive number (got ${cellSize}).`);
+	const maxDistance = cellSizeMaxDistance(opts);
 	const t0 = performance.now();
-	const rayBvh = buildRayBvh(mesh);
+	const rayBvh = opts.distances ? undefined : buildRayBvh(mesh);
 	const t1 = performance.now();
-	const dOpts = { cellSize, maxDistance: opts.maxDistance ?? (opts.bins ?? 8) * cellSize, rayBvh };
-	const { thickness, gap } = faceDistancesBoth(mesh, dOpts);
+	const { thickness, gap } = opts.distances ?? faceDistancesBoth(mesh, { cellSize, maxDistance, rayBvh });
 	const t2 = performance.now();
 	const areas = faceAreas(mesh);
-	const edges = buildEdges(mesh.indices, mesh.positions.length / 3);
+	const edges = opts.edges ?? buildEdges(mesh.indices, mesh.positions.length / 3);
 	const threshold = (opts.thinCells ?? 2) * cellSize;
 	const sOpts = { cellSize, threshold, bins: opts.bins, maxRegions: opts.maxRegions, areas, edges };
 	const wall = summariseDistances(mesh, thickness, sOpts);
@@ -845,7 +857,7 @@ export function analyseCellSize(mesh: MeshBuffers, opts: CellSizeOptions): CellS
 	const t3 = performance.now();
 	return {
 		cellSize,
-		maxDistance: dOpts.maxDistance,
+		maxDistance,
 		thickness,
 		gap,
 		wall,

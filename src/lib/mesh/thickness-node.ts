@@ -34,6 +34,7 @@ interface SharedJob {
 	faceOf: SharedArrayBuffer;
 	verts: SharedArrayBuffer;
 	vids: SharedArrayBuffer;
+	normals: SharedArrayBuffer;
 	out: { th: [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer]; gp: [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer] };
 	counter: SharedArrayBuffer;
 }
@@ -63,6 +64,7 @@ function viewJob(job: SharedJob): { rb: RayBvh; th: DistanceArrays; gp: Distance
 		faceOf: new Uint32Array(job.faceOf),
 		verts: new Float64Array(job.verts),
 		vids: new Uint32Array(job.vids),
+		normals: new Float32Array(job.normals),
 		tMin: job.tMin
 	};
 	const view = (b: [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer]): DistanceArrays => ({ value: new Float32Array(b[0]), hitFace: new Int32Array(b[1]), from: new Float64Array(b[2]) });
@@ -107,6 +109,7 @@ export async function faceDistancesBothParallel(mesh: MeshBuffers, opts: Paralle
 		faceOf: share(rb.faceOf),
 		verts: share(rb.verts),
 		vids: share(rb.vids),
+		normals: share(rb.normals),
 		out: { th: th.bufs, gp: gp.bufs },
 		counter: new SharedArrayBuffer(4)
 	};

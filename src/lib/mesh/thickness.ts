@@ -454,7 +454,10 @@ export function faceDistancesBoth(mesh: MeshBuffers, opts: FaceDistanceOptions):
 	const n = (mesh.indices.length / 3) | 0;
 	const rb = opts.rayBvh ?? buildRayBvh(mesh);
 	const th = emptyDistances(n), gp = emptyDistances(n);
-	const rays = distancesBothRange(rb, 0, n, opts.cellSize, opts.maxDistance ?? Infinity, th, gp);
+	// In chunks: a short function called often is compiled whole by the JIT, where one long loop
+	// runs in an on-stack-replaced version that measured up to twice as slow on a cold process.
+	let rays = 0;
+	for (let s0 = 0; s0 < n; s0 += 4096) rays += distancesBothRange(rb, s0, Math.min(n, s0 + 4096), opts.cellSize, opts.maxDistance ?? Infinity, th, gp);
 	th.rays = gp.rays = rays;
 	th.ms = gp.ms = performance.now() - t0;
 	return { thickness: th, gap: gp };

@@ -22,8 +22,10 @@
  *    met side-on) and grazing hits on curved neighbours, while V-notches tighter than 60° count.
  *  - A face with zero area is not measured (Infinity).
  *
- * Cost: O(F log F) to build the BVH (bvh.ts, Morton order), then one closest-hit traversal per
- * ray, near child first. Memory about 130 bytes per face on top of the mesh.
+ * Cost: O(F log F) to build the BVH (bvh.ts, Morton order), then per sample one traversal that
+ * looks both ways along the normal (RayQuery.castLine), the child nearer the origin first. Memory
+ * about 200 bytes per face on top of the mesh (ray BVH ~135, per-face results of both ways ~64).
+ * Figures: `npm run bench` (scripts/bench-thickness.ts).
  */
 import { buildBvhSorted, f32Down, f32Up, morton3, mortonScale, sortByCode, type FlatBvh } from './bvh';
 import { buildEdges, type EdgeTable } from './edges';

@@ -1,8 +1,8 @@
-import { eq } from 'drizzle-orm';
+import { eq, inArray } from 'drizzle-orm';
 import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { getDb } from '../db';
 import { auditEvent, checkRun, job, revision, ruleResult } from '../db/schema';
 import { useFreshDatabase } from '../testing/db';
@@ -20,6 +20,13 @@ beforeAll(async () => {
 	users = await seededUsers(getDb());
 });
 afterAll(() => drop());
+// Each test starts with an empty queue, whatever an earlier test (or a failed one) left in it.
+beforeEach(async () => {
+	await getDb()
+		.update(job)
+		.set({ status: 'done', workerId: null, leaseUntil: null })
+		.where(inArray(job.status, ['queued', 'running']));
+});
 
 /** Claims and processes jobs until the queue is empty. */
 async function drain(workerId = 'test-worker') {
@@ -43,7 +50,7 @@ describe('check jobs on the real MariaDB', () => {
 		);
 		expect(claimed).toHaveLength(10);
 		expect(new Set(claimed).size).toBe(10);
-		// Leave them for the next tests to retry: make them claimable again at once.
+		// Make them claimable again at once and process them all.
 		await db.update(job).set({ status: 'queued', attempts: 0, workerId: null });
 		await drain();
 		const rows = await db.select({ status: revision.status }).from(revision);
@@ -105,4 +112,5 @@ describe('check jobs on the real MariaDB', () => {
 		expect(await db.select().from(revision).where(eq(revision.sha256, (await db.select().from(revision).where(eq(revision.id, a.revisionId)))[0].sha256))).toHaveLength(1);
 		await drain();
 	});
+
 });

@@ -5,6 +5,7 @@ import path from 'node:path';
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { getDb } from '../db';
 import { auditEvent, checkRun, job, revision, ruleResult } from '../db/schema';
+import { getStore } from '../storage';
 import { useFreshDatabase } from '../testing/db';
 import { fixture, seededUsers, uploadBytes } from '../testing/fixtures';
 import { processCheckJob } from './check';
@@ -113,4 +114,22 @@ describe('check jobs on the real MariaDB', () => {
 		await drain();
 	});
 
+	it('a check whose stored file is missing ends unreadable with a reason that names no server path', async () => {
+		const db = getDb();
+		const base = new TextDecoder().decode(fixture('cube-closed-ascii.stl'));
+		const up = await uploadBytes(db, users.designer, new TextEncoder().encode(base + '\n\n\n\n\n\n\n\n\n\n\n\n'), 'lost.stl', 'sensor-pods', 'lost-pod');
+		const [r0] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
+		await getStore().delete(r0.sha256);
+		const outcomes = await drain();
+		expect(outcomes.length).toBeGreaterThan(0);
+		const [rev] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
+		expect(rev.status).toBe('unreadable');
+		expect(rev.statusReason).toMatch(/the stored file is missing/);
+		const [j] = await db.select().from(job).where(eq(job.revisionId, up.revisionId));
+		const audits = await db.select().from(auditEvent).where(eq(auditEvent.entityId, String(up.revisionId)));
+		for (const text of [rev.statusReason ?? '', j.lastError ?? '', JSON.stringify(audits.map((a) => a.detail ?? null))]) {
+			expect(text).not.toContain(process.env.SHELLGATE_DATA_DIR!);
+			expect(text).not.toMatch(/ENOENT|\/tmp\//);
+		}
+	});
 });

@@ -8,7 +8,7 @@ import { gateProfile, part, project, team, user, userRole, type Role } from '../
 import { DEFAULT_GATE_RULES, type GateRules } from '../src/lib/gate/profile';
 import { loadSessionUser } from '../src/lib/server/auth';
 import { revision } from '../src/lib/server/db/schema';
-import { ingestRevision } from '../src/lib/server/revisions';
+import { ingestRevision } from '../src/lib/server/ingest';
 import { spool } from '../src/lib/server/storage';
 import { demoUploads } from './demo-meshes';
 

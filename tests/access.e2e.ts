@@ -340,7 +340,9 @@ test('wrong types, missing fields, over-long strings and unknown ids get a 4xx w
 		['upload with bad part slug', () => eng.post('/api/v1/projects/sensor-pods/parts/BAD%20SLUG!/revisions', { headers: { origin: baseURL }, multipart: { file: { name: 'x.stl', mimeType: 'application/octet-stream', buffer: readFileSync('fixtures/cube-closed.stl') } } })],
 		['upload HTML as .stl', () => eng.post('/api/v1/projects/sensor-pods/parts/side-scan-pod/revisions', { headers: { origin: baseURL }, multipart: { file: { name: 'x.stl', mimeType: 'text/html', buffer: Buffer.from('<html><script>alert(1)</script></html>') } } })],
 		['upload over-long note', () => eng.post('/api/v1/projects/sensor-pods/parts/side-scan-pod/revisions', { headers: { origin: baseURL }, multipart: { note: long, file: { name: 'x.stl', mimeType: 'application/octet-stream', buffer: Buffer.from('<html>') } } })],
-		['export unknown format', () => eng.get(`/api/v1/revisions/${revId}/export?format=%00%ff`)]
+		['export unknown format', () => eng.get(`/api/v1/revisions/${revId}/export?format=%00%ff`)],
+		['export format an inherited key', () => eng.get(`/api/v1/revisions/${revId}/export?format=constructor`)],
+		['export format another inherited key', () => eng.get(`/api/v1/revisions/${revId}/export?format=__proto__`)]
 	];
 	const wrong: string[] = [];
 	for (const [what, run] of api) {
@@ -352,8 +354,8 @@ test('wrong types, missing fields, over-long strings and unknown ids get a 4xx w
 		} catch {
 			/* not JSON */
 		}
-		// The export route may answer 200 with a default format; everything else must refuse.
-		if (!(r.status() >= 400 && r.status() < 500 && message) && !(what.startsWith('export') && r.status() === 200)) wrong.push(`${what}: ${r.status()} ${text.slice(0, 120)}`);
+		if (!(r.status() >= 400 && r.status() < 500 && message)) wrong.push(`${what}: ${r.status()} ${text.slice(0, 120)}`);
+		else if (what.startsWith('export') && r.status() !== 400) wrong.push(`${what}: ${r.status()}, not 400`);
 		figures.badInputs++;
 	}
 	const forms: [string, string, Record<string, string>][] = [

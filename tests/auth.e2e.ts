@@ -69,3 +69,32 @@ test('an invitation mail arrives and its link sets a password that then works', 
 	await expect(page.getByTestId('whoami')).toHaveText('Noor Hydro');
 	await page.screenshot({ path: shot('queue-after-invite'), fullPage: true });
 });
+
+test('People & roles keeps every role ticked through repeated saves', async ({ page }) => {
+	const email = `pod-designer-${Date.now()}@example.test`;
+	await signInAs(page, 'admin');
+	await page.goto('/admin/users');
+	await page.getByLabel('Name').fill('Pia Designer');
+	await page.getByLabel('E-mail').fill(email);
+	await page.getByRole('checkbox', { name: /^designer/ }).last().check();
+	await page.getByRole('button', { name: 'Send invitation' }).click();
+	await expect(page.getByRole('status')).toContainText(`Invitation sent to ${email}`);
+
+	const row = page.getByRole('row').filter({ hasText: email });
+	const box = (r: string) => row.getByRole('checkbox', { name: r, exact: true });
+	await expect(box('designer')).toBeChecked();
+	await box('reviewer').check();
+	for (let save = 1; save <= 3; save++) {
+		await row.getByRole('button', { name: 'Save' }).click();
+		await expect(row.getByText('saved')).toBeVisible();
+		await expect(box('designer'), `after save ${save}`).toBeChecked();
+		await expect(box('reviewer'), `after save ${save}`).toBeChecked();
+		await expect(box('admin')).not.toBeChecked();
+		await expect(box('engineer')).not.toBeChecked();
+	}
+	// What the server holds, seen on a fresh load.
+	await page.reload();
+	await expect(box('designer')).toBeChecked();
+	await expect(box('reviewer')).toBeChecked();
+	await page.screenshot({ path: shot('admin-roles-kept'), fullPage: true });
+});

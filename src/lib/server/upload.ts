@@ -18,6 +18,48 @@ export interface Received {
 
 export const MAX_FILES_PER_REQUEST = 50;
 
+/** How much of a refused body is still read (and thrown away), and for how long, so the refusal reaches the client. */
+const DRAIN_BYTES = 64 * 1024 * 1024;
+const DRAIN_MS = 10_000;
+
+/**
+ * The request body, except that stopping to read it does not reset the connection. The Node adapter
+ * destroys the socket when a body stream is cancelled, and a client still sending (a chunked body
+ * with no Content-Length, which cannot be refused up front) would then see a reset instead of the
+ * 413. Here a cancel keeps reading and discarding the rest in the background, up to a bound, so the
+ * response goes out first; only a body longer than that is cut off.
+ */
+export function refusableBody(body: ReadableStream<Uint8Array>): ReadableStream<Uint8Array> {
+	const reader = body.getReader();
+	return new ReadableStream<Uint8Array>({
+		async pull(controller) {
+			const { done, value } = await reader.read();
+			if (done) controller.close();
+			else controller.enqueue(value);
+		},
+		cancel() {
+			void (async () => {
+				let drained = 0;
+				const until = Date.now() + DRAIN_MS;
+				const timer = setTimeout(() => void reader.cancel().catch(() => {}), DRAIN_MS);
+				timer.unref?.();
+				try {
+					while (drained < DRAIN_BYTES && Date.now() < until) {
+						const { done, value } = await reader.read();
+						if (done) return;
+						drained += value.byteLength;
+					}
+					await reader.cancel();
+				} catch {
+					// The client went away; nothing to drain.
+				} finally {
+					clearTimeout(timer);
+				}
+			})();
+		}
+	});
+}
+
 export async function receiveMultipart(request: Request, limitBytes: number): Promise<Received> {
 	const type = request.headers.get('content-type') ?? '';
 	if (!type.toLowerCase().startsWith('multipart/form-data')) throw new HttpError(415, 'Send the file as multipart/form-data in a field named "file".');
@@ -36,7 +78,7 @@ export async function receiveMultipart(request: Request, limitBytes: number): Pr
 	} catch {
 		throw new HttpError(400, 'The multipart body is malformed (no boundary).');
 	}
-	const source = Readable.fromWeb(request.body as import('node:stream/web').ReadableStream);
+	const source = Readable.fromWeb(refusableBody(request.body) as import('node:stream/web').ReadableStream);
 	await new Promise<void>((resolve) => {
 		// File parts still being spooled: on a failure they are destroyed too, or their spool would wait
 		// forever for the rest of a body that is never coming (and leave its temporary file behind).

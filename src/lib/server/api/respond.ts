@@ -1,10 +1,11 @@
 // JSON answers for /api/v1: every error is {"message": "..."} with a 4xx status, never a bare 500.
 import { json } from '@sveltejs/kit';
 import { z } from 'zod';
+import { withoutPaths } from '../reasons';
 import { HttpError } from '../revisions';
 
 export function apiError(status: number, message: string, extra: Record<string, unknown> = {}): Response {
-	return json({ message, ...extra }, { status });
+	return json({ message: withoutPaths(message), ...extra }, { status });
 }
 
 export async function handleApi(fn: () => Promise<Response>): Promise<Response> {

@@ -1,7 +1,8 @@
-// Drizzle tables for MariaDB. Singular snake_case table names; every foreign key declared, so that
+// Drizzle tables for MariaDB. Singular snake_case table names; every foreign key declared (revision.parent_revision_id and revision.latest_check_id too), so that
 // a failed transaction can never leave a revision without its file, check or audit row.
 import { sql } from 'drizzle-orm';
 import {
+	type AnyMySqlColumn,
 	boolean,
 	datetime,
 	double,
@@ -216,7 +217,7 @@ export const revision = mysqlTable(
 			.notNull()
 			.references(() => user.id),
 		source: mysqlEnum('source', ['upload', 'api', 'repair']).notNull(),
-		parentRevisionId: int('parent_revision_id'),
+		parentRevisionId: int('parent_revision_id').references((): AnyMySqlColumn => revision.id),
 		/** Repair recipe that produced this revision (source = repair). */
 		recipe: json('recipe'),
 		repairLog: json('repair_log'),
@@ -225,7 +226,7 @@ export const revision = mysqlTable(
 		statusReason: varchar('status_reason', { length: 1000 }),
 		assigneeId: varchar('assignee_id', { length: 32 }).references(() => user.id),
 		/** The newest check_run of this revision, set in the transaction that inserts it; the queue joins on it. */
-		latestCheckId: int('latest_check_id'),
+		latestCheckId: int('latest_check_id').references((): AnyMySqlColumn => checkRun.id),
 		createdAt: createdAt(),
 		updatedAt: datetime('updated_at', { mode: 'date', fsp: 3 }).notNull().default(now())
 	},

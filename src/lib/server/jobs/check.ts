@@ -15,6 +15,7 @@ import { getStore } from '../storage';
 import type { EngineTask } from './engine-thread';
 import { EnginePool, EngineRefused as CheckRefused, type EngineLimits as CheckLimits } from './engine-pool';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
+import { failureReason } from '../reasons';
 
 export { CheckRefused, type CheckLimits };
 
@@ -91,7 +92,7 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 		);
 	} catch (e) {
 		const refused = e instanceof CheckRefused;
-		await failAttempt(db, j.id, workerId, (e as Error).message, refused);
+		await failAttempt(db, j.id, workerId, failureReason(e), refused);
 		return refused ? 'refused' : 'failed';
 	}
 	if (lost) return 'lost';

@@ -1,10 +1,11 @@
-import { eq } from 'drizzle-orm';
+import { eq, inArray } from 'drizzle-orm';
 import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { getDb } from '../db';
 import { auditEvent, checkRun, job, revision, ruleResult } from '../db/schema';
+import { getStore } from '../storage';
 import { useFreshDatabase } from '../testing/db';
 import { fixture, seededUsers, uploadBytes } from '../testing/fixtures';
 import { processCheckJob } from './check';
@@ -20,6 +21,13 @@ beforeAll(async () => {
 	users = await seededUsers(getDb());
 });
 afterAll(() => drop());
+// Each test starts with an empty queue, whatever an earlier test (or a failed one) left in it.
+beforeEach(async () => {
+	await getDb()
+		.update(job)
+		.set({ status: 'done', workerId: null, leaseUntil: null })
+		.where(inArray(job.status, ['queued', 'running']));
+});
 
 /** Claims and processes jobs until the queue is empty. */
 async function drain(workerId = 'test-worker') {
@@ -43,7 +51,7 @@ describe('check jobs on the real MariaDB', () => {
 		);
 		expect(claimed).toHaveLength(10);
 		expect(new Set(claimed).size).toBe(10);
-		// Leave them for the next tests to retry: make them claimable again at once.
+		// Make them claimable again at once and process them all.
 		await db.update(job).set({ status: 'queued', attempts: 0, workerId: null });
 		await drain();
 		const rows = await db.select({ status: revision.status }).from(revision);
@@ -104,5 +112,24 @@ describe('check jobs on the real MariaDB', () => {
 		expect(b.duplicateOf).toBe(a.revisionId);
 		expect(await db.select().from(revision).where(eq(revision.sha256, (await db.select().from(revision).where(eq(revision.id, a.revisionId)))[0].sha256))).toHaveLength(1);
 		await drain();
+	});
+
+	it('a check whose stored file is missing ends unreadable with a reason that names no server path', async () => {
+		const db = getDb();
+		const base = new TextDecoder().decode(fixture('cube-closed-ascii.stl'));
+		const up = await uploadBytes(db, users.designer, new TextEncoder().encode(base + '\n\n\n\n\n\n\n\n\n\n\n\n'), 'lost.stl', 'sensor-pods', 'lost-pod');
+		const [r0] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
+		await getStore().delete(r0.sha256);
+		const outcomes = await drain();
+		expect(outcomes.length).toBeGreaterThan(0);
+		const [rev] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
+		expect(rev.status).toBe('unreadable');
+		expect(rev.statusReason).toMatch(/the stored file is missing/);
+		const [j] = await db.select().from(job).where(eq(job.revisionId, up.revisionId));
+		const audits = await db.select().from(auditEvent).where(eq(auditEvent.entityId, String(up.revisionId)));
+		for (const text of [rev.statusReason ?? '', j.lastError ?? '', JSON.stringify(audits.map((a) => a.detail ?? null))]) {
+			expect(text).not.toContain(process.env.SHELLGATE_DATA_DIR!);
+			expect(text).not.toMatch(/ENOENT|\/tmp\//);
+		}
 	});
 });

@@ -5,6 +5,7 @@ import { and, asc, eq, lt, or, sql } from 'drizzle-orm';
 import type { Db } from '../db';
 import { job, revision } from '../db/schema';
 import { audit } from '../audit';
+import { withoutPaths } from '../reasons';
 
 export const LEASE_MS = 30_000;
 
@@ -33,7 +34,7 @@ export async function claimJob(db: Db, workerId: string, leaseMs = LEASE_MS): Pr
 			if (!row) return { kind: 'none' as const };
 			if (row.attempts >= row.maxAttempts) {
 				const reason = `The check gave up after ${row.attempts} attempts. Last problem: ${row.lastError ?? 'the worker stopped answering (killed, out of memory or over its time limit).'}`;
-				await tx.update(job).set({ status: 'failed', finishedAt: now, lastError: reason.slice(0, 1000) }).where(eq(job.id, row.id));
+				await tx.update(job).set({ status: 'failed', finishedAt: now, lastError: withoutPaths(reason).slice(0, 1000) }).where(eq(job.id, row.id));
 				await closeFailed(tx as unknown as Db, row, reason);
 				return { kind: 'closed' as const };
 			}
@@ -85,10 +86,10 @@ export async function failAttempt(db: Db, jobId: number, workerId: string, messa
 		const [row] = await tx.select().from(job).where(eq(job.id, jobId)).limit(1);
 		if (permanent || row.attempts >= row.maxAttempts) {
 			const reason = permanent ? message : `The check gave up after ${row.attempts} attempts. Last problem: ${message}`;
-			await tx.update(job).set({ status: 'failed', lastError: reason.slice(0, 1000), finishedAt: new Date() }).where(eq(job.id, jobId));
+			await tx.update(job).set({ status: 'failed', lastError: withoutPaths(reason).slice(0, 1000), finishedAt: new Date() }).where(eq(job.id, jobId));
 			await closeFailed(tx as unknown as Db, row, reason);
 		} else {
-			await tx.update(job).set({ status: 'queued', lastError: message.slice(0, 1000), workerId: null, leaseUntil: null, stage: 'waiting to retry' }).where(eq(job.id, jobId));
+			await tx.update(job).set({ status: 'queued', lastError: withoutPaths(message).slice(0, 1000), workerId: null, leaseUntil: null, stage: 'waiting to retry' }).where(eq(job.id, jobId));
 		}
 	});
 }
@@ -96,10 +97,11 @@ export async function failAttempt(db: Db, jobId: number, workerId: string, messa
 /** A check that cannot finish makes its revision unreadable; a failed repair leaves the original as it was. */
 async function closeFailed(tx: Db, row: ClaimedJob, reason: string): Promise<void> {
 	if (row.kind === 'check') await markUnreadable(tx, row.revisionId, reason, null);
-	else await audit(tx, null, 'revision', row.revisionId, 'repair-failed', null, null, { job: row.id, reason });
+	else await audit(tx, null, 'revision', row.revisionId, 'repair-failed', null, null, { job: row.id, reason: withoutPaths(reason) });
 }
 
-export async function markUnreadable(tx: Db, revisionId: number, reason: string, actorId: string | null): Promise<void> {
+export async function markUnreadable(tx: Db, revisionId: number, rawReason: string, actorId: string | null): Promise<void> {
+	const reason = withoutPaths(rawReason);
 	const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, revisionId)).limit(1);
 	await tx.update(revision).set({ status: 'unreadable', statusReason: reason.slice(0, 1000), updatedAt: new Date() }).where(eq(revision.id, revisionId));
 	await audit(tx, actorId, 'revision', revisionId, 'unreadable', rev?.status ?? null, 'unreadable', { reason });

@@ -9,11 +9,13 @@ import { audit } from '../audit';
 import { config } from '../config';
 import type { Db } from '../db';
 import { job } from '../db/schema';
-import { ingestRevision, loadRevisionContext } from '../revisions';
+import { ingestRevision } from '../ingest';
+import { loadRevisionContext } from '../revisions';
 import { getStore, spool } from '../storage';
 import { CheckRefused, runEngine, type CheckLimits } from './check';
 import type { RepairOutput } from './engine-thread';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
+import { failureReason } from '../reasons';
 import type { RepairStep } from '../../mesh/repair';
 
 export interface RepairPayload {
@@ -41,7 +43,7 @@ export async function processRepairJob(db: Db, j: ClaimedJob, workerId: string, 
 		);
 	} catch (e) {
 		const refused = e instanceof CheckRefused;
-		await failAttempt(db, j.id, workerId, (e as Error).message, refused);
+		await failAttempt(db, j.id, workerId, failureReason(e), refused);
 		return refused ? 'refused' : 'failed';
 	}
 	if (!(await heartbeat(db, j.id, workerId, 'storing', 95))) return 'lost';

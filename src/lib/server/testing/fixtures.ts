@@ -6,7 +6,7 @@ import { seed } from '../../../../scripts/seed';
 import { loadSessionUser, type SessionUser } from '../auth';
 import type { Db } from '../db';
 import { user } from '../db/schema';
-import { ingestRevision, type IngestResult } from '../revisions';
+import { ingestRevision, type IngestResult } from '../ingest';
 import { spool } from '../storage';
 
 export async function seededUsers(db: Db): Promise<Record<'admin' | 'engineer' | 'designer' | 'reviewer', SessionUser>> {

@@ -14,7 +14,7 @@ export const GET: RequestHandler = ({ locals, params, url }) =>
 	handleApi(async () => {
 		const u = requireRole(locals);
 		const format = url.searchParams.get('format') ?? 'stl';
-		if (!(format in FORMATS)) throw new HttpError(400, `Unknown format "${format.slice(0, 20)}": use stl, ply or obj.`);
+		if (!Object.hasOwn(FORMATS, format)) throw new HttpError(400, `Unknown format "${format.slice(0, 20)}": use stl, ply or obj.`);
 		const { rev, part } = await loadRevisionForUser(getDb(), u, parseId(params.id));
 		const bytes = await getStore().read(rev.sha256);
 		let out: Uint8Array;

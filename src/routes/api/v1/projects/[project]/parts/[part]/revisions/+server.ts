@@ -3,8 +3,9 @@ import { handleApi } from '$lib/server/api/respond';
 import { requireRole } from '$lib/server/auth';
 import { config } from '$lib/server/config';
 import { getDb } from '$lib/server/db';
-import { HttpError, ingestRevision, type IngestResult } from '$lib/server/revisions';
-import { receiveMultipart } from '$lib/server/upload';
+import { ingestRevision, type IngestResult } from '$lib/server/ingest';
+import { HttpError } from '$lib/server/revisions';
+import { receiveMultipart, refusableBody } from '$lib/server/upload';
 import { discard, spool, UploadTooLargeError } from '$lib/server/storage';
 import type { RequestHandler } from './$types';
 
@@ -40,7 +41,7 @@ export const POST: RequestHandler = ({ locals, params, request, url }) =>
 			if (Number.isFinite(declared) && declared > config.uploadLimitBytes) throw new HttpError(413, new UploadTooLargeError(config.uploadLimitBytes).message);
 			let spooled;
 			try {
-				spooled = await spool(request.body, config.uploadLimitBytes);
+				spooled = await spool(refusableBody(request.body), config.uploadLimitBytes);
 			} catch (e) {
 				if (e instanceof UploadTooLargeError) throw new HttpError(413, e.message);
 				throw new HttpError(400, `The upload was interrupted: ${(e as Error).message}`);

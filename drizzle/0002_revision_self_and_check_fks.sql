@@ -1,0 +1,5 @@
+-- Backfill (hand-written): references to rows that no longer exist are cleared, so the constraints can be added.
+UPDATE `revision` SET `parent_revision_id` = NULL WHERE `parent_revision_id` IS NOT NULL AND `parent_revision_id` NOT IN (SELECT `id` FROM (SELECT `id` FROM `revision`) AS r);--> statement-breakpoint
+UPDATE `revision` SET `latest_check_id` = NULL WHERE `latest_check_id` IS NOT NULL AND `latest_check_id` NOT IN (SELECT `id` FROM `check_run`);--> statement-breakpoint
+ALTER TABLE `revision` ADD CONSTRAINT `revision_parent_revision_id_revision_id_fk` FOREIGN KEY (`parent_revision_id`) REFERENCES `revision`(`id`) ON DELETE no action ON UPDATE no action;--> statement-breakpoint
+ALTER TABLE `revision` ADD CONSTRAINT `revision_latest_check_id_check_run_id_fk` FOREIGN KEY (`latest_check_id`) REFERENCES `check_run`(`id`) ON DELETE no action ON UPDATE no action;

@@ -158,3 +158,33 @@ put(
 }
 
 console.log('fixtures written to', dir);
+
+// Closed icosphere (radius 20, two subdivisions: 162 vertices, 320 faces, CCW seen from outside)
+// with its top vertex pushed down through the opposite side: still one closed, manifold, outward
+// shell, but its faces cross the bottom. The gate must hold it for self-intersections alone.
+{
+	const t = (1 + Math.sqrt(5)) / 2;
+	const pts: number[][] = [[-1, t, 0], [1, t, 0], [-1, -t, 0], [1, -t, 0], [0, -1, t], [0, 1, t], [0, -1, -t], [0, 1, -t], [t, 0, -1], [t, 0, 1], [-t, 0, -1], [-t, 0, 1]];
+	let faces = [[0, 11, 5], [0, 5, 1], [0, 1, 7], [0, 7, 10], [0, 10, 11], [1, 5, 9], [5, 11, 4], [11, 10, 2], [10, 7, 6], [7, 1, 8], [3, 9, 4], [3, 4, 2], [3, 2, 6], [3, 6, 8], [3, 8, 9], [4, 9, 5], [2, 4, 11], [6, 2, 10], [8, 6, 7], [9, 8, 1]];
+	for (let s = 0; s < 2; s++) {
+		const mid = new Map<string, number>();
+		const m = (a: number, b: number) => {
+			const key = a < b ? `${a},${b}` : `${b},${a}`;
+			let i = mid.get(key);
+			if (i === undefined) {
+				i = pts.push(pts[a].map((c, k) => (c + pts[b][k]) / 2)) - 1;
+				mid.set(key, i);
+			}
+			return i;
+		};
+		faces = faces.flatMap(([a, b, c]) => {
+			const ab = m(a, b), bc = m(b, c), ca = m(c, a);
+			return [[a, ab, ca], [b, bc, ab], [c, ca, bc], [ab, bc, ca]];
+		});
+	}
+	const positions = new Float64Array(pts.flatMap((p) => { const l = Math.hypot(...p); return p.map((c) => (20 * c) / l); }));
+	let top = 0;
+	for (let i = 1; i < pts.length; i++) if (positions[3 * i + 1] > positions[3 * top + 1]) top = i;
+	positions[3 * top + 1] = -26; // 6 below the bottom pole at y = -20
+	put('sphere-vertex-pushed-through.stl', writeBinaryStl({ positions, indices: new Uint32Array(faces.flat()) }));
+}

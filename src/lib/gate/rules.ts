@@ -26,6 +26,12 @@ export const RULE_TITLES: Record<RuleId, string> = {
 	'max-degenerate-faces': 'Zero-area faces'
 };
 
+/** How a rule came out: failed blocks the revision; not-checked (the fact was not measured) warns. */
+export type RuleVerdict = 'passed' | 'failed' | 'not-checked';
+
+/** The only place a verdict becomes a severity, so no failed rule can end without one. */
+export const VERDICT_SEVERITY = { passed: 'info', failed: 'blocking', 'not-checked': 'warning' } as const satisfies Record<RuleVerdict, RuleOutcome['severity']>;
+
 export interface RuleOutcome {
 	rule: RuleId;
 	passed: boolean;
@@ -56,16 +62,16 @@ export function minEdgeThreshold(rules: GateRules, ctx: GateContext): number | n
 export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateContext): RuleOutcome[] {
 	const u = ctx.units;
 	const out: RuleOutcome[] = [];
-	const push = (o: Omit<RuleOutcome, 'severity'> & { severity?: RuleOutcome['severity'] }) =>
-		out.push({ severity: o.passed ? 'info' : 'blocking', ...o });
+	// passed and severity are derived from the verdict and written last, so nothing in o can unset them.
+	const push = (v: RuleVerdict, o: Omit<RuleOutcome, 'passed' | 'severity'>) => out.push({ ...o, passed: v === 'passed', severity: VERDICT_SEVERITY[v] });
+	const verdict = (ok: boolean): RuleVerdict => (ok ? 'passed' : 'failed');
 
 	if (rules.closed) {
 		const holes = [...r.holes].sort((a, b) => b.perimeter - a.perimeter);
 		const big = holes[0];
 		const clipped = holes.filter((h) => h.onBboxPlane);
-		push({
+		push(verdict(r.boundaryEdges === 0), {
 			rule: 'closed',
-			passed: r.boundaryEdges === 0,
 			measured: r.boundaryEdges === 0 ? 'no open edges' : `${plural(r.boundaryLoops, 'hole')}, ${plural(r.boundaryEdges, 'open edge')}`,
 			limit: 'no open edges',
 			explanation:
@@ -87,9 +93,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 
 	if (rules.manifold) {
 		const ok = r.nonManifoldEdges === 0 && r.nonManifoldVertices === 0;
-		push({
+		push(verdict(ok), {
 			rule: 'manifold',
-			passed: ok,
 			measured: ok ? 'none' : `${plural(r.nonManifoldEdges, 'edge')} on 3+ faces, ${plural(r.nonManifoldVertices, 'pinched vertex', 'pinched vertices')}`,
 			limit: 'none',
 			explanation: ok
@@ -103,9 +108,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 		const closedShells = r.shells.filter((s) => s.closed);
 		const inverted = closedShells.filter((s) => s.signedVolume < 0).length;
 		const ok = r.consistentlyOriented && inverted === 0;
-		push({
+		push(verdict(ok), {
 			rule: 'outward-oriented',
-			passed: ok,
 			measured: ok
 				? 'consistent and outward'
 				: [!r.consistentlyOriented ? `${plural(r.flippedFaces, 'face')} facing the wrong way` : '', inverted ? `${plural(inverted, 'shell')} inside-out` : '']
@@ -121,10 +125,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 
 	if (rules.noSelfIntersections) {
 		const pairs = r.selfIntersectingPairs;
-		push({
+		push(pairs === null ? 'not-checked' : verdict(pairs === 0), {
 			rule: 'no-self-intersections',
-			passed: pairs === 0,
-			severity: pairs === null ? 'warning' : undefined,
 			measured: pairs === null ? 'not checked' : pairs === 0 ? 'none' : `${plural(pairs, 'crossing face pair')}`,
 			limit: 'none',
 			explanation:
@@ -140,9 +142,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	const minLen = minEdgeThreshold(rules, ctx);
 	if (minLen !== null) {
 		const ok = r.faces === 0 || r.minEdgeLength >= minLen;
-		push({
+		push(verdict(ok), {
 			rule: 'min-edge-length',
-			passed: ok,
 			measured: `shortest ${len(r.minEdgeLength, u)}${!ok && r.shortEdges ? `, ${plural(r.shortEdges, 'edge')} below the limit` : ''}`,
 			limit: `≥ ${len(minLen, u)}${rules.minEdgeLength?.mode === 'fraction-of-cell' ? ` (${rules.minEdgeLength.value} × cell size ${len(ctx.targetCellSize, u)})` : ''}`,
 			explanation: ok
@@ -155,9 +156,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	if (rules.maxShells !== null) {
 		const ok = r.components <= rules.maxShells;
 		const tiny = r.hints.find((h) => h.kind === 'floating-shells');
-		push({
+		push(verdict(ok), {
 			rule: 'max-shells',
-			passed: ok,
 			measured: plural(r.components, 'shell'),
 			limit: `≤ ${rules.maxShells}`,
 			explanation: ok
@@ -169,9 +169,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 
 	if (rules.expectedGenus !== null) {
 		const ok = r.genus === rules.expectedGenus;
-		push({
+		push(verdict(ok), {
 			rule: 'expected-genus',
-			passed: ok,
 			measured: r.genus === null ? 'undefined (non-manifold or non-orientable)' : `genus ${r.genus}`,
 			limit: `genus ${rules.expectedGenus}`,
 			explanation: ok
@@ -183,9 +182,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 
 	{
 		const ok = r.degenerateFaces <= rules.maxDegenerateFaces;
-		push({
+		push(verdict(ok), {
 			rule: 'max-degenerate-faces',
-			passed: ok,
 			measured: plural(r.degenerateFaces, 'zero-area face'),
 			limit: `≤ ${n(rules.maxDegenerateFaces)}`,
 			explanation: ok
@@ -197,11 +195,19 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	return out;
 }
 
+/**
+ * Rules that hold the revision. Anything not passed counts unless it is explicitly a warning, so an
+ * outcome with a missing or unexpected severity (e.g. from stored or hand-built data) still blocks.
+ */
+export function blockingFailures(outcomes: RuleOutcome[]): RuleOutcome[] {
+	return outcomes.filter((o) => !o.passed && o.severity !== 'warning');
+}
+
 /** The queue sorts on this: blocking failures weigh 10, warnings 1. */
 export function severityScore(outcomes: RuleOutcome[]): number {
-	return outcomes.reduce((s, o) => s + (o.passed ? 0 : o.severity === 'blocking' ? 10 : 1), 0);
+	return outcomes.reduce((s, o) => s + (o.passed ? 0 : o.severity === 'warning' ? 1 : 10), 0);
 }
 
 export function gatePasses(outcomes: RuleOutcome[]): boolean {
-	return outcomes.every((o) => o.passed || o.severity !== 'blocking');
+	return blockingFailures(outcomes).length === 0;
 }

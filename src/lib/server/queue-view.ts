@@ -6,7 +6,15 @@ import { z } from 'zod';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
 import { checkRun, job, part, project, REVISION_STATES, revision, user } from './db/schema';
-import { RULE_IDS } from '../gate/rules';
+import { RULE_IDS, RULE_TITLES, type RuleId } from '../gate/rules';
+
+/**
+ * The queue's "What is wrong" text for a check run's failed_rules column: the titles of the rules
+ * that hold the revision, the same list the rule filter matches on. Null when none failed.
+ */
+export function failedRulesSummary(failedRules: string[]): string | null {
+	return failedRules.length ? failedRules.map((x) => RULE_TITLES[x as RuleId] ?? x).join(' · ') : null;
+}
 
 /** States that still need someone's action; the queue's default view. */
 export const NEEDS_ACTION = ['awaiting-check', 'checking', 'held', 'clear', 'repair-proposed', 'unreadable'] as const;
@@ -129,11 +137,15 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 				: counts[f.status];
 
 	return {
-		rows: rows.map(({ jobStage, jobPercent, ...r }) => ({
-			...r,
-			failedRules: r.failedRules ? r.failedRules.split(',').filter(Boolean) : [],
-			progress: jobPercent === null ? null : { revisionId: r.id, stage: jobStage, percent: Number(jobPercent) }
-		})),
+		rows: rows.map(({ jobStage, jobPercent, ...r }) => {
+			const failedRules = r.failedRules ? r.failedRules.split(',').filter(Boolean) : [];
+			return {
+				...r,
+				failedRules,
+				summary: failedRulesSummary(failedRules),
+				progress: jobPercent === null ? null : { revisionId: r.id, stage: jobStage, percent: Number(jobPercent) }
+			};
+		}),
 		counts,
 		total,
 		page: f.page,

@@ -4,7 +4,7 @@ import { createHash } from 'node:crypto';
 import { desc, eq } from 'drizzle-orm';
 import type { InspectionReport } from '../../mesh/report';
 import { gateRulesSchema } from '../../gate/profile';
-import { evaluateGate, gatePasses, minEdgeThreshold, RULE_TITLES, severityScore } from '../../gate/rules';
+import { blockingFailures, evaluateGate, gatePasses, minEdgeThreshold, RULE_TITLES, severityScore } from '../../gate/rules';
 import { audit } from '../audit';
 import { config } from '../config';
 import type { Db } from '../db';
@@ -50,16 +50,25 @@ export function reportHash(reportJson: string): string {
 	return createHash('sha256').update(reportJson).digest('hex');
 }
 
-/** Processes one claimed job end to end; never throws for a bad file (that ends as unreadable). */
-export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, limits: CheckLimits, signal?: AbortSignal): Promise<'done' | 'refused' | 'failed' | 'lost'> {
-	const ctx = await loadRevisionContext(db, j.revisionId);
-	if (!ctx) {
-		await failAttempt(db, j.id, workerId, 'The revision no longer exists.', true);
-		return 'refused';
-	}
+/** What a check of one revision is judged under: the revision, its project and the project's newest gate profile. */
+export async function loadCheckSetup(db: Db, revisionId: number) {
+	const ctx = await loadRevisionContext(db, revisionId);
+	if (!ctx) return null;
 	const [profile] = await db.select().from(gateProfile).where(eq(gateProfile.projectId, ctx.project.id)).orderBy(desc(gateProfile.version)).limit(1);
 	const rules = gateRulesSchema.parse(profile.rules);
 	const gctx = { units: ctx.project.units, targetCellSize: ctx.project.targetCellSize };
+	return { ctx, profile, rules, gctx };
+}
+export type CheckSetup = NonNullable<Awaited<ReturnType<typeof loadCheckSetup>>>;
+
+/** Processes one claimed job end to end; never throws for a bad file (that ends as unreadable). */
+export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, limits: CheckLimits, signal?: AbortSignal): Promise<'done' | 'refused' | 'failed' | 'lost'> {
+	const setup = await loadCheckSetup(db, j.revisionId);
+	if (!setup) {
+		await failAttempt(db, j.id, workerId, 'The revision no longer exists.', true);
+		return 'refused';
+	}
+	const { ctx, rules, gctx } = setup;
 
 	let lastBeat = 0;
 	let lost = false;
@@ -96,12 +105,20 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 		return refused ? 'refused' : 'failed';
 	}
 	if (lost) return 'lost';
+	return (await writeCheckResult(db, j, workerId, setup, report)) ? 'done' : 'lost';
+}
 
+/**
+ * Evaluates the gate on a finished report and writes the check run, its rule results and the
+ * revision's new status in one transaction. False when the job's lease was lost meanwhile.
+ */
+export async function writeCheckResult(db: Db, j: ClaimedJob, workerId: string, setup: CheckSetup, report: InspectionReport): Promise<boolean> {
+	const { ctx, profile, rules, gctx } = setup;
 	const outcomes = evaluateGate(report, rules, gctx);
 	const passes = gatePasses(outcomes);
 	const reportJson = JSON.stringify(report);
 	const next = passes ? (ctx.rev.source === 'repair' ? 'repair-proposed' : 'clear') : 'held';
-	const failed = outcomes.filter((o) => !o.passed && o.severity === 'blocking');
+	const failed = blockingFailures(outcomes);
 	const written = await db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;
 		if (!(await lockOwnJob(tx, j.id, workerId))) return false;
@@ -152,7 +169,7 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 		await finishJob(tx, j.id);
 		return true;
 	});
-	return written ? 'done' : 'lost';
+	return written;
 }
 
 async function originalUpload(tx: Db, revisionId: number) {

@@ -81,7 +81,9 @@ type Conn = { query(sql: string, values?: unknown[]): Promise<[unknown, unknown]
  * connections from the pool at once.
  */
 async function withConnection<T>(db: Db, fn: (conn: Conn, cdb: Db) => Promise<T>): Promise<T> {
-	const client = (db as unknown as { $client: { getConnection?: () => Promise<Conn> } & Conn }).$client;
+	const client = (db as unknown as { $client?: { getConnection?: () => Promise<Conn> } & Conn }).$client;
+	// A transaction handle has no client of its own; an ingest runs its own transaction.
+	if (!client) throw new Error('ingestRevision takes the database handle, not a transaction');
 	if (typeof client.getConnection !== 'function') return fn(client, db);
 	const conn = await client.getConnection();
 	try {

@@ -2,7 +2,9 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { inspectBytes } from '../mesh/inspect';
 import { DEFAULT_GATE_RULES, gateRulesSchema } from './profile';
-import { evaluateGate, gatePasses, minEdgeThreshold, severityScore } from './rules';
+import type { InspectionReport } from '../mesh/report';
+import { DEFAULT_GATE_RULES as D, SIZE_IN_CELLS } from './profile';
+import { evaluateGate, gatePasses, likelyUnitFix, minEdgeThreshold, scaleFix, severityScore } from './rules';
 
 const report = (name: string) => inspectBytes(new Uint8Array(readFileSync(`fixtures/${name}`)), name);
 const ctx = { units: 'mm', targetCellSize: 2 };
@@ -46,5 +48,73 @@ describe('gate rules', () => {
 	it('fills defaults and refuses nonsense in stored profiles', () => {
 		expect(gateRulesSchema.parse({})).toEqual(DEFAULT_GATE_RULES);
 		expect(() => gateRulesSchema.parse({ maxShells: -1 })).toThrow();
+	});
+
+	it('leaves the size rule off unless the profile sets a range, and refuses a range whose ends are swapped', () => {
+		expect(evaluateGate(report('cube-closed.stl'), DEFAULT_GATE_RULES, ctx).some((o) => o.rule === 'expected-size')).toBe(false);
+		expect(() => gateRulesSchema.parse({ expectedSize: { mode: 'absolute', min: 5, max: 1 } })).toThrow(/below the largest/);
+	});
+});
+
+/** The unit cube's report, stretched to a body of the given bounding-box diagonal. */
+function bodyOfDiagonal(diag: number): InspectionReport {
+	const r = structuredClone(report('cube-closed.stl'));
+	const side = diag / Math.sqrt(3);
+	r.bbox = { min: [0, 0, 0], max: [side, side, side] };
+	return r;
+}
+const sizeRule = (r: InspectionReport, rules: typeof D, c: { units: string; targetCellSize: number }) => evaluateGate(r, rules, c).find((o) => o.rule === 'expected-size')!;
+
+// Unit factors from the definitions of the units (1 in = 25.4 mm and 1 ft = 304.8 mm exactly, by the
+// 1959 international yard and pound agreement; 1 m = 1000 mm).
+describe('the size and units rule (unit definitions: 1 in = 25.4 mm, 1 ft = 304.8 mm)', () => {
+	const pods = { units: 'mm', targetCellSize: 2 };
+	const bulbs = { units: 'm', targetCellSize: 0.005 };
+
+	it('holds a 173 mm pod written in metres into a millimetre project and names ×1000 (m → mm), with the range derived from the cell size', () => {
+		const rules = { ...D, expectedSize: { ...SIZE_IN_CELLS } };
+		const o = sizeRule(bodyOfDiagonal(0.173), rules, pods);
+		expect(o.passed).toBe(false);
+		expect(o.severity).toBe('blocking');
+		expect(o.limit).toBe('20 mm to 200,000 mm across (10 to 100,000 cells of 2 mm)');
+		expect(o.measured).toBe('0.173 mm across; likely ×1,000 (m → mm)');
+		expect(o.explanation).toContain('metres read as millimetres');
+		expect(o.explanation).toContain('173 mm across');
+		expect(scaleFix(bodyOfDiagonal(0.173), rules, pods)).toEqual({ factor: 1000, fileUnits: 'm', projectUnits: 'mm' });
+	});
+
+	it('holds a 1.2 m keel bulb written in millimetres into a metre project and names ×0.001 (mm → m)', () => {
+		const rules = { ...D, expectedSize: { mode: 'absolute' as const, min: 0.2, max: 10 } };
+		const o = sizeRule(bodyOfDiagonal(1200), rules, bulbs);
+		expect(o.passed).toBe(false);
+		expect(o.measured).toBe('1,200 m across; likely ×0.001 (mm → m)');
+		expect(o.explanation).toContain('millimetres read as metres');
+		expect(scaleFix(bodyOfDiagonal(1200), rules, bulbs)?.factor).toBe(0.001);
+	});
+
+	it('holds a 300 mm pod drawn in inches and names ×25.4 (in → mm), the factor nearest the middle of the range', () => {
+		const rules = { ...D, expectedSize: { mode: 'absolute' as const, min: 50, max: 2000 } };
+		// ×10 (cm) would also land inside the range, at 118 mm; ×25.4 lands nearer its middle (316 mm).
+		const o = sizeRule(bodyOfDiagonal(300 / 25.4), rules, pods);
+		expect(o.passed).toBe(false);
+		expect(o.measured).toBe('11.8 mm across; likely ×25.4 (in → mm)');
+		expect(likelyUnitFix(300 / 25.4, { min: 50, max: 2000 }, 'mm')).toEqual({ factor: 25.4, fileUnits: 'in', projectUnits: 'mm' });
+	});
+
+	it('passes a correctly scaled 173 mm pod and offers no rescale', () => {
+		const rules = { ...D, expectedSize: { ...SIZE_IN_CELLS } };
+		const o = sizeRule(bodyOfDiagonal(173), rules, pods);
+		expect(o.passed).toBe(true);
+		expect(o.measured).toBe('173 mm across');
+		expect(scaleFix(bodyOfDiagonal(173), rules, pods)).toBeNull();
+	});
+
+	it('says no usual unit factor explains a size that none of them brings into range', () => {
+		const rules = { ...D, expectedSize: { mode: 'absolute' as const, min: 50, max: 2000 } };
+		const o = sizeRule(bodyOfDiagonal(1e7), rules, pods);
+		expect(o.passed).toBe(false);
+		expect(o.measured).toBe('10,000,000 mm across');
+		expect(o.explanation).toContain('No usual unit factor explains it');
+		expect(scaleFix(bodyOfDiagonal(1e7), rules, pods)).toBeNull();
 	});
 });

@@ -11,7 +11,8 @@ export const RULE_IDS = [
 	'min-edge-length',
 	'max-shells',
 	'expected-genus',
-	'max-degenerate-faces'
+	'max-degenerate-faces',
+	'expected-size'
 ] as const;
 export type RuleId = (typeof RULE_IDS)[number];
 
@@ -23,7 +24,8 @@ export const RULE_TITLES: Record<RuleId, string> = {
 	'min-edge-length': 'Shortest edge',
 	'max-shells': 'Number of shells',
 	'expected-genus': 'Expected genus',
-	'max-degenerate-faces': 'Zero-area faces'
+	'max-degenerate-faces': 'Zero-area faces',
+	'expected-size': 'Size and units'
 };
 
 /** How a rule came out: failed blocks the revision; not-checked (the fact was not measured) warns. */
@@ -58,6 +60,62 @@ export function minEdgeThreshold(rules: GateRules, ctx: GateContext): number | n
 	if (!rules.minEdgeLength) return null;
 	return rules.minEdgeLength.mode === 'absolute' ? rules.minEdgeLength.value : rules.minEdgeLength.value * ctx.targetCellSize;
 }
+
+/** Millimetres per unit, for the unit mistakes a file most often carries (STL and OBJ store no units). */
+const MM_PER_UNIT: Record<string, number> = { mm: 1, cm: 10, m: 1000, in: 25.4, ft: 304.8 };
+const UNIT_WORDS: Record<string, string> = { mm: 'millimetres', cm: 'centimetres', m: 'metres', in: 'inches', ft: 'feet' };
+
+/** The body's size as the scale rule measures it: the bounding-box diagonal, in model units. */
+export function bodySize(r: InspectionReport): number {
+	return Math.hypot(r.bbox.max[0] - r.bbox.min[0], r.bbox.max[1] - r.bbox.min[1], r.bbox.max[2] - r.bbox.min[2]);
+}
+
+/** The expected size range in project units, or null when the profile does not check size. */
+export function expectedSizeRange(rules: GateRules, ctx: GateContext): { min: number; max: number } | null {
+	const e = rules.expectedSize;
+	if (!e) return null;
+	return e.mode === 'absolute' ? { min: e.min, max: e.max } : { min: e.min * ctx.targetCellSize, max: e.max * ctx.targetCellSize };
+}
+
+/** A unit mistake that explains a size: multiply the coordinates by factor (file drawn in fileUnits, read as projectUnits). */
+export interface UnitFix {
+	factor: number;
+	fileUnits: string;
+	projectUnits: string;
+}
+
+/**
+ * Of the usual unit factors (a file drawn in mm, cm, m, in or ft but read in the project's units),
+ * the one that brings `size` inside the range and nearest its middle on a log scale; null when none
+ * brings it inside, or the project's units are not one of those.
+ */
+export function likelyUnitFix(size: number, range: { min: number; max: number }, projectUnits: string): UnitFix | null {
+	const p = MM_PER_UNIT[projectUnits];
+	if (!p || !(size > 0)) return null;
+	const mid = Math.log(range.min * range.max) / 2;
+	let best: UnitFix | null = null;
+	let bestDist = Infinity;
+	for (const [u, mm] of Object.entries(MM_PER_UNIT)) {
+		if (u === projectUnits) continue;
+		const factor = Number((mm / p).toPrecision(12));
+		const scaled = size * factor;
+		if (scaled < range.min || scaled > range.max) continue;
+		const dist = Math.abs(Math.log(scaled) - mid);
+		if (dist < bestDist) [best, bestDist] = [{ factor, fileUnits: u, projectUnits }, dist];
+	}
+	return best;
+}
+
+/** The rescale a held revision could take: set only when the size rule fails and a usual unit factor explains it. */
+export function scaleFix(r: InspectionReport, rules: GateRules, ctx: GateContext): UnitFix | null {
+	const range = expectedSizeRange(rules, ctx);
+	if (!range || r.faces === 0) return null;
+	const size = bodySize(r);
+	if (size >= range.min && size <= range.max) return null;
+	return likelyUnitFix(size, range, ctx.units);
+}
+
+export const fmtFactor = (f: number) => `×${f.toLocaleString('en-US', { maximumSignificantDigits: 4 })}`;
 
 export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateContext): RuleOutcome[] {
 	const u = ctx.units;
@@ -189,6 +247,32 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 			explanation: ok
 				? 'No faces of exactly zero area beyond the allowed number.'
 				: 'Some faces have exactly zero area (repeated or collinear corners). They have no normal, so meshers skip or choke on them. A repair can remove them; upstream, they usually come from merging vertices after export.',
+			location: null
+		});
+	}
+
+	const range = expectedSizeRange(rules, ctx);
+	if (range) {
+		const size = bodySize(r);
+		const ok = size >= range.min && size <= range.max;
+		const fix = ok ? null : scaleFix(r, rules, ctx);
+		const cells = rules.expectedSize?.mode === 'cells' ? ` (${n(rules.expectedSize.min)} to ${n(rules.expectedSize.max)} cells of ${len(ctx.targetCellSize, u)})` : '';
+		push(r.faces === 0 ? 'not-checked' : verdict(ok), {
+			rule: 'expected-size',
+			measured: r.faces === 0 ? 'not checked: no faces' : `${len(size, u)} across${fix ? `; likely ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits})` : ''}`,
+			limit: `${len(range.min, u)} to ${len(range.max, u)} across${cells}`,
+			explanation:
+				r.faces === 0
+					? 'The mesh has no faces, so it has no size to check.'
+					: ok
+						? 'The body’s size (bounding-box diagonal) is within the range this project expects, so its units look right.'
+						: [
+								`The body measures ${len(size, u)} across (bounding-box diagonal), ${size < range.min ? 'smaller' : 'larger'} than the ${len(range.min, u)} to ${len(range.max, u)} this project expects${cells}.`,
+								'Mesh files carry no units, so this is most often a unit mistake at export.',
+								fix
+									? `The numbers look like ${UNIT_WORDS[fix.fileUnits]} read as ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}: scaled ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits}) the body would be ${len(size * fix.factor, u)} across. Export again in ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}, or let a repair rescale it by ${fmtFactor(fix.factor)}.`
+									: `No usual unit factor explains it (mm, cm, m, in and ft were tried). Check the export scale, and the project’s target cell size and expected size.`
+							].join(' '),
 			location: null
 		});
 	}

@@ -22,7 +22,7 @@ let drop: () => Promise<void>;
 let users: Awaited<ReturnType<typeof seededUsers>>;
 
 /** Every rule switched on, so each one is evaluated on every row. */
-const ALL_RULES: GateRules = { ...DEFAULT_GATE_RULES, expectedGenus: 0, maxShells: 1 };
+const ALL_RULES: GateRules = { ...DEFAULT_GATE_RULES, expectedGenus: 0, maxShells: 1, expectedSize: { mode: 'absolute', min: 0.5, max: 5 } };
 
 beforeAll(async () => {
 	process.env.SHELLGATE_DATA_DIR = mkdtempSync(path.join(tmpdir(), 'sg-gate-'));
@@ -47,7 +47,8 @@ const CASES: { rule: RuleId; verdict: RuleVerdict; edit: (r: InspectionReport) =
 	{ rule: 'min-edge-length', verdict: 'failed', edit: (r) => Object.assign(r, { minEdgeLength: 1e-6, shortEdges: 1 }) },
 	{ rule: 'max-shells', verdict: 'failed', edit: (r) => Object.assign(r, { components: 2 }) },
 	{ rule: 'expected-genus', verdict: 'failed', edit: (r) => Object.assign(r, { genus: 1 }) },
-	{ rule: 'max-degenerate-faces', verdict: 'failed', edit: (r) => Object.assign(r, { degenerateFaces: 1 }) }
+	{ rule: 'max-degenerate-faces', verdict: 'failed', edit: (r) => Object.assign(r, { degenerateFaces: 1 }) },
+	{ rule: 'expected-size', verdict: 'failed', edit: (r) => Object.assign(r, { bbox: { min: [0, 0, 0], max: [1000, 1000, 1000] } }) }
 ];
 
 const EXPECTED = {

@@ -76,7 +76,11 @@ export const actions: Actions = {
 			minEdgeLength: minVal === null ? null : { mode: fd.get('minEdgeMode'), value: minVal },
 			maxShells: num(fd.get('maxShells')),
 			expectedGenus: num(fd.get('expectedGenus')),
-			maxDegenerateFaces: num(fd.get('maxDegenerateFaces')) ?? 0
+			maxDegenerateFaces: num(fd.get('maxDegenerateFaces')) ?? 0,
+			expectedSize:
+				fd.get('sizeMode') === 'cells' || fd.get('sizeMode') === 'absolute'
+					? { mode: fd.get('sizeMode'), min: num(fd.get('sizeMin')), max: num(fd.get('sizeMax')) }
+					: null
 		});
 		if (!parsed.success) return fail(400, { profileError: parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ') });
 		const db = getDb();

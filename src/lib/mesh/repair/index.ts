@@ -6,6 +6,7 @@ export { orientConsistently, type OrientCounts } from './orient';
 export { removeSmallShells, type SmallShellOptions, type SmallShellCounts } from './remove-small-shells';
 export { fillHoles, DEFAULT_MAX_HOLE_EDGES, MAX_HOLE_EDGES, type FillHoleOptions, type FillHoleCounts, type HoleLeft, type HoleLeftReason } from './fill-holes';
 export { collapseShortEdges, MIN_NORMAL_COS, type CollapseCounts } from './collapse-short-edges';
+export { rescale, type RescaleCounts } from './rescale';
 export { splitNonManifoldVertices, type SplitCounts } from './split-non-manifold';
 export { boundaryHalfedgeLoops, type HalfedgeLoops } from './boundary-loops';
 export { meshDeviation, MAX_AREA_SAMPLES, type MeshDeviation, type OneSidedDeviation, type DeviationOptions } from './deviation';

@@ -10,6 +10,7 @@ import { removeDegenerateAndDuplicateFaces } from './remove-degenerate';
 import { removeSmallShells } from './remove-small-shells';
 import { splitNonManifoldVertices } from './split-non-manifold';
 import { weldByTolerance } from './weld-tolerance';
+import { rescale } from './rescale';
 import type { MeshBuffers } from '../types';
 
 /** Lengths are in model units unless the name says relative (then × bounding-box diagonal). */
@@ -21,7 +22,8 @@ export type RepairStep =
 	| { op: 'split-non-manifold-vertices' }
 	| { op: 'orient' }
 	| { op: 'fill-holes'; maxPerimeter?: number; maxEdges?: number }
-	| { op: 'collapse-short-edges'; minLength: number };
+	| { op: 'collapse-short-edges'; minLength: number }
+	| { op: 'rescale'; factor: number };
 
 export type RepairOp = RepairStep['op'];
 
@@ -51,7 +53,8 @@ const PARAMS: Record<RepairOp, Record<string, boolean>> = {
 	'split-non-manifold-vertices': {},
 	orient: {},
 	'fill-holes': { maxPerimeter: false, maxEdges: false },
-	'collapse-short-edges': { minLength: true }
+	'collapse-short-edges': { minLength: true },
+	rescale: { factor: true }
 };
 
 /**
@@ -166,6 +169,8 @@ export function applyStep(mesh: MeshBuffers, step: RepairStep): { mesh: MeshBuff
 			return { ...fillHoles(mesh, step), params };
 		case 'collapse-short-edges':
 			return { ...collapseShortEdges(mesh, step.minLength), params };
+		case 'rescale':
+			return { ...rescale(mesh, step.factor), params };
 	}
 }
 

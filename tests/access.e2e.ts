@@ -23,6 +23,7 @@ const ACCESS: Record<string, Rule> = {
 	'page /projects': ALL,
 	'page /projects/[slug]': ALL,
 	'action /projects/[slug]?/batchRepair': ['engineer'],
+	'action /projects/[slug]?/recheckStale': ['engineer'],
 	'action /projects/[slug]?/profile': ['admin'],
 	'action /projects/[slug]?/settings': ['admin'],
 	'page /queue': ALL,

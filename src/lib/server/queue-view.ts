@@ -5,7 +5,7 @@ import { alias } from 'drizzle-orm/mysql-core';
 import { z } from 'zod';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
-import { checkRun, job, part, project, REVISION_STATES, revision, user } from './db/schema';
+import { checkRun, gateProfile, job, part, project, REVISION_STATES, revision, user } from './db/schema';
 import { RULE_IDS, RULE_TITLES, type RuleId } from '../gate/rules';
 
 /**
@@ -107,6 +107,9 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 			selfIntersectingPairs: checkRun.selfIntersectingPairs,
 			shells: checkRun.shells,
 			genus: checkRun.genus,
+			// A verdict given under an older gate profile than the project's newest is marked stale.
+			profileVersion: sql<number | null>`(select ${gateProfile.version} from ${gateProfile} where ${gateProfile.id} = ${checkRun.gateProfileId})`,
+			currentProfileVersion: sql<number | null>`(select max(${gateProfile.version}) from ${gateProfile} where ${gateProfile.projectId} = ${project.id})`,
 			jobStage: activeJob<string>(sql`${job.stage}`),
 			jobPercent: activeJob<number>(sql`${job.percent}`)
 		})
@@ -143,6 +146,9 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 				...r,
 				failedRules,
 				summary: failedRulesSummary(failedRules),
+				profileVersion: r.profileVersion === null ? null : Number(r.profileVersion),
+				currentProfileVersion: r.currentProfileVersion === null ? null : Number(r.currentProfileVersion),
+				staleProfile: r.profileVersion !== null && r.currentProfileVersion !== null && Number(r.profileVersion) !== Number(r.currentProfileVersion) && !['signed-off', 'returned'].includes(r.status),
 				progress: jobPercent === null ? null : { revisionId: r.id, stage: jobStage, percent: Number(jobPercent) }
 			};
 		}),

@@ -1,5 +1,7 @@
 // Everything shown about one revision: used by the revision page and GET /api/v1/revisions/{id}.
-import { and, asc, desc, eq, inArray } from 'drizzle-orm';
+import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm';
+import { gateRulesSchema } from '../gate/profile';
+import { scaleFix } from '../gate/rules';
 import type { InspectionReport } from '../mesh/report';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
@@ -50,12 +52,19 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 		rev.parentRevisionId ? parentSummary(db, rev.parentRevisionId, withReport) : Promise.resolve(null)
 	]);
 	const run = runRows[0] as (typeof runRows)[number] & { report?: string };
-	const [rules, [profile]] = run
-		? await Promise.all([
-				db.select().from(ruleResult).where(eq(ruleResult.checkRunId, run.id)).orderBy(asc(ruleResult.id)),
-				db.select({ version: gateProfile.version }).from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1)
-			])
-		: [[], []];
+	const [[rules, [profile]], [current]] = await Promise.all([
+		run
+			? Promise.all([
+					db.select().from(ruleResult).where(eq(ruleResult.checkRunId, run.id)).orderBy(asc(ruleResult.id)),
+					db.select({ version: gateProfile.version, rules: gateProfile.rules }).from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1)
+				])
+			: Promise.resolve([[], []] as const),
+		db.select({ v: sql<number | null>`max(${gateProfile.version})` }).from(gateProfile).where(eq(gateProfile.projectId, ctx.project.id))
+	]);
+	const report = run?.report !== undefined ? (JSON.parse(run.report) as InspectionReport) : null;
+	const parsedRules = profile ? gateRulesSchema.safeParse(profile.rules) : null;
+	// The rescale a unit mistake calls for, offered as a one-click repair on a held revision.
+	const unitFix = report && parsedRules?.success ? scaleFix(report, parsedRules.data, { units: ctx.project.units, targetCellSize: ctx.project.targetCellSize }) : null;
 	const [activeJob] = activeJobs;
 	const [uploader] = uploaders;
 	const [assignee] = assignees;
@@ -94,10 +103,13 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 					engineVersion: run.engineVersion,
 					durationMs: run.durationMs,
 					gateProfileVersion: profile?.version ?? null,
+					/** The project's newest gate profile version: a verdict under an older one may be out of date. */
+					currentProfileVersion: current?.v === null || current?.v === undefined ? null : Number(current.v),
 					severity: run.severity
 				}
 			: null,
-		report: run?.report !== undefined ? (JSON.parse(run.report) as InspectionReport) : null,
+		report,
+		unitFix,
 		rules: rules.map((r) => ({ rule: r.rule, passed: r.passed, severity: r.severity, measured: r.measured, limit: r.limitText, explanation: r.explanation, location: r.location })),
 		decisions: decisions.map(({ d, by }) => ({
 			id: d.id,

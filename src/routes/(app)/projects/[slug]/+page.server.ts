@@ -8,6 +8,7 @@ import { getDb } from '$lib/server/db';
 import { gateProfile, part, project, revision, user } from '$lib/server/db/schema';
 import { projectRecipes, repairBatch } from '$lib/server/repairs';
 import { HttpError } from '$lib/server/revisions';
+import { recheckStale, staleRevisionIds } from '$lib/server/recheck-stale';
 import type { Actions, PageServerLoad } from './$types';
 
 async function findProject(teamId: number, slug: string) {
@@ -39,6 +40,7 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		profiles: profiles.map((x) => ({ ...x, rules: gateRulesSchema.parse(x.rules) })),
 		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) })),
 		recipes: await projectRecipes(db, p.id),
+		stale: (await staleRevisionIds(db, p.id)).length,
 		held: Number((await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(and(eq(part.projectId, p.id), eq(revision.status, 'held'))))[0].n)
 	};
 };
@@ -52,6 +54,16 @@ const settingsSchema = z.object({
 });
 
 export const actions: Actions = {
+	recheckStale: async ({ locals, params }) => {
+		const me = requireRole(locals, 'engineer');
+		try {
+			const res = await recheckStale(getDb(), me, params.slug);
+			return { staleQueued: res.queued, staleSkipped: res.skipped };
+		} catch (e) {
+			if (e instanceof HttpError) return fail(e.status, { staleError: e.message });
+			throw e;
+		}
+	},
 	batchRepair: async ({ locals, params, request }) => {
 		const me = requireRole(locals, 'engineer');
 		const raw = String((await request.formData()).get('recipe') ?? '');

@@ -118,3 +118,26 @@ describe('the size and units rule (unit definitions: 1 in = 25.4 mm, 1 ft = 304.
 		expect(scaleFix(bodyOfDiagonal(1e7), rules, pods)).toBeNull();
 	});
 });
+
+describe('advice that fits the mesh', () => {
+	it('does not promise an orientation repair for a non-orientable (Möbius) surface', () => {
+		const r = structuredClone(report('cube-closed.stl'));
+		Object.assign(r, { orientable: false, consistentlyOriented: false, flippedFaces: 1, genus: null });
+		const o = evaluateGate(r, DEFAULT_GATE_RULES, ctx).find((x) => x.rule === 'outward-oriented')!;
+		expect(o.passed).toBe(false);
+		expect(o.explanation).toContain('No repair can orient a non-orientable surface');
+		expect(o.explanation).not.toContain('re-orient');
+	});
+
+	it('words extra shells by measured size: two equal blocks are separate bodies, not specks to drop', () => {
+		const r = structuredClone(report('cube-closed.stl'));
+		r.shells = [{ ...r.shells[0] }, { ...r.shells[0] }];
+		r.components = 2;
+		r.hints = r.hints.filter((h) => h.kind !== 'floating-shells');
+		const o = evaluateGate(r, DEFAULT_GATE_RULES, ctx).find((x) => x.rule === 'max-shells')!;
+		expect(o.passed).toBe(false);
+		expect(o.explanation).toContain('make up 50 % of the area');
+		expect(o.explanation).toContain('separate bodies');
+		expect(o.explanation).not.toMatch(/implicit field|islands/);
+	});
+});

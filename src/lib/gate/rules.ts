@@ -141,7 +141,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 							big ? `The largest hole is ${len(big.perimeter, u)} around, centred near ${at(big.centroid, u)}.` : '',
 							clipped.length
 								? `${plural(clipped.length, 'hole lies', 'holes lie')} flat on the edge of the bounding box (${[...new Set(clipped.map((h) => h.onBboxPlane))].join(', ')}): the shape looks cut off by the generator's sampling volume. Enlarge the sampling box upstream rather than patching here.`
-								: 'Upstream: close the surface in the generator (cap openings, make sure the implicit field is sampled on a volume larger than the shape), then export again.'
+								: 'Nothing about these openings points to a particular cause: close them where the shape is made (cap the openings, or add the missing faces in the CAD export), then export again; small holes can also be filled by a repair.'
 						]
 							.filter(Boolean)
 							.join(' '),
@@ -176,7 +176,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 			limit: 'all faces outward',
 			explanation: ok
 				? 'All faces point outwards consistently, so normals, volume and forces come out with the right sign.'
-				: `${!r.orientable ? 'Part of the surface is non-orientable (like a Möbius strip), which no solver can accept. ' : ''}Some faces point inwards while their neighbours point outwards${inverted ? ', or a whole shell is inside-out (negative volume)' : ''}. Solvers use face orientation to decide which side is fluid; wrong normals give wrong forces or a failed mesh. This is usually a winding-order slip in the exporter; a repair can re-orient it safely.`,
+				: `${!r.orientable ? 'Part of the surface is non-orientable (like a Möbius strip), which no solver can accept. ' : ''}Some faces point inwards while their neighbours point outwards${inverted ? ', or a whole shell is inside-out (negative volume)' : ''}. Solvers use face orientation to decide which side is fluid; wrong normals give wrong forces or a failed mesh. ${!r.orientable ? 'No repair can orient a non-orientable surface: it has no consistent inside and outside. Upstream: rebuild that part as a closed two-sided solid.' : 'This is usually a winding-order slip in the exporter; a repair can re-orient the faces without moving any vertex.'}`,
 			location: null
 		});
 	}
@@ -214,13 +214,22 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	if (rules.maxShells !== null) {
 		const ok = r.components <= rules.maxShells;
 		const tiny = r.hints.find((h) => h.kind === 'floating-shells');
+		// By measured sizes: the largest shell's share of the area says whether the rest are specks or bodies.
+		const areas = r.shells.map((s) => s.area).sort((a, b) => b - a);
+		const total = areas.reduce((a, b) => a + b, 0);
+		const restShare = total > 0 ? 1 - areas[0] / total : 0;
+		const smallest = areas.length ? areas[areas.length - 1] : 0;
 		push(verdict(ok), {
 			rule: 'max-shells',
 			measured: plural(r.components, 'shell'),
 			limit: `≤ ${rules.maxShells}`,
 			explanation: ok
 				? 'The number of separate surfaces is as expected.'
-				: `The mesh has ${plural(r.components, 'separate surface')} where at most ${rules.maxShells} ${rules.maxShells === 1 ? 'is' : 'are'} expected. ${tiny ? tiny.message + ' ' : ''}Loose pieces become extra bodies in the flow and waste cells. Upstream: drop small islands of the implicit field (raise the iso-level threshold or filter small components) before export.`,
+				: `The mesh has ${plural(r.components, 'separate surface')} where at most ${rules.maxShells} ${rules.maxShells === 1 ? 'is' : 'are'} expected. ${tiny ? tiny.message + ' ' : ''}${
+						tiny
+							? 'Loose specks become extra bodies in the flow and waste cells; removing them (a repair step, or filtering small components upstream) changes the shape very little.'
+							: `The shells other than the largest make up ${(restShare * 100).toLocaleString('en-US', { maximumSignificantDigits: 3 })} % of the area (the smallest is ${len(smallest, `${u}²`)}), so they look like separate bodies rather than specks: each becomes its own body in the flow. If the case is meant to have one body, join them upstream; if it is an assembly, raise this project's shell limit.`
+					}`,
 			location: null
 		});
 	}

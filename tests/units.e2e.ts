@@ -1,0 +1,48 @@
+import { expect, test, type Page } from '@playwright/test';
+import { shot, signInAs, signOut } from './helpers';
+
+const PART = `pod-units-${Date.now().toString(36)}`;
+
+async function setSizeCheck(page: Page, mode: 'cells' | 'off') {
+	await signInAs(page, 'admin');
+	await page.goto('/projects/sensor-pods');
+	await page.getByLabel('size check mode').selectOption(mode);
+	await page.getByRole('button', { name: /Save as version/ }).click();
+	await expect(page.getByText(/Saved as version/)).toBeVisible();
+	await signOut(page);
+}
+
+test('a pod written in metres into the millimetre project is held with the likely factor, and the one-click rescale makes a revision that passes', async ({ page }) => {
+	test.setTimeout(150_000);
+	await setSizeCheck(page, 'cells');
+	try {
+		await signInAs(page, 'designer');
+		await page.goto('/upload?project=sensor-pods');
+		await page.getByLabel('Part').fill(PART);
+		await page.getByLabel('Files').setInputFiles('fixtures/pod-written-in-metres.stl');
+		await page.getByRole('button', { name: 'Upload' }).click();
+		await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+		await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
+		const size = page.locator('[data-rule="expected-size"]');
+		await expect(size).toHaveAttribute('data-passed', 'false');
+		await expect(size).toContainText('likely ×1,000 (m → mm)');
+		await expect(size.getByTestId('explanation')).toContainText('metres read as millimetres');
+		await page.screenshot({ path: shot('revision-unit-mistake-designer'), fullPage: true });
+		const heldUrl = page.url();
+		await signOut(page);
+
+		await signInAs(page, 'engineer');
+		await page.goto(heldUrl);
+		await expect(page.getByTestId('unit-fix')).toBeVisible();
+		await page.getByRole('button', { name: /Rescale ×1,000 into a new revision/ }).click();
+		await expect(page.getByTestId('repair-result')).toBeVisible({ timeout: 60_000 });
+		await page.getByTestId('repair-result').click();
+		await expect(page.locator('h1 [data-status]')).toHaveText(/Repair proposed/, { timeout: 30_000 });
+		await expect(page.locator('[data-rule="expected-size"]')).toHaveAttribute('data-passed', 'true');
+		await expect(page.locator('[data-testid="rule"][data-passed="false"]')).toHaveCount(0);
+		await page.screenshot({ path: shot('revision-unit-mistake-rescaled'), fullPage: true });
+		await signOut(page);
+	} finally {
+		await setSizeCheck(page, 'off');
+	}
+});

@@ -12,6 +12,8 @@ type Hook = {
 	overlaysReady: boolean;
 	camera: { position: [number, number, number]; target: [number, number, number]; animating: boolean };
 	render: () => number;
+	gpuMemory: () => { geometries: number; textures: number };
+	setFlowDirection: (f: [number, number, number]) => void;
 };
 // Software WebGL on a busy machine: loading and the first frames take seconds.
 test.describe.configure({ timeout: 120_000 });
@@ -102,4 +104,22 @@ test('a click on the part reports the picked face for a new comment', async ({ p
 	const box = (await page.getByTestId('viewer-canvas').boundingBox())!;
 	await page.mouse.click(box.x + box.width / 2, box.y + box.height / 2);
 	await expect(page.getByTestId('harness-last-pick')).toContainText(/face \d+ shell 0/);
+});
+
+test('changing the flow direction leaves the renderer holding as many geometries and textures as before', async ({ page }) => {
+	await openSampler(page);
+	const memory = () =>
+		page.evaluate(() => {
+			const h = (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer;
+			h.render();
+			return h.gpuMemory();
+		});
+	// One flow change first, so the inset's arrow and label have been uploaded once at the new size.
+	await page.evaluate(() => (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer.setFlowDirection([0, 1, 0]));
+	const start = await memory();
+	expect(start.geometries).toBeGreaterThan(0);
+	for (const f of [[1, 0, 0], [0, 0, 1], [0, -1, 0], [1, 1, 0]] as [number, number, number][]) {
+		await page.evaluate((d) => (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer.setFlowDirection(d), f);
+	}
+	expect(await memory()).toEqual(start);
 });

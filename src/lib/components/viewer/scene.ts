@@ -128,16 +128,23 @@ function meshMaterial(): MeshLambertMaterial {
 	return mat;
 }
 
-const markerTextures = new Map<MarkerShape, Texture>();
-function markerTexture(shape: MarkerShape): Texture {
-	let tex = markerTextures.get(shape);
-	if (tex) return tex;
-	const canvas = document.createElement('canvas');
-	canvas.width = canvas.height = 64;
-	drawMarker(canvas.getContext('2d')!, shape, 64);
-	tex = new CanvasTexture(canvas);
-	markerTextures.set(shape, tex);
-	return tex;
+/** Marker textures, one set per viewer: disposing one viewer never takes another's textures. */
+class MarkerTextures {
+	private cache = new Map<MarkerShape, Texture>();
+	get(shape: MarkerShape): Texture {
+		let tex = this.cache.get(shape);
+		if (tex) return tex;
+		const canvas = document.createElement('canvas');
+		canvas.width = canvas.height = 64;
+		drawMarker(canvas.getContext('2d')!, shape, 64);
+		tex = new CanvasTexture(canvas);
+		this.cache.set(shape, tex);
+		return tex;
+	}
+	dispose(): void {
+		for (const t of this.cache.values()) t.dispose();
+		this.cache.clear();
+	}
 }
 
 function textSprite(text: string, colour: string, px = 48): Sprite {
@@ -197,11 +204,11 @@ function lineObject(segments: Float32Array, colour: string, width: number, dashe
  * Markers drawn twice from one geometry: solid where in front of the surface, ghosted (a quarter
  * opacity) where hidden behind it, so items on the far side stay findable without looking near.
  */
-function markerPoints(points: Float32Array, shape: MarkerShape, colour: string, size: number): Group {
+function markerPoints(textures: MarkerTextures, points: Float32Array, shape: MarkerShape, colour: string, size: number): Group {
 	const geom = new BufferGeometry();
 	geom.setAttribute('position', new BufferAttribute(points, 3));
-	const front = new Points(geom, new PointsMaterial({ map: markerTexture(shape), color: new Color(colour), size, sizeAttenuation: false, transparent: true, alphaTest: 0.2, depthTest: true, depthWrite: false }));
-	const ghost = new Points(geom, new PointsMaterial({ map: markerTexture(shape), color: new Color(colour), size, sizeAttenuation: false, transparent: true, opacity: 0.22, depthTest: false, depthWrite: false }));
+	const front = new Points(geom, new PointsMaterial({ map: textures.get(shape), color: new Color(colour), size, sizeAttenuation: false, transparent: true, alphaTest: 0.2, depthTest: true, depthWrite: false }));
+	const ghost = new Points(geom, new PointsMaterial({ map: textures.get(shape), color: new Color(colour), size, sizeAttenuation: false, transparent: true, opacity: 0.22, depthTest: false, depthWrite: false }));
 	ghost.renderOrder = 9;
 	front.renderOrder = 10;
 	const g = new Group();
@@ -275,6 +282,7 @@ export class ViewerScene {
 	private frameTimes: number[] = [];
 	private pending = false;
 	private disposed = false;
+	private markerTextures = new MarkerTextures();
 	private anim: { from: Vector3; to: Vector3; fromT: Vector3; toT: Vector3; t0: number } | null = null;
 	private resizeObserver: ResizeObserver;
 	private compareMode: CompareMode | null = null;
@@ -285,7 +293,6 @@ export class ViewerScene {
 	private flowArrow: ArrowHelper | null = null;
 	private flowLabel: Sprite | null = null;
 	private visible: Record<OverlayKind, boolean> = Object.fromEntries(KIND_ORDER.map((k) => [k, true])) as Record<OverlayKind, boolean>;
-	onChange: (() => void) | null = null;
 
 	constructor(container: HTMLElement, flowDirection: [number, number, number]) {
 		this.container = container;
@@ -343,8 +350,15 @@ export class ViewerScene {
 	}
 
 	setFlowDirection(flow: [number, number, number]): void {
-		if (this.flowArrow) this.inset.remove(this.flowArrow);
-		if (this.flowLabel) this.inset.remove(this.flowLabel);
+		if (this.flowArrow) {
+			this.inset.remove(this.flowArrow);
+			this.flowArrow.dispose();
+		}
+		if (this.flowLabel) {
+			this.inset.remove(this.flowLabel);
+			this.flowLabel.material.map?.dispose();
+			this.flowLabel.material.dispose();
+		}
 		const d = new Vector3(...flow);
 		if (d.lengthSq() === 0) d.set(1, 0, 0);
 		d.normalize();
@@ -459,27 +473,27 @@ export class ViewerScene {
 		if (o.holeSegments.length) {
 			const centres = new Float32Array(3 * o.holes.length);
 			o.holes.forEach((h, i) => centres.set(h.centroid, 3 * i));
-			add('holes', lineObject(o.holeSegments, st.holes.colour, 4.5, true, dash), markerPoints(centres, 'ring', st.holes.colour, 26));
+			add('holes', lineObject(o.holeSegments, st.holes.colour, 4.5, true, dash), markerPoints(this.markerTextures, centres, 'ring', st.holes.colour, 26));
 		}
 		if (o.nonManifoldEdgeSegments.length) {
 			const outer = lineObject(o.nonManifoldEdgeSegments, st.nonManifoldEdges.colour, 7, false);
 			const inner = lineObject(o.nonManifoldEdgeSegments, '#0c1117', 2.2, false);
 			inner.renderOrder = 1;
-			add('nonManifoldEdges', outer, inner, markerPoints(midpoints(o.nonManifoldEdgeSegments, 5000), 'diamond', st.nonManifoldEdges.colour, 20));
+			add('nonManifoldEdges', outer, inner, markerPoints(this.markerTextures, midpoints(o.nonManifoldEdgeSegments, 5000), 'diamond', st.nonManifoldEdges.colour, 20));
 		}
-		if (o.nonManifoldVertexPoints.length) add('nonManifoldVertices', markerPoints(o.nonManifoldVertexPoints, 'double-diamond', st.nonManifoldVertices.colour, 24));
+		if (o.nonManifoldVertexPoints.length) add('nonManifoldVertices', markerPoints(this.markerTextures, o.nonManifoldVertexPoints, 'double-diamond', st.nonManifoldVertices.colour, 24));
 		if (o.selfIntersectionPoints.length) {
 			add(
 				'selfIntersections',
 				this.faceSubset(o.selfIntersectionFaces, patternMaterial(st.selfIntersections.colour, 1, 0.9, 7)),
-				markerPoints(o.selfIntersectionPoints, 'cross', st.selfIntersections.colour, 22)
+				markerPoints(this.markerTextures, o.selfIntersectionPoints, 'cross', st.selfIntersections.colour, 22)
 			);
 		}
 		if (o.shortEdgeSegments.length) {
-			add('shortEdges', lineObject(o.shortEdgeSegments, st.shortEdges.colour, 5, false), markerPoints(midpoints(o.shortEdgeSegments, 20000), 'tick', st.shortEdges.colour, 12));
+			add('shortEdges', lineObject(o.shortEdgeSegments, st.shortEdges.colour, 5, false), markerPoints(this.markerTextures, midpoints(o.shortEdgeSegments, 20000), 'tick', st.shortEdges.colour, 12));
 		}
 		if (o.degenerateFaces.length) {
-			add('degenerateFaces', markerPoints(this.faceCentres(o.degenerateFaces, 20000), 'hatched-square', st.degenerateFaces.colour, 20));
+			add('degenerateFaces', markerPoints(this.markerTextures, this.faceCentres(o.degenerateFaces, 20000), 'hatched-square', st.degenerateFaces.colour, 20));
 		}
 		if (o.flippedFaces.length) add('flippedFaces', this.faceSubset(o.flippedFaces, patternMaterial(st.flippedFaces.colour, 0, 0.85, 6)));
 		if (o.floatingShells.length) {
@@ -493,7 +507,7 @@ export class ViewerScene {
 				'floatingShells',
 				this.faceSubset(o.floatingFaces, patternMaterial(st.floatingShells.colour, 2, 0.35, 1)),
 				lineObject(Float32Array.from(box), st.floatingShells.colour, 2.5, true, dash * 0.25),
-				markerPoints(centres, 'dotted-circle', st.floatingShells.colour, 26)
+				markerPoints(this.markerTextures, centres, 'dotted-circle', st.floatingShells.colour, 26)
 			);
 		}
 		if (this.colourMode === 'shells') this.applyColours();
@@ -516,7 +530,6 @@ export class ViewerScene {
 
 	/** Centre and circumradius-ish size of the listed faces. */
 	faceFocus(faces: Uint32Array): Focus {
-		const c = this.faceCentres(faces);
 		const min = [Infinity, Infinity, Infinity], max = [-Infinity, -Infinity, -Infinity];
 		const p = this.mesh!.geometry.getAttribute('position').array as Float32Array;
 		const idx = this.mesh!.geometry.getIndex()!.array as Uint32Array;
@@ -529,7 +542,6 @@ export class ViewerScene {
 				}
 			}
 		}
-		void c;
 		const center: [number, number, number] = [0.5 * (min[0] + max[0]), 0.5 * (min[1] + max[1]), 0.5 * (min[2] + max[2])];
 		return { center, radius: 0.5 * Math.hypot(max[0] - min[0], max[1] - min[1], max[2] - min[2]), faces };
 	}
@@ -683,7 +695,7 @@ export class ViewerScene {
 		if (this.compareMode === 'deviation') this.setColourMode(distances ? 'deviation' : 'plain');
 	}
 
-	/** Positions of the loaded mesh (for the deviation worker; a copy, the GPU buffer stays). */
+	/** Positions of the loaded mesh: the live array behind the GPU buffer, not a copy; callers copy before transferring. */
 	meshPositions(): Float32Array | null {
 		return this.mesh ? (this.mesh.geometry.getAttribute('position').array as Float32Array) : null;
 	}
@@ -762,7 +774,7 @@ export class ViewerScene {
 		if (focus) {
 			if (focus.segments && focus.segments.length) this.highlightGroup.add(lineObject(focus.segments, '#ffffff', 3, false));
 			if (focus.faces && focus.faces.length) this.highlightGroup.add(this.faceSubset(focus.faces, patternMaterial('#ffffff', 2, 0.55, 1)));
-			const pt = markerPoints(Float32Array.from(focus.center), 'reticle', '#ffffff', 44);
+			const pt = markerPoints(this.markerTextures, Float32Array.from(focus.center), 'reticle', '#ffffff', 44);
 			pt.children.forEach((c) => (c.renderOrder += 6));
 			this.highlightGroup.add(pt);
 		}
@@ -895,7 +907,6 @@ export class ViewerScene {
 		const ms = performance.now() - t0;
 		this.frameTimes.push(ms);
 		if (this.frameTimes.length > 240) this.frameTimes.shift();
-		this.onChange?.();
 		return ms;
 	}
 
@@ -930,6 +941,12 @@ export class ViewerScene {
 		return this.frameStats();
 	}
 
+	/** GPU objects this viewer's renderer holds (for the leak check in the dev harness tests). */
+	gpuMemory(): { geometries: number; textures: number } {
+		const m = this.renderer.info.memory;
+		return { geometries: m.geometries, textures: m.textures };
+	}
+
 	cameraPosition(): [number, number, number] {
 		return [this.camera.position.x, this.camera.position.y, this.camera.position.z];
 	}
@@ -951,7 +968,7 @@ export class ViewerScene {
 			}
 			if (m.material) {
 				const mat = m.material as Material & { map?: Texture | null };
-				// Marker textures are shared and cached; they are disposed with the scene.
+				// Marker textures are cached per viewer; they are disposed with the scene.
 				mat.dispose();
 			}
 		});
@@ -975,8 +992,7 @@ export class ViewerScene {
 			mat?.map?.dispose();
 			mat?.dispose();
 		});
-		for (const t of markerTextures.values()) t.dispose();
-		markerTextures.clear();
+		this.markerTextures.dispose();
 		this.renderer.dispose();
 		this.renderer.forceContextLoss();
 		this.renderer.domElement.remove();

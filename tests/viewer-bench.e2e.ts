@@ -1,0 +1,55 @@
+// Viewer bench on a part of about a million triangles (the defect sampler at a fine cell), in the
+// same headless chromium (software WebGL) as the end-to-end tests. The short-edge limit is set far
+// above every edge, as a unit mistake would, so the short-edge overlay holds every edge of the part.
+// Prints figures; asserts only that the view loaded and the orbit finished. Runs only through
+// npm run bench:viewer (VIEWER_BENCH=1); npm test skips it.
+import { expect, test } from '@playwright/test';
+import { defectSampler } from '../src/lib/components/viewer/sample-defects';
+import { writeBinaryStl } from '../src/lib/mesh/write';
+import { inspectBytes } from '../src/lib/mesh/inspect';
+
+const CELL = Number(process.env.BENCH_CELL ?? 0.0062);
+const MIN_EDGE = 1e6;
+
+type Stats = { frames: number; meanMs: number; p95Ms: number; maxMs: number };
+type Hook = {
+	status: string;
+	triangles: number;
+	overlaysReady: boolean;
+	timings: Record<string, number>;
+	benchmark: (frames: number, moving: boolean) => Stats;
+};
+
+test('viewer bench: a million-triangle part with every edge short', async ({ page }) => {
+	test.skip(!process.env.VIEWER_BENCH, 'bench: npm run bench:viewer');
+	test.setTimeout(900_000);
+	let t = performance.now();
+	const bytes = writeBinaryStl(defectSampler(CELL));
+	const report = inspectBytes(bytes, 'bench-part.stl', { minEdgeLength: MIN_EDGE });
+	console.log(`part: ${report.faces} triangles, ${report.shortEdges} short edges, generated and checked in ${((performance.now() - t) / 1000).toFixed(1)} s`);
+	await page.route('**/bench/part.stl', (r) => r.fulfill({ body: Buffer.from(bytes), contentType: 'application/octet-stream' }));
+	await page.route('**/bench/report.json', (r) => r.fulfill({ body: JSON.stringify(report), contentType: 'application/json' }));
+	t = performance.now();
+	await page.goto(`/dev/viewer?url=/bench/part.stl&name=bench-part.stl&reportUrl=/bench/report.json&minEdge=${MIN_EDGE}`);
+	await page.waitForFunction(() => (window as unknown as { __shellgateViewer?: Hook }).__shellgateViewer?.overlaysReady === true, null, { timeout: 600_000, polling: 500 });
+	const wall = performance.now() - t;
+	const r = await page.evaluate(() => {
+		const h = (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer;
+		const nav = performance.getEntriesByType('navigation')[0] as PerformanceNavigationTiming;
+		const still = h.benchmark(5, false);
+		const orbit = h.benchmark(60, true);
+		return { triangles: h.triangles, html: nav.responseEnd, timings: h.timings, still, orbit };
+	});
+	expect(r.triangles).toBe(report.faces);
+	expect(r.orbit.frames).toBeGreaterThanOrEqual(60);
+	const s = (ms: number) => `${(ms / 1000).toFixed(2)} s`;
+	console.log(
+		[
+			`first mesh frame after the HTML: ${s(r.timings.meshAt + r.timings.setMeshMs - r.html)} (fetch ${r.timings.fetchMs?.toFixed(0)} ms, parse ${r.timings.parseMs?.toFixed(0)} ms, picking tree ${r.timings.bvhMs?.toFixed(0)} ms)`,
+			`overlays drawn after the HTML: ${s(r.timings.overlaysAt + r.timings.setOverlaysMs - r.html)} (worker ${r.timings.overlaysMs?.toFixed(0)} ms, upload ${r.timings.setOverlaysMs?.toFixed(0)} ms)`,
+			`page to overlays ready, wall clock: ${s(wall)}`,
+			`still frame: mean ${r.still.meanMs.toFixed(0)} ms`,
+			`orbit, 60 steps, every overlay on: mean ${r.orbit.meanMs.toFixed(0)} ms, p95 ${r.orbit.p95Ms.toFixed(0)} ms, max ${r.orbit.maxMs.toFixed(0)} ms, ${(1000 / r.orbit.meanMs).toFixed(1)} fps`
+		].join('\n')
+	);
+});

@@ -2,6 +2,29 @@
 // server and pages; evaluation lives in rules.ts.
 import { z } from 'zod';
 
+// --- Repair limits: how much a repair may change a part before it is held for a reviewer. ---
+/**
+ * Defaults (common practice for a clean-up of a surface mesh before CFD, choices of this product):
+ * a clean-up should not change the enclosed volume by more than 1 % or the wetted area by more than
+ * 2 %, should not remove or add more than half the faces, and should not move the surface by more
+ * than half a target cell.
+ */
+export const repairLimitsSchema = z.object({
+	maxVolumeChangePercent: z.number().nonnegative().max(1e6).default(1),
+	maxAreaChangePercent: z.number().nonnegative().max(1e6).default(2),
+	maxFaceChangePercent: z.number().nonnegative().max(1e6).default(50),
+	/** Largest distance to the original: absolute in project units, or a fraction of the target cell size. */
+	maxDeviation: z.object({ mode: z.enum(['absolute', 'fraction-of-cell']), value: z.number().nonnegative().max(1e9) }).default({ mode: 'fraction-of-cell', value: 0.5 })
+});
+export type RepairLimitsProfile = z.infer<typeof repairLimitsSchema>;
+/** The repair limits of stored gate rules (profiles written before the limits existed get the defaults). */
+export function repairLimitsOf(rules: unknown): RepairLimitsProfile {
+	const r = (rules as { repairLimits?: unknown } | null)?.repairLimits;
+	const parsed = repairLimitsSchema.safeParse(r ?? {});
+	return parsed.success ? parsed.data : repairLimitsSchema.parse({});
+}
+// --- end of repair limits ---
+
 export const gateRulesSchema = z.object({
 	closed: z.boolean().default(true),
 	manifold: z.boolean().default(true),
@@ -14,9 +37,12 @@ export const gateRulesSchema = z.object({
 		.default({ mode: 'fraction-of-cell', value: 0.02 }),
 	maxShells: z.number().int().min(1).max(1_000_000).nullable().default(1),
 	expectedGenus: z.number().int().min(0).max(10_000).nullable().default(null),
-	maxDegenerateFaces: z.number().int().min(0).max(1e9).default(0)
+	maxDegenerateFaces: z.number().int().min(0).max(1e9).default(0),
+	repairLimits: repairLimitsSchema.prefault({})
 });
 
 export type GateRules = z.infer<typeof gateRulesSchema>;
 
 export const DEFAULT_GATE_RULES: GateRules = gateRulesSchema.parse({});
+
+export const DEFAULT_REPAIR_LIMITS: RepairLimitsProfile = DEFAULT_GATE_RULES.repairLimits;

@@ -76,7 +76,8 @@ export const actions: Actions = {
 			minEdgeLength: minVal === null ? null : { mode: fd.get('minEdgeMode'), value: minVal },
 			maxShells: num(fd.get('maxShells')),
 			expectedGenus: num(fd.get('expectedGenus')),
-			maxDegenerateFaces: num(fd.get('maxDegenerateFaces')) ?? 0
+			maxDegenerateFaces: num(fd.get('maxDegenerateFaces')) ?? 0,
+			repairLimits: repairLimitsFromForm(fd)
 		});
 		if (!parsed.success) return fail(400, { profileError: parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ') });
 		const db = getDb();
@@ -109,3 +110,18 @@ export const actions: Actions = {
 		return { settingsSaved: true };
 	}
 };
+
+/** The repair-limit fields of the profile form; a blank field keeps its default. */
+function repairLimitsFromForm(fd: FormData) {
+	const n = (k: string) => {
+		const v = fd.get(k);
+		return v === null || String(v).trim() === '' ? undefined : Number(v);
+	};
+	const devValue = n('rlDevValue');
+	return {
+		maxVolumeChangePercent: n('rlVolume'),
+		maxAreaChangePercent: n('rlArea'),
+		maxFaceChangePercent: n('rlFaces'),
+		maxDeviation: devValue === undefined ? undefined : { mode: fd.get('rlDevMode') ?? 'fraction-of-cell', value: devValue }
+	};
+}

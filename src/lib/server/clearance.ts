@@ -31,6 +31,7 @@ export async function clearanceRecord(db: Db, u: SessionUser, revisionId: number
 		signedOffBy: { name: row.by, email: row.byEmail },
 		signedOffAt: row.d.createdAt.toISOString(),
 		note: row.d.reason,
+		override: row.d.overrideReason ? { reason: row.d.overrideReason } : null,
 		caution: CLEARANCE_CAUTION
 	};
 }

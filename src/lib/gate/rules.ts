@@ -118,7 +118,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 			limit: 'all faces outward',
 			explanation: ok
 				? 'All faces point outwards consistently, so normals, volume and forces come out with the right sign.'
-				: `${!r.orientable ? 'Part of the surface is non-orientable (like a Möbius strip), which no solver can accept. ' : ''}Some faces point inwards while their neighbours point outwards${inverted ? ', or a whole shell is inside-out (negative volume)' : ''}. Solvers use face orientation to decide which side is fluid; wrong normals give wrong forces or a failed mesh. This is usually a winding-order slip in the exporter; a repair can re-orient it safely.`,
+				: `${!r.orientable ? 'Part of the surface is non-orientable (like a Möbius strip), which no solver can accept. ' : ''}Some faces point inwards while their neighbours point outwards${inverted ? ', or a whole shell is inside-out (negative volume)' : ''}. Solvers use face orientation to decide which side is fluid; wrong normals give wrong forces or a failed mesh. ${r.orientable ? 'This is usually a winding-order slip in the exporter; a repair can re-orient it safely.' : 'A repair cannot orient a one-sided surface: the shape itself has to be remodelled.'}`,
 			location: null
 		});
 	}

@@ -85,6 +85,14 @@ describe('repair limits', () => {
 		expect(d.overrideReason).toBe('the two spare bodies were fixtures, not part of the pod');
 		const rec = await clearanceRecord(db, users.reviewer, rep.id);
 		expect(rec.override).toEqual({ reason: 'the two spare bodies were fixtures, not part of the pod' });
+		expect(rec.parent).toMatchObject({ id: up.revisionId, number: 1, uploadedBy: users.designer.name });
+		expect(rec.project).toMatchObject({ units: 'mm', targetCellSize: expect.any(Number) });
+		expect(rec.repair?.steps).toHaveLength(1);
+		expect(rec.repair?.limits?.within).toBe(false);
+		expect(rec.repair?.limits?.lines.map((l) => l.measure)).toEqual(['volume', 'area', 'faces', 'deviation']);
+		expect(rec.signedOffBy.name).toBe(users.reviewer.name);
+		expect(rec.gateProfileVersion).toBe(1);
+		expect(rec.profileNote).toBeNull();
 	});
 
 	it('makes no revision for a repair that changes nothing, and says so', async () => {

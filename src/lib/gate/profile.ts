@@ -6,12 +6,12 @@ import { z } from 'zod';
 /**
  * Defaults (common practice for a clean-up of a surface mesh before CFD, choices of this product):
  * a clean-up should not change the enclosed volume by more than 1 % or the wetted area by more than
- * 2 %, should not remove or add more than half the faces, and should not move the surface by more
+ * 5 % (filling the holes of an open part adds their area, a few percent on small parts), should not remove or add more than half the faces, and should not move the surface by more
  * than half a target cell.
  */
 export const repairLimitsSchema = z.object({
 	maxVolumeChangePercent: z.number().nonnegative().max(1e6).default(1),
-	maxAreaChangePercent: z.number().nonnegative().max(1e6).default(2),
+	maxAreaChangePercent: z.number().nonnegative().max(1e6).default(5),
 	maxFaceChangePercent: z.number().nonnegative().max(1e6).default(50),
 	/** Largest distance to the original: absolute in project units, or a fraction of the target cell size. */
 	maxDeviation: z.object({ mode: z.enum(['absolute', 'fraction-of-cell']), value: z.number().nonnegative().max(1e9) }).default({ mode: 'fraction-of-cell', value: 0.5 })

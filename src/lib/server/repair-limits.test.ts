@@ -72,7 +72,7 @@ describe('repair limits', () => {
 		const [rep] = await db.select().from(revision).where(eq(revision.parentRevisionId, up.revisionId));
 		expect(rep.status).toBe('held');
 		expect(rep.statusReason).toMatch(/volume -66\.67 % against a limit of ±1 %/);
-		expect(rep.statusReason).toMatch(/area -66\.67 % against a limit of ±2 %/);
+		expect(rep.statusReason).toMatch(/area -66\.67 % against a limit of ±5 %/);
 		expect(rep.statusReason).toMatch(/faces 36 → 12 \(-66\.67 %\) against a limit of ±50 %/);
 
 		const refused = await signOffError(rep.id, null);

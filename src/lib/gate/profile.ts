@@ -2,6 +2,29 @@
 // server and pages; evaluation lives in rules.ts.
 import { z } from 'zod';
 
+// --- Repair limits: how much a repair may change a part before it is held for a reviewer. ---
+/**
+ * Defaults (common practice for a clean-up of a surface mesh before CFD, choices of this product):
+ * a clean-up should not change the enclosed volume by more than 1 % or the wetted area by more than
+ * 5 % (filling the holes of an open part adds their area, a few percent on small parts), should not remove or add more than half the faces, and should not move the surface by more
+ * than half a target cell.
+ */
+export const repairLimitsSchema = z.object({
+	maxVolumeChangePercent: z.number().nonnegative().max(1e6).default(1),
+	maxAreaChangePercent: z.number().nonnegative().max(1e6).default(5),
+	maxFaceChangePercent: z.number().nonnegative().max(1e6).default(50),
+	/** Largest distance to the original: absolute in project units, or a fraction of the target cell size. */
+	maxDeviation: z.object({ mode: z.enum(['absolute', 'fraction-of-cell']), value: z.number().nonnegative().max(1e9) }).default({ mode: 'fraction-of-cell', value: 0.5 })
+});
+export type RepairLimitsProfile = z.infer<typeof repairLimitsSchema>;
+/** The repair limits of stored gate rules (profiles written before the limits existed get the defaults). */
+export function repairLimitsOf(rules: unknown): RepairLimitsProfile {
+	const r = (rules as { repairLimits?: unknown } | null)?.repairLimits;
+	const parsed = repairLimitsSchema.safeParse(r ?? {});
+	return parsed.success ? parsed.data : repairLimitsSchema.parse({});
+}
+// --- end of repair limits ---
+
 export const gateRulesSchema = z.object({
 	closed: z.boolean().default(true),
 	manifold: z.boolean().default(true),
@@ -24,7 +47,8 @@ export const gateRulesSchema = z.object({
 		.object({ mode: z.enum(['absolute', 'cells']), min: z.number().positive().max(1e12), max: z.number().positive().max(1e12) })
 		.refine((x) => x.min < x.max, { message: 'the smallest expected size must be below the largest', path: ['max'] })
 		.nullable()
-		.default(null)
+		.default(null),
+	repairLimits: repairLimitsSchema.prefault({})
 });
 
 /**
@@ -36,3 +60,5 @@ export const SIZE_IN_CELLS = { mode: 'cells', min: 10, max: 100_000 } as const;
 export type GateRules = z.infer<typeof gateRulesSchema>;
 
 export const DEFAULT_GATE_RULES: GateRules = gateRulesSchema.parse({});
+
+export const DEFAULT_REPAIR_LIMITS: RepairLimitsProfile = DEFAULT_GATE_RULES.repairLimits;

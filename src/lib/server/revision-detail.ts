@@ -1,4 +1,5 @@
 // Everything shown about one revision: used by the revision page and GET /api/v1/revisions/{id}.
+import { repairJudgement } from './repair-limits';
 import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm';
 import { gateRulesSchema } from '../gate/profile';
 import { scaleFix } from '../gate/rules';
@@ -21,7 +22,8 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 		engineVersion: checkRun.engineVersion,
 		durationMs: checkRun.durationMs,
 		severity: checkRun.severity,
-		gateProfileId: checkRun.gateProfileId
+		gateProfileId: checkRun.gateProfileId,
+		failedRules: checkRun.failedRules
 	};
 	// Everything below depends only on the revision row, so the queries go out together.
 	const [runRows, activeJobs, decisions, uploaders, assignees, comments, repairJobRows, parent] = await Promise.all([
@@ -66,6 +68,7 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 	// The rescale a unit mistake calls for, offered as a one-click repair on a held revision.
 	const unitFix = report && parsedRules?.success ? scaleFix(report, parsedRules.data, { units: ctx.project.units, targetCellSize: ctx.project.targetCellSize }) : null;
 	const [activeJob] = activeJobs;
+	const limitsJudged = run ? repairJudgement(rev, profile?.rules, ctx.project) : null;
 	const [uploader] = uploaders;
 	const [assignee] = assignees;
 	return {
@@ -119,16 +122,32 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 			reason: d.reason,
 			fileSha256: d.fileSha256,
 			reportSha256: d.reportSha256,
-			gateProfileVersion: d.gateProfileVersion
+			gateProfileVersion: d.gateProfileVersion,
+			overrideReason: d.overrideReason
 		})),
 		comments,
 		repairJobs: repairJobRows.map((j) => {
-			const p = (j.payload ?? {}) as { recipeName?: string; resultRevisionId?: number };
-			return { id: j.id, status: j.status, stage: j.stage, percent: j.percent, lastError: j.lastError, recipeName: p.recipeName ?? 'recipe', resultRevisionId: p.resultRevisionId ?? null, createdAt: j.createdAt };
+			const p = (j.payload ?? {}) as { recipeName?: string; resultRevisionId?: number; nothingToChange?: string; skipped?: string[] };
+			return {
+				id: j.id,
+				status: j.status,
+				stage: j.stage,
+				percent: j.percent,
+				lastError: j.lastError,
+				recipeName: p.recipeName ?? 'recipe',
+				resultRevisionId: p.resultRevisionId ?? null,
+				nothingToChange: p.nothingToChange ?? null,
+				skipped: p.skipped ?? [],
+				createdAt: j.createdAt
+			};
 		}),
 		parent,
 		/** Largest surface deviation a repair may introduce: half the target cell size (project units). */
-		repairTolerance: ctx.project.targetCellSize * 0.5
+		repairTolerance: ctx.project.targetCellSize * 0.5,
+		/** A repair's change measures against the repair limits of the profile it was checked under (null for uploads). */
+		repairLimits: limitsJudged,
+		/** Held only for being outside the repair limits: a reviewer may sign off with an override. */
+		overridable: rev.status === 'held' && !!run && run.failedRules === '' && limitsJudged?.within === false
 	};
 }
 

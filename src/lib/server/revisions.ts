@@ -9,6 +9,7 @@ import { checkRun, decision, gateProfile, part, project, revision, type Revision
 import { enqueueCheck } from './jobs/queue';
 import { notifyReturned, notifySignedOff } from './notify';
 import { can, type Action } from '../permissions';
+import { repairSignOffGuard, type OverrideInput } from './repair-limits';
 
 export class HttpError extends Error {
 	constructor(
@@ -107,18 +108,20 @@ export function fourEyesConflict(u: SessionUser, ctx: Ctx): string | null {
 	return null;
 }
 
-export async function signOff(db: Db, u: SessionUser, ctx: Ctx, note: string | null): Promise<number> {
+export async function signOff(db: Db, u: SessionUser, ctx: Ctx, note: string | null, override: OverrideInput | null = null): Promise<number> {
 	assertCan(u, 'sign-off');
 	const conflict = fourEyesConflict(u, ctx);
 	if (conflict) throw new HttpError(403, conflict);
 	const run = await latestCheck(db, ctx.rev.id);
 	if (!run) throw new HttpError(409, 'This revision has no finished check to sign off.');
+	const [runProf] = await db.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1);
+	const guard = repairSignOffGuard(ctx.rev, run.failedRules, runProf?.rules, ctx.project, override);
 	let decisionId = 0;
-	await transition(db, u, ctx, ['clear', 'repair-proposed'], 'signed-off', 'signed-off', null, async (tx) => {
+	await transition(db, u, ctx, guard.allowHeld ? ['clear', 'repair-proposed', 'held'] : ['clear', 'repair-proposed'], 'signed-off', 'signed-off', null, async (tx) => {
 		const [prof] = await tx.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1);
 		const [d] = await tx
 			.insert(decision)
-			.values({ revisionId: ctx.rev.id, kind: 'sign-off', byId: u.id, reason: note?.trim() || null, fileSha256: ctx.rev.sha256, reportSha256: run.reportSha256, gateProfileId: prof.id, gateProfileVersion: prof.version })
+			.values({ revisionId: ctx.rev.id, kind: 'sign-off', byId: u.id, reason: note?.trim() || null, fileSha256: ctx.rev.sha256, reportSha256: run.reportSha256, gateProfileId: prof.id, gateProfileVersion: prof.version, overrideReason: guard.overrideReason })
 			.$returningId();
 		decisionId = d.id;
 		await notifySignedOff(tx, ref(ctx), u.name);

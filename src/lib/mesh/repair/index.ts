@@ -21,3 +21,5 @@ export {
 	type RepairLogEntry,
 	type RecipeResult
 } from './recipe';
+export { areaAndVolume, sameMesh, judgeRepair, type ChangeMeasures, type RepairLimits, type LimitLine, type LimitJudgement } from './change-measures';
+export { skippedItems, recipeScaleFactor } from './skipped';

@@ -326,6 +326,8 @@ export const decision = mysqlTable(
 		reportSha256: varchar('report_sha256', { length: 64 }),
 		gateProfileId: int('gate_profile_id').references(() => gateProfile.id),
 		gateProfileVersion: int('gate_profile_version'),
+		/** A sign-off of a repair outside its limits: the reviewer's reason for overriding them. */
+		overrideReason: text('override_reason'),
 		createdAt: createdAt()
 	},
 	(t) => [index('decision_revision').on(t.revisionId)]

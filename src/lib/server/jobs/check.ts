@@ -16,6 +16,7 @@ import type { EngineTask } from './engine-thread';
 import { EnginePool, EngineRefused as CheckRefused, type EngineLimits as CheckLimits } from './engine-pool';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
 import { failureReason } from '../reasons';
+import { repairJudgement } from '../repair-limits';
 
 export { CheckRefused, type CheckLimits };
 
@@ -117,7 +118,8 @@ export async function writeCheckResult(db: Db, j: ClaimedJob, workerId: string, 
 	const outcomes = evaluateGate(report, rules, gctx);
 	const passes = gatePasses(outcomes);
 	const reportJson = JSON.stringify(report);
-	const next = passes ? (ctx.rev.source === 'repair' ? 'repair-proposed' : 'clear') : 'held';
+	const limitsOut = passes ? repairJudgement(ctx.rev, rules, ctx.project) : null;
+	const next = passes ? (ctx.rev.source === 'repair' ? (limitsOut && !limitsOut.within ? 'held' : 'repair-proposed') : 'clear') : 'held';
 	const failed = blockingFailures(outcomes);
 	const written = await db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;
@@ -156,13 +158,14 @@ export async function writeCheckResult(db: Db, j: ClaimedJob, workerId: string, 
 				location: o.location
 			}))
 		);
-		await tx.update(revision).set({ status: next, statusReason: passes ? null : failed.map((o) => RULE_TITLES[o.rule]).join('; ').slice(0, 1000), latestCheckId: run.id, updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
+		await tx.update(revision).set({ status: next, statusReason: passes ? (next === 'held' ? limitsOut!.reason.slice(0, 1000) : null) : failed.map((o) => RULE_TITLES[o.rule]).join('; ').slice(0, 1000), latestCheckId: run.id, updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
 		await audit(tx, null, 'revision', ctx.rev.id, 'checked', 'checking', next, { checkRun: run.id, failed: failed.map((o) => o.rule), profileVersion: profile.version });
 		const ref = { id: ctx.rev.id, number: ctx.rev.number, partName: ctx.part.name, projectName: ctx.project.name, uploaderId: ctx.rev.uploaderId };
 		if (next === 'held') {
 			// For a repair that still fails, the designer of the original upload is the one to tell.
 			const designerRev = ctx.rev.parentRevisionId ? await originalUpload(tx, ctx.rev.parentRevisionId) : null;
-			await notifyHeld(tx, { ...ref, uploaderId: designerRev?.uploaderId ?? ref.uploaderId }, failed.map((o) => `${RULE_TITLES[o.rule]}: ${o.measured}. ${o.explanation}`));
+			const reasons = passes ? [limitsOut!.reason] : failed.map((o) => `${RULE_TITLES[o.rule]}: ${o.measured}. ${o.explanation}`);
+			await notifyHeld(tx, { ...ref, uploaderId: designerRev?.uploaderId ?? ref.uploaderId }, reasons);
 		} else if (next === 'repair-proposed') {
 			await notifyRepairAwaits(tx, ref, ctx.project.teamId, ctx.rev.uploaderId);
 		}

@@ -6,7 +6,8 @@ import { inspectBytes } from '../../mesh/inspect';
 import { inspectFileNode } from '../../mesh/inspect-node';
 import { isWorkerFor, lowerThisThreadPriority } from '../../mesh/module-worker-node';
 import { readMesh } from '../../mesh/read';
-import { applyRecipe, meshDeviation, RepairError, type RepairLogEntry, type RepairStep } from '../../mesh/repair';
+import { applyRecipe, areaAndVolume, meshDeviation, recipeScaleFactor, RepairError, sameMesh, skippedItems, type ChangeMeasures, type RepairLogEntry, type RepairStep } from '../../mesh/repair';
+
 import type { InspectOptions } from '../../mesh/report';
 import { MeshReadError } from '../../mesh/types';
 import { writeBinaryStl, writeObj, writePly } from '../../mesh/write';
@@ -29,6 +30,12 @@ export interface RepairOutput {
 	deviation: { hausdorff: number; mean: number; parentToRepaired: number; repairedToParent: number | null };
 	facesBefore: number;
 	facesAfter: number;
+	/** Area, volume, faces and deviation before and after, for the repair limits. */
+	measures: ChangeMeasures;
+	/** Items the steps left alone, each with why (e.g. a hole above the size limit). */
+	skipped: string[];
+	/** True when the result is the same mesh as the original: no revision is made. */
+	unchanged: boolean;
 }
 
 export type EngineMessage =
@@ -58,14 +65,42 @@ async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise
 	const { mesh, log } = applyRecipe(parent, input.steps);
 	if (mesh.indices.length === 0) throw new RepairError('the recipe removed every face; nothing is left to check');
 	post({ type: 'progress', stage: 'measuring deviation', percent: 70 });
-	const dev = meshDeviation(parent, mesh, { symmetric: true });
+	const skipped = skippedItems(log);
+	if (sameMesh(parent, mesh)) {
+		const m0 = areaAndVolume(parent);
+		const f = parent.indices.length / 3;
+		const measures: ChangeMeasures = { facesBefore: f, facesAfter: f, areaBefore: m0.area, areaAfter: m0.area, volumeBefore: m0.volume, volumeAfter: m0.volume, deviation: 0 };
+		return { bytes: new Uint8Array(0), log, deviation: { hausdorff: 0, mean: 0, parentToRepaired: 0, repairedToParent: 0 }, facesBefore: f, facesAfter: f, measures, skipped, unchanged: true } satisfies RepairOutput;
+	}
+	// With a rescale in the recipe, the deviation is measured after undoing it (result ÷ F against the original).
+	const scaleFactor = recipeScaleFactor(input.steps);
+	let measured = mesh;
+	if (scaleFactor !== 1) {
+		const pos = mesh.positions.slice();
+		for (let i = 0; i < pos.length; i++) pos[i] /= scaleFactor;
+		measured = { positions: pos, indices: mesh.indices };
+	}
+	const dev = meshDeviation(parent, measured, { symmetric: true });
+	const before = areaAndVolume(parent), after = areaAndVolume(mesh);
 	post({ type: 'progress', stage: 'writing', percent: 90 });
 	const out: RepairOutput = {
 		bytes: writeBinaryStl(mesh, 'binary STL repaired by Shellgate'),
 		log,
 		deviation: { hausdorff: dev.hausdorff, mean: dev.mean, parentToRepaired: dev.aToB.max, repairedToParent: dev.bToA?.max ?? null },
 		facesBefore: parent.indices.length / 3,
-		facesAfter: mesh.indices.length / 3
+		facesAfter: mesh.indices.length / 3,
+		measures: {
+			facesBefore: parent.indices.length / 3,
+			facesAfter: mesh.indices.length / 3,
+			areaBefore: before.area,
+			areaAfter: after.area,
+			volumeBefore: before.volume,
+			volumeAfter: after.volume,
+			deviation: dev.hausdorff,
+			scaleFactor
+		},
+		skipped,
+		unchanged: false
 	};
 	return out;
 }

@@ -47,6 +47,18 @@ export async function processRepairJob(db: Db, j: ClaimedJob, workerId: string, 
 		return refused ? 'refused' : 'failed';
 	}
 	if (!(await heartbeat(db, j.id, workerId, 'storing', 95))) return 'lost';
+	if (out.unchanged) {
+		// Same mesh out as in: no revision. The job says so, with what each step left alone and why.
+		const nothing = `nothing to change: the ${payload.recipeName} recipe left the mesh exactly as it was${out.skipped.length ? ` (${out.skipped.join('; ')})` : ''}`.slice(0, 2000);
+		await db.transaction(async (txx) => {
+			const tx = txx as unknown as Db;
+			if (!(await lockOwnJob(tx, j.id, workerId))) return;
+			await tx.update(job).set({ payload: { ...payload, resultRevisionId: null, nothingToChange: nothing, skipped: out.skipped } }).where(eq(job.id, j.id));
+			await audit(tx, engineer.id, 'revision', ctx.rev.id, 'repair-unchanged', null, null, { recipe: payload.recipeName });
+			await finishJob(tx, j.id);
+		});
+		return 'done';
+	}
 	const base = ctx.rev.fileName.replace(/\.(stl|ply|obj)$/i, '');
 	const spooled = await spool(Readable.from([Buffer.from(out.bytes)]), Number.MAX_SAFE_INTEGER);
 	const created = await ingestRevision(db, {
@@ -58,13 +70,13 @@ export async function processRepairJob(db: Db, j: ClaimedJob, workerId: string, 
 		source: 'repair',
 		parentRevisionId: ctx.rev.id,
 		recipe: { name: payload.recipeName, steps: payload.steps },
-		repairLog: { log: out.log, deviation: out.deviation, facesBefore: out.facesBefore, facesAfter: out.facesAfter },
+		repairLog: { log: out.log, deviation: out.deviation, facesBefore: out.facesBefore, facesAfter: out.facesAfter, measures: out.measures, skipped: out.skipped },
 		note: `Repair of rev ${ctx.rev.number} with the ${payload.recipeName} recipe`
 	});
 	await db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;
 		if (!(await lockOwnJob(tx, j.id, workerId))) return;
-		await tx.update(job).set({ payload: { ...payload, resultRevisionId: created.revisionId } }).where(eq(job.id, j.id));
+		await tx.update(job).set({ payload: { ...payload, resultRevisionId: created.revisionId, skipped: out.skipped } }).where(eq(job.id, j.id));
 		await audit(tx, engineer.id, 'revision', ctx.rev.id, 'repaired', null, null, { repairRevisionId: created.revisionId, duplicate: created.duplicateOf !== null });
 		await finishJob(tx, j.id);
 	});

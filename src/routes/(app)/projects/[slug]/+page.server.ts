@@ -92,7 +92,8 @@ export const actions: Actions = {
 			expectedSize:
 				fd.get('sizeMode') === 'cells' || fd.get('sizeMode') === 'absolute'
 					? { mode: fd.get('sizeMode'), min: num(fd.get('sizeMin')), max: num(fd.get('sizeMax')) }
-					: null
+					: null,
+			repairLimits: repairLimitsFromForm(fd)
 		});
 		if (!parsed.success) return fail(400, { profileError: parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ') });
 		const db = getDb();
@@ -125,3 +126,18 @@ export const actions: Actions = {
 		return { settingsSaved: true };
 	}
 };
+
+/** The repair-limit fields of the profile form; a blank field keeps its default. */
+function repairLimitsFromForm(fd: FormData) {
+	const n = (k: string) => {
+		const v = fd.get(k);
+		return v === null || String(v).trim() === '' ? undefined : Number(v);
+	};
+	const devValue = n('rlDevValue');
+	return {
+		maxVolumeChangePercent: n('rlVolume'),
+		maxAreaChangePercent: n('rlArea'),
+		maxFaceChangePercent: n('rlFaces'),
+		maxDeviation: devValue === undefined ? undefined : { mode: fd.get('rlDevMode') ?? 'fraction-of-cell', value: devValue }
+	};
+}

@@ -1,3 +1,4 @@
+import { parseOverride } from '$lib/server/repair-limits';
 import { error, fail, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { requireRole } from '$lib/server/auth';
@@ -90,9 +91,10 @@ export const actions: Actions = {
 	signOff: async ({ locals, params, request }) => {
 		const res = await guarded(async () => {
 			const me = requireRole(locals, 'reviewer');
-			const note = String((await request.formData()).get('note') ?? '').slice(0, 1000);
+			const fd = await request.formData();
+			const note = String(fd.get('note') ?? '').slice(0, 1000);
 			const db = getDb();
-			await signOff(db, me, await loadRevisionForUser(db, me, revId(params.id)), note || null);
+			await signOff(db, me, await loadRevisionForUser(db, me, revId(params.id)), note || null, parseOverride(fd.get('overrideReason')));
 			return null;
 		});
 		if (res) return res;

@@ -1,0 +1,1 @@
+ALTER TABLE `decision` ADD `override_reason` text;

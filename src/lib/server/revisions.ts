@@ -143,7 +143,7 @@ export async function assignRevision(db: Db, u: SessionUser, revisionIds: number
 
 export async function recheck(db: Db, u: SessionUser, ctx: Ctx): Promise<void> {
 	assertCan(u, 'recheck');
-	await transition(db, u, ctx, ['held', 'clear', 'returned', 'unreadable', 'repair-proposed'], 'awaiting-check', 'recheck-requested', null, async (tx) => {
+	await transition(db, u, ctx, ['held', 'clear', 'returned', 'unreadable', 'check-incomplete', 'repair-proposed'], 'awaiting-check', 'recheck-requested', null, async (tx) => {
 		await enqueueCheck(tx, ctx.rev.id, config.checkAttempts);
 	});
 }

@@ -31,7 +31,8 @@ export const REVISION_STATES = [
 	'repair-proposed',
 	'signed-off',
 	'returned',
-	'unreadable'
+	'unreadable',
+	'check-incomplete'
 ] as const;
 export type RevisionState = (typeof REVISION_STATES)[number];
 

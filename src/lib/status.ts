@@ -7,7 +7,8 @@ export const STATUS_LABEL: Record<string, string> = {
 	'repair-proposed': 'Repair proposed',
 	'signed-off': 'Signed off',
 	returned: 'Returned to designer',
-	unreadable: 'Unreadable'
+	unreadable: 'Unreadable',
+	'check-incomplete': 'Check incomplete'
 };
 
 export const STATUS_HELP: Record<string, string> = {
@@ -18,5 +19,6 @@ export const STATUS_HELP: Record<string, string> = {
 	'repair-proposed': 'A repaired copy passed the gate; waits for a different reviewer.',
 	'signed-off': 'Cleared for the solver by a reviewer.',
 	returned: 'Sent back to the designer with a reason.',
-	unreadable: 'The file could not be read; see the reason.'
+	unreadable: 'The file could not be read; see the reason.',
+	'check-incomplete': 'The check could not finish (our side, not the file); see the reason and re-check.'
 };

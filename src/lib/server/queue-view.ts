@@ -17,7 +17,7 @@ export function failedRulesSummary(failedRules: string[]): string | null {
 }
 
 /** States that still need someone's action; the queue's default view. */
-export const NEEDS_ACTION = ['awaiting-check', 'checking', 'held', 'clear', 'repair-proposed', 'unreadable'] as const;
+export const NEEDS_ACTION = ['awaiting-check', 'checking', 'held', 'clear', 'repair-proposed', 'unreadable', 'check-incomplete'] as const;
 
 export const queueFilterSchema = z.object({
 	project: z.string().max(64).optional(),

@@ -8,11 +8,17 @@ export function withoutPaths(text: string): string {
 	return text.replace(PATH, (_m, before: string) => `${before}(server path)`);
 }
 
+/** True when the failure is the stored file being absent (retrying cannot bring it back). */
+export function storedFileMissing(e: unknown): boolean {
+	const err = e as { code?: string; name?: string } | null;
+	return err?.code === 'ENOENT' || err?.name === 'NoSuchKey' || err?.name === 'NotFound';
+}
+
 /** A failure as a reason a person can read: file-system codes in words, no paths. */
 export function failureReason(e: unknown): string {
 	const err = e as { code?: string; name?: string; message?: string } | null;
 	const code = err?.code ?? '';
-	if (code === 'ENOENT' || err?.name === 'NoSuchKey' || err?.name === 'NotFound') return 'the stored file is missing';
+	if (storedFileMissing(e)) return 'the stored file is missing';
 	if (code === 'EACCES' || code === 'EPERM') return 'the stored file could not be read (permission denied)';
 	if (code === 'EISDIR' || code === 'ENOTDIR') return 'the stored file is not where it should be';
 	return withoutPaths(String(err?.message ?? e));

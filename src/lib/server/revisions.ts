@@ -5,11 +5,12 @@ import { audit } from './audit';
 import type { SessionUser } from './auth';
 import { config } from './config';
 import type { Db } from './db';
-import { checkRun, decision, gateProfile, part, project, revision, type RevisionState } from './db/schema';
+import { checkRun, decision, gateProfile, part, project, revision } from './db/schema';
 import { enqueueCheck } from './jobs/queue';
 import { notifyReturned, notifySignedOff } from './notify';
 import { can, type Action } from '../permissions';
 import { repairSignOffGuard, type OverrideInput } from './repair-limits';
+import { eventAllowedFrom, eventRule, type RevisionEvent } from '../revision-states';
 
 export class HttpError extends Error {
 	constructor(
@@ -65,12 +66,14 @@ export async function latestCheck(db: Db, revisionId: number) {
 
 type Ctx = Awaited<ReturnType<typeof loadRevisionForUser>>;
 
-async function transition(db: Db, u: SessionUser, ctx: Ctx, allowedFrom: RevisionState[], to: RevisionState, action: string, reason: string | null, after?: (tx: Db) => Promise<void>) {
+/** Applies a person's event (revision-states.ts says from where and to what) with its audit row, under the row lock. */
+async function transition(db: Db, u: SessionUser, ctx: Ctx, event: RevisionEvent, action: string, reason: string | null, after?: (tx: Db) => Promise<void>) {
+	const { from, to } = eventRule(event);
 	await db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;
 		const [cur] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, ctx.rev.id)).limit(1).for('update');
-		if (!allowedFrom.includes(cur.status)) {
-			throw new HttpError(409, `This revision is "${cur.status.replace(/-/g, ' ')}"; ${action.replace(/-/g, ' ')} needs it to be ${allowedFrom.map((s) => `"${s.replace(/-/g, ' ')}"`).join(' or ')}.`);
+		if (!eventAllowedFrom(event, cur.status)) {
+			throw new HttpError(409, `This revision is "${cur.status.replace(/-/g, ' ')}"; ${action.replace(/-/g, ' ')} needs it to be ${from.map((s) => `"${s.replace(/-/g, ' ')}"`).join(' or ')}.`);
 		}
 		await tx.update(revision).set({ status: to, statusReason: reason, updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
 		await audit(tx, u.id, 'revision', ctx.rev.id, action, cur.status, to, reason ? { reason } : null);
@@ -84,7 +87,7 @@ export async function returnRevision(db: Db, u: SessionUser, ctx: Ctx, reason: s
 	assertCan(u, 'return');
 	if (!reason.trim()) throw new HttpError(400, 'Say why the revision goes back, so the designer knows what to change.');
 	const run = await latestCheck(db, ctx.rev.id);
-	await transition(db, u, ctx, ['held', 'clear', 'repair-proposed'], 'returned', 'returned', reason.trim().slice(0, 1000), async (tx) => {
+	await transition(db, u, ctx, 'return', 'returned', reason.trim().slice(0, 1000), async (tx) => {
 		const [prof] = run ? await tx.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1) : [];
 		await tx.insert(decision).values({
 			revisionId: ctx.rev.id,
@@ -117,7 +120,7 @@ export async function signOff(db: Db, u: SessionUser, ctx: Ctx, note: string | n
 	const [runProf] = await db.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1);
 	const guard = repairSignOffGuard(ctx.rev, run.failedRules, runProf?.rules, ctx.project, override);
 	let decisionId = 0;
-	await transition(db, u, ctx, guard.allowHeld ? ['clear', 'repair-proposed', 'held'] : ['clear', 'repair-proposed'], 'signed-off', 'signed-off', null, async (tx) => {
+	await transition(db, u, ctx, guard.allowHeld && ctx.rev.status === 'held' ? 'sign-off-override' : 'sign-off', 'signed-off', null, async (tx) => {
 		const [prof] = await tx.select().from(gateProfile).where(eq(gateProfile.id, run.gateProfileId)).limit(1);
 		const [d] = await tx
 			.insert(decision)
@@ -146,7 +149,7 @@ export async function assignRevision(db: Db, u: SessionUser, revisionIds: number
 
 export async function recheck(db: Db, u: SessionUser, ctx: Ctx): Promise<void> {
 	assertCan(u, 'recheck');
-	await transition(db, u, ctx, ['held', 'clear', 'returned', 'unreadable', 'repair-proposed'], 'awaiting-check', 'recheck-requested', null, async (tx) => {
+	await transition(db, u, ctx, 'recheck', 'recheck-requested', null, async (tx) => {
 		await enqueueCheck(tx, ctx.rev.id, config.checkAttempts);
 	});
 }

@@ -22,18 +22,9 @@ import {
 export const ROLES = ['admin', 'engineer', 'designer', 'reviewer'] as const;
 export type Role = (typeof ROLES)[number];
 
-/** Triage states of a revision, in the order a revision usually moves through them. */
-export const REVISION_STATES = [
-	'awaiting-check',
-	'checking',
-	'held',
-	'clear',
-	'repair-proposed',
-	'signed-off',
-	'returned',
-	'unreadable'
-] as const;
-export type RevisionState = (typeof REVISION_STATES)[number];
+// Triage states of a revision: defined with the events between them in the pure table.
+import { REVISION_STATES, type RevisionState } from '../../revision-states';
+export { REVISION_STATES, type RevisionState };
 
 const now = () => sql`CURRENT_TIMESTAMP(3)`;
 const createdAt = () => datetime('created_at', { mode: 'date', fsp: 3 }).notNull().default(now());

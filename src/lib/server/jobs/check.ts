@@ -15,7 +15,7 @@ import { getStore } from '../storage';
 import type { EngineTask } from './engine-thread';
 import { EnginePool, EngineRefused as CheckRefused, type EngineLimits as CheckLimits } from './engine-pool';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
-import { failureReason } from '../reasons';
+import { failureReason, storedFileMissing } from '../reasons';
 import { repairJudgement } from '../repair-limits';
 
 export { CheckRefused, type CheckLimits };
@@ -62,11 +62,14 @@ export async function loadCheckSetup(db: Db, revisionId: number) {
 }
 export type CheckSetup = NonNullable<Awaited<ReturnType<typeof loadCheckSetup>>>;
 
-/** Processes one claimed job end to end; never throws for a bad file (that ends as unreadable). */
+/**
+ * Processes one claimed job end to end; never throws. A file the engine refused ends unreadable; a
+ * missing stored file, or a check that ran out of attempts (time limit, crash), ends check-incomplete.
+ */
 export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, limits: CheckLimits, signal?: AbortSignal): Promise<'done' | 'refused' | 'failed' | 'lost'> {
 	const setup = await loadCheckSetup(db, j.revisionId);
 	if (!setup) {
-		await failAttempt(db, j.id, workerId, 'The revision no longer exists.', true);
+		await failAttempt(db, j.id, workerId, 'The revision no longer exists.', 'incomplete');
 		return 'refused';
 	}
 	const { ctx, rules, gctx } = setup;
@@ -102,7 +105,7 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 		);
 	} catch (e) {
 		const refused = e instanceof CheckRefused;
-		await failAttempt(db, j.id, workerId, failureReason(e), refused);
+		await failAttempt(db, j.id, workerId, failureReason(e), refused ? 'unreadable' : storedFileMissing(e) ? 'incomplete' : 'retry');
 		return refused ? 'refused' : 'failed';
 	}
 	if (lost) return 'lost';

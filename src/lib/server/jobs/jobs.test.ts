@@ -10,6 +10,7 @@ import { useFreshDatabase } from '../testing/db';
 import { fixture, seededUsers, uploadBytes } from '../testing/fixtures';
 import { processCheckJob } from './check';
 import { claimJob } from './queue';
+import { loadRevisionForUser, recheck } from '../revisions';
 
 let drop: () => Promise<void>;
 let users: Awaited<ReturnType<typeof seededUsers>>;
@@ -114,22 +115,52 @@ describe('check jobs on the real MariaDB', () => {
 		await drain();
 	});
 
-	it('a check whose stored file is missing ends unreadable with a reason that names no server path', async () => {
+	it('a check whose stored file is missing ends check-incomplete (not unreadable) at once, with a reason that names no server path', async () => {
 		const db = getDb();
 		const base = new TextDecoder().decode(fixture('cube-closed-ascii.stl'));
 		const up = await uploadBytes(db, users.designer, new TextEncoder().encode(base + '\n\n\n\n\n\n\n\n\n\n\n\n'), 'lost.stl', 'sensor-pods', 'lost-pod');
 		const [r0] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
 		await getStore().delete(r0.sha256);
-		const outcomes = await drain();
-		expect(outcomes.length).toBeGreaterThan(0);
+		// Retrying cannot bring the file back, so there is one attempt only.
+		expect(await drain()).toEqual(['failed']);
 		const [rev] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
-		expect(rev.status).toBe('unreadable');
+		expect(rev.status).toBe('check-incomplete');
 		expect(rev.statusReason).toMatch(/the stored file is missing/);
 		const [j] = await db.select().from(job).where(eq(job.revisionId, up.revisionId));
+		expect(j.status).toBe('failed');
+		expect(j.attempts).toBe(1);
 		const audits = await db.select().from(auditEvent).where(eq(auditEvent.entityId, String(up.revisionId)));
+		expect(audits.map((a) => a.action)).toEqual(['uploaded', 'check-started', 'check-incomplete']);
 		for (const text of [rev.statusReason ?? '', j.lastError ?? '', JSON.stringify(audits.map((a) => a.detail ?? null))]) {
 			expect(text).not.toContain(process.env.SHELLGATE_DATA_DIR!);
 			expect(text).not.toMatch(/ENOENT|\/tmp\//);
 		}
+	});
+
+	it('a check that keeps running past its time limit ends check-incomplete with the reason, and a re-check from there finishes', async () => {
+		const db = getDb();
+		const up = await uploadBytes(db, users.designer, fixture('cube-closed.stl'), 'slow-pod.stl', 'sensor-pods', 'slow-pod');
+		const worker = 'timed-worker';
+		const outcomes: string[] = [];
+		// A 1 ms limit: every attempt is ended by the time limit, until the attempts run out.
+		for (let j = await claimJob(db, worker); j; j = await claimJob(db, worker)) outcomes.push(await processCheckJob(db, j, worker, { ...LIMITS, timeLimitMs: 1 }));
+		expect(outcomes.length).toBeGreaterThan(0);
+		expect(outcomes.every((o) => o === 'failed')).toBe(true);
+		const [rev] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
+		expect(rev.status).toBe('check-incomplete');
+		expect(rev.statusReason).toMatch(/gave up after \d+ attempts/);
+		expect(rev.statusReason).toMatch(/time limit/);
+		expect(await db.select().from(checkRun).where(eq(checkRun.revisionId, up.revisionId))).toHaveLength(0);
+
+		const ctx = await loadRevisionForUser(db, users.engineer, up.revisionId);
+		await recheck(db, users.engineer, ctx);
+		const [again] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
+		expect(again.status).toBe('awaiting-check');
+		expect(await drain()).toEqual(['done']);
+		const [done] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
+		expect(done.status).toBe('clear');
+		const audits = await db.select().from(auditEvent).where(eq(auditEvent.entityId, String(up.revisionId)));
+		expect(audits.map((a) => a.action)).toContain('check-incomplete');
+		expect(audits.map((a) => a.action)).not.toContain('unreadable');
 	});
 });

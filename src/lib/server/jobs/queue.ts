@@ -1,6 +1,7 @@
 // The job queue in MariaDB. Workers claim with SELECT … FOR UPDATE SKIP LOCKED, so two workers never
 // get the same job; a claim is a lease that the worker's heartbeat extends. A job whose lease ran out
-// (worker died or hung) is claimable again; after maxAttempts its revision is marked unreadable.
+// (worker died or hung) is claimable again; after maxAttempts its revision is marked check-incomplete
+// (the check could not finish: our fault, not the file's). Only a file the engine refused is unreadable.
 import { and, asc, eq, lt, or, sql } from 'drizzle-orm';
 import type { Db } from '../db';
 import { job, revision } from '../db/schema';
@@ -35,7 +36,7 @@ export async function claimJob(db: Db, workerId: string, leaseMs = LEASE_MS): Pr
 			if (row.attempts >= row.maxAttempts) {
 				const reason = `The check gave up after ${row.attempts} attempts. Last problem: ${row.lastError ?? 'the worker stopped answering (killed, out of memory or over its time limit).'}`;
 				await tx.update(job).set({ status: 'failed', finishedAt: now, lastError: withoutPaths(reason).slice(0, 1000) }).where(eq(job.id, row.id));
-				await closeFailed(tx as unknown as Db, row, reason);
+				await closeFailed(tx as unknown as Db, row, reason, 'incomplete');
 				return { kind: 'closed' as const };
 			}
 			const leaseUntil = new Date(now.getTime() + leaseMs);
@@ -79,25 +80,37 @@ export async function finishJob(tx: Db, jobId: number): Promise<void> {
 	await tx.update(job).set({ status: 'done', percent: 100, stage: 'done', finishedAt: new Date() }).where(eq(job.id, jobId));
 }
 
-/** A failed attempt: retried later unless `permanent` (the file itself is bad) or out of attempts. */
-export async function failAttempt(db: Db, jobId: number, workerId: string, message: string, permanent: boolean): Promise<void> {
+/**
+ * How a failed attempt ends: `retry` (tried again until out of attempts, then the check is
+ * incomplete), `unreadable` (the file itself cannot be read; no retry), or `incomplete` (the check
+ * cannot finish and retrying will not help, e.g. the stored file is missing; no retry).
+ */
+export type FailureEnding = 'retry' | 'unreadable' | 'incomplete';
+
+/** A failed attempt: retried later unless it ends at once (`unreadable`, `incomplete`) or is out of attempts. */
+export async function failAttempt(db: Db, jobId: number, workerId: string, message: string, ending: FailureEnding): Promise<void> {
 	await db.transaction(async (tx) => {
 		if (!(await lockOwnJob(tx as unknown as Db, jobId, workerId))) return;
 		const [row] = await tx.select().from(job).where(eq(job.id, jobId)).limit(1);
-		if (permanent || row.attempts >= row.maxAttempts) {
-			const reason = permanent ? message : `The check gave up after ${row.attempts} attempts. Last problem: ${message}`;
+		if (ending !== 'retry' || row.attempts >= row.maxAttempts) {
+			const reason = ending !== 'retry' ? message : `The check gave up after ${row.attempts} attempts. Last problem: ${message}`;
 			await tx.update(job).set({ status: 'failed', lastError: withoutPaths(reason).slice(0, 1000), finishedAt: new Date() }).where(eq(job.id, jobId));
-			await closeFailed(tx as unknown as Db, row, reason);
+			await closeFailed(tx as unknown as Db, row, reason, ending === 'unreadable' ? 'unreadable' : 'incomplete');
 		} else {
 			await tx.update(job).set({ status: 'queued', lastError: withoutPaths(message).slice(0, 1000), workerId: null, leaseUntil: null, stage: 'waiting to retry' }).where(eq(job.id, jobId));
 		}
 	});
 }
 
-/** A check that cannot finish makes its revision unreadable; a failed repair leaves the original as it was. */
-async function closeFailed(tx: Db, row: ClaimedJob, reason: string): Promise<void> {
-	if (row.kind === 'check') await markUnreadable(tx, row.revisionId, reason, null);
-	else await audit(tx, null, 'revision', row.revisionId, 'repair-failed', null, null, { job: row.id, reason: withoutPaths(reason) });
+/**
+ * A check whose file cannot be read makes its revision unreadable; one that could not finish for any
+ * other reason makes it check-incomplete. A failed repair leaves the original as it was.
+ */
+async function closeFailed(tx: Db, row: ClaimedJob, reason: string, why: 'unreadable' | 'incomplete'): Promise<void> {
+	if (row.kind === 'check') {
+		if (why === 'unreadable') await markUnreadable(tx, row.revisionId, reason, null);
+		else await markCheckIncomplete(tx, row.revisionId, reason, row.id);
+	} else await audit(tx, null, 'revision', row.revisionId, 'repair-failed', null, null, { job: row.id, reason: withoutPaths(reason) });
 }
 
 export async function markUnreadable(tx: Db, revisionId: number, rawReason: string, actorId: string | null): Promise<void> {
@@ -105,6 +118,15 @@ export async function markUnreadable(tx: Db, revisionId: number, rawReason: stri
 	const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, revisionId)).limit(1);
 	await tx.update(revision).set({ status: 'unreadable', statusReason: reason.slice(0, 1000), updatedAt: new Date() }).where(eq(revision.id, revisionId));
 	await audit(tx, actorId, 'revision', revisionId, 'unreadable', rev?.status ?? null, 'unreadable', { reason });
+}
+
+/** The check could not finish (time limit, worker crash, stored file missing): retryable by a re-check. */
+export async function markCheckIncomplete(tx: Db, revisionId: number, rawReason: string, jobId: number): Promise<void> {
+	const reason = withoutPaths(rawReason);
+	const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, revisionId)).limit(1);
+	if (!rev) return;
+	await tx.update(revision).set({ status: 'check-incomplete', statusReason: reason.slice(0, 1000), updatedAt: new Date() }).where(eq(revision.id, revisionId));
+	await audit(tx, null, 'revision', revisionId, 'check-incomplete', rev.status, 'check-incomplete', { job: jobId, reason });
 }
 
 export async function queueCounts(db: Db): Promise<Record<string, number>> {

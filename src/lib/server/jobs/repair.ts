@@ -15,7 +15,7 @@ import { getStore, spool } from '../storage';
 import { CheckRefused, runEngine, type CheckLimits } from './check';
 import type { RepairOutput } from './engine-thread';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
-import { failureReason } from '../reasons';
+import { failureReason, storedFileMissing } from '../reasons';
 import type { RepairStep } from '../../mesh/repair';
 
 export interface RepairPayload {
@@ -29,7 +29,7 @@ export async function processRepairJob(db: Db, j: ClaimedJob, workerId: string, 
 	const ctx = await loadRevisionContext(db, j.revisionId);
 	const engineer = ctx ? await loadSessionUser(db, payload.requestedBy) : null;
 	if (!ctx || !engineer) {
-		await failAttempt(db, j.id, workerId, 'The revision or the engineer who asked for the repair no longer exists.', true);
+		await failAttempt(db, j.id, workerId, 'The revision or the engineer who asked for the repair no longer exists.', 'incomplete');
 		return 'refused';
 	}
 	let out: RepairOutput;
@@ -43,7 +43,7 @@ export async function processRepairJob(db: Db, j: ClaimedJob, workerId: string, 
 		);
 	} catch (e) {
 		const refused = e instanceof CheckRefused;
-		await failAttempt(db, j.id, workerId, failureReason(e), refused);
+		await failAttempt(db, j.id, workerId, failureReason(e), refused ? 'unreadable' : storedFileMissing(e) ? 'incomplete' : 'retry');
 		return refused ? 'refused' : 'failed';
 	}
 	if (!(await heartbeat(db, j.id, workerId, 'storing', 95))) return 'lost';

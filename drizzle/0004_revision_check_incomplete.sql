@@ -1,0 +1,1 @@
+ALTER TABLE `revision` MODIFY COLUMN `status` enum('awaiting-check','checking','held','clear','repair-proposed','signed-off','returned','unreadable','check-incomplete') NOT NULL DEFAULT 'awaiting-check';

@@ -67,3 +67,35 @@ test('an engineer repairs a held revision, cannot sign off their own repair, and
 		await setEngineerAlsoReviewer(page, false);
 	}
 });
+
+test('a repair outside its limits is held, shows the limits table, and the reviewer signs off only with an override', async ({ page }) => {
+	test.setTimeout(150_000);
+	await signInAs(page, 'designer');
+	await page.goto('/upload?project=sensor-pods');
+	await page.getByLabel('Part').fill(`${PART}-open-cube`);
+	await page.getByLabel('Files').setInputFiles('fixtures/cube-one-face-missing.stl');
+	await page.getByRole('button', { name: 'Upload' }).click();
+	await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+	await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
+	const heldUrl = page.url();
+	await signOut(page);
+
+	await signInAs(page, 'engineer');
+	await page.goto(heldUrl);
+	await page.getByRole('button', { name: 'Propose repair' }).click();
+	await expect(page.getByTestId('repair-result')).toBeVisible({ timeout: 60_000 });
+	const repairedHref = await page.getByTestId('repair-result').getAttribute('href');
+	await signOut(page);
+
+	await signInAs(page, 'reviewer');
+	await page.goto(repairedHref!);
+	// Filling the missing face adds a fifth of the cube's area: outside the 5 % area limit.
+	await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
+	await expect(page.getByTestId('repair-limit-area')).toContainText('outside');
+	await expect(page.getByTestId('override-needed')).toBeVisible();
+	await page.screenshot({ path: shot('repair-held-limits'), fullPage: true });
+	await page.getByLabel('Override reason (required)').fill('the missing face was an export slip; the filled cap is the designed lid');
+	await page.getByRole('button', { name: 'Override the limits and sign off' }).click();
+	await expect(page.getByTestId('override')).toContainText('export slip');
+	await signOut(page);
+});

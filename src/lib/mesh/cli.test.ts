@@ -1,11 +1,11 @@
 import { afterAll, describe, expect, it } from 'vitest';
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { writeBinaryStl } from './write';
-import { unitCube, withoutFaces } from './test-meshes';
+import { concat, unitCube, withoutFaces } from './test-meshes';
 
 const cli = fileURLToPath(new URL('./cli.ts', import.meta.url));
 const tsx = fileURLToPath(new URL('../../../node_modules/.bin/tsx', import.meta.url));
@@ -51,4 +51,32 @@ describe('inspect command', () => {
 		expect(r.status).toBe(2);
 		expect(r.stderr).toMatch(/--flow/);
 	}, 60_000);
+
+	it('hands a report over 1 MB whole to a slow pipe reader and exits 0', async () => {
+		// 4000 separate open cubes: one shell entry and one hole each, several MB of JSON.
+		const cubes = [];
+		for (let i = 0; i < 4000; i++) cubes.push(withoutFaces(unitCube([2 * (i % 60), 2 * Math.floor(i / 60), 0]), [0]));
+		const file = join(dir, 'many-pods.stl');
+		writeFileSync(file, writeBinaryStl(concat(...cubes)));
+		const child = spawn(tsx, [cli, file, '--json', '--no-self-intersections'], { stdio: ['ignore', 'pipe', 'pipe'] });
+		const chunks: Buffer[] = [];
+		const out = child.stdout;
+		out.pause();
+		// A deliberately slow reader: take one chunk, then wait before asking for the next.
+		const pump = () => {
+			const c = out.read() as Buffer | null;
+			if (c) chunks.push(c);
+			setTimeout(pump, c ? 5 : 20);
+		};
+		const timer = setTimeout(pump, 500);
+		const code = await new Promise<number | null>((resolve) => child.on('close', (c) => resolve(c)));
+		clearTimeout(timer);
+		for (let c = out.read() as Buffer | null; c; c = out.read() as Buffer | null) chunks.push(c);
+		const text = Buffer.concat(chunks).toString('utf8');
+		expect(code).toBe(0);
+		expect(text.length).toBeGreaterThan(1_000_000);
+		const report = JSON.parse(text);
+		expect(report.components).toBe(4000);
+		expect(report.boundaryLoops).toBe(4000);
+	}, 120_000);
 });

@@ -89,7 +89,9 @@ async function main(): Promise<number> {
 	}
 	try {
 		const r = await inspectFileNode(bytes, args.file, args.opts);
-		process.stdout.write(args.json ? `${JSON.stringify(r)}\n` : `${summary(r)}\n`);
+		const text = args.json ? `${JSON.stringify(r)}\n` : `${summary(r)}\n`;
+		// Wait until the whole report has been handed to the OS: a slow pipe reader must get every byte.
+		await new Promise<void>((resolve, reject) => process.stdout.write(text, (err) => (err ? reject(err) : resolve())));
 		return 0;
 	} catch (e) {
 		process.stderr.write(`${(e as Error).message}\n`);
@@ -97,4 +99,7 @@ async function main(): Promise<number> {
 	}
 }
 
-main().then((code) => process.exit(code));
+// Set the exit code and let Node leave once stdout has drained; process.exit() would cut a piped report short.
+main().then((code) => {
+	process.exitCode = code;
+});

@@ -28,6 +28,7 @@ import {
 	Sprite,
 	SpriteMaterial,
 	Vector2,
+	Triangle,
 	Vector3,
 	WebGLRenderer,
 	type Material,
@@ -52,6 +53,8 @@ export interface PickResult {
 	point: [number, number, number];
 	face: number;
 	shell: number;
+	/** Deviation at the point (interpolated from the face's vertices) while the deviation colouring is shown. */
+	deviation?: number;
 }
 
 export interface PinInput {
@@ -805,9 +808,26 @@ export class ViewerScene {
 		for (const h of hits) {
 			if (this.sectionOn && this.section.distanceToPoint(h.point) < 0) continue;
 			const face = h.faceIndex ?? -1;
-			return { point: [h.point.x, h.point.y, h.point.z], face, shell: this.faceShell && face >= 0 ? this.faceShell[face] : -1 };
+			const hit: PickResult = { point: [h.point.x, h.point.y, h.point.z], face, shell: this.faceShell && face >= 0 ? this.faceShell[face] : -1 };
+			if (this.colourMode === 'deviation' && this.deviation && h.face) hit.deviation = this.deviationAt(h.point, h.face.a, h.face.b, h.face.c);
+			return hit;
 		}
 		return null;
+	}
+
+	private deviationAt(p: Vector3, a: number, b: number, c: number): number {
+		const pos = this.mesh!.geometry.getAttribute('position');
+		const va = new Vector3().fromBufferAttribute(pos, a), vb = new Vector3().fromBufferAttribute(pos, b), vc = new Vector3().fromBufferAttribute(pos, c);
+		const w = Triangle.getBarycoord(p, va, vb, vc, new Vector3());
+		const d = this.deviation!.distances;
+		if (!w) return (d[a] + d[b] + d[c]) / 3;
+		return w.x * d[a] + w.y * d[b] + w.z * d[c];
+	}
+
+	/** Lowest and highest coordinate of the loaded mesh along an axis, in model units. */
+	sectionRange(axis: SectionAxis): [number, number] {
+		const a = axis === 'x' ? 0 : axis === 'y' ? 1 : 2;
+		return [this.bboxMin.getComponent(a), this.bboxMax.getComponent(a)];
 	}
 
 	/** Comment pin within 14 px of a client-space point. */

@@ -193,6 +193,19 @@ function pinSprite(n: number): Sprite {
 	return sprite;
 }
 
+/** Most segments one line overlay draws; above it an even sample is drawn and the rest are counted only. */
+export const LINE_SEGMENT_CAP = 200_000;
+
+/** Every k-th segment so that at most `max` remain (6 floats a segment). */
+function sampleSegments(segments: Float32Array, max: number): Float32Array {
+	const n = segments.length / 6;
+	if (n <= max) return segments;
+	const out = new Float32Array(6 * max);
+	const step = n / max;
+	for (let i = 0; i < max; i++) out.set(segments.subarray(6 * Math.floor(i * step), 6 * Math.floor(i * step) + 6), 6 * i);
+	return out;
+}
+
 function lineObject(segments: Float32Array, colour: string, width: number, dashed: boolean, dash = 1): LineSegments2 {
 	const geom = new LineSegmentsGeometry();
 	geom.setPositions(segments);
@@ -285,6 +298,8 @@ export class ViewerScene {
 	private frameTimes: number[] = [];
 	private pending = false;
 	private disposed = false;
+	/** Overlays drawn as a sample: items drawn and items in the finding. */
+	sampled: Partial<Record<OverlayKind, { drawn: number; total: number }>> = {};
 	private markerTextures = new MarkerTextures();
 	private anim: { from: Vector3; to: Vector3; fromT: Vector3; toT: Vector3; t0: number } | null = null;
 	private resizeObserver: ResizeObserver;
@@ -461,6 +476,7 @@ export class ViewerScene {
 	setOverlays(o: MeshOverlays): void {
 		for (const g of this.overlayGroups.values()) this.disposeGroup(g);
 		this.overlayGroups.clear();
+		this.sampled = {};
 		this.faceShell = o.faceShell;
 		if (!this.mesh) return;
 		const diag = this.bboxMax.distanceTo(this.bboxMin) || 1;
@@ -493,7 +509,9 @@ export class ViewerScene {
 			);
 		}
 		if (o.shortEdgeSegments.length) {
-			add('shortEdges', lineObject(o.shortEdgeSegments, st.shortEdges.colour, 5, false), markerPoints(this.markerTextures, midpoints(o.shortEdgeSegments, 20000), 'tick', st.shortEdges.colour, 12));
+			const drawn = sampleSegments(o.shortEdgeSegments, LINE_SEGMENT_CAP);
+			if (drawn !== o.shortEdgeSegments) this.sampled.shortEdges = { drawn: drawn.length / 6, total: o.shortEdgeSegments.length / 6 };
+			add('shortEdges', lineObject(drawn, st.shortEdges.colour, 5, false), markerPoints(this.markerTextures, midpoints(sampleSegments(o.shortEdgeSegments, 20000), 20000), 'tick', st.shortEdges.colour, 12));
 		}
 		if (o.degenerateFaces.length) {
 			add('degenerateFaces', markerPoints(this.markerTextures, this.faceCentres(o.degenerateFaces, 20000), 'hatched-square', st.degenerateFaces.colour, 20));

@@ -28,6 +28,7 @@ import {
 	Sprite,
 	SpriteMaterial,
 	Vector2,
+	Triangle,
 	Vector3,
 	WebGLRenderer,
 	type Material,
@@ -52,6 +53,8 @@ export interface PickResult {
 	point: [number, number, number];
 	face: number;
 	shell: number;
+	/** Deviation at the point (interpolated from the face's vertices) while the deviation colouring is shown. */
+	deviation?: number;
 }
 
 export interface PinInput {
@@ -190,6 +193,19 @@ function pinSprite(n: number): Sprite {
 	return sprite;
 }
 
+/** Most segments one line overlay draws; above it an even sample is drawn and the rest are counted only. */
+export const LINE_SEGMENT_CAP = 200_000;
+
+/** Every k-th segment so that at most `max` remain (6 floats a segment). */
+function sampleSegments(segments: Float32Array, max: number): Float32Array {
+	const n = segments.length / 6;
+	if (n <= max) return segments;
+	const out = new Float32Array(6 * max);
+	const step = n / max;
+	for (let i = 0; i < max; i++) out.set(segments.subarray(6 * Math.floor(i * step), 6 * Math.floor(i * step) + 6), 6 * i);
+	return out;
+}
+
 function lineObject(segments: Float32Array, colour: string, width: number, dashed: boolean, dash = 1): LineSegments2 {
 	const geom = new LineSegmentsGeometry();
 	geom.setPositions(segments);
@@ -282,6 +298,8 @@ export class ViewerScene {
 	private frameTimes: number[] = [];
 	private pending = false;
 	private disposed = false;
+	/** Overlays drawn as a sample: items drawn and items in the finding. */
+	sampled: Partial<Record<OverlayKind, { drawn: number; total: number }>> = {};
 	private markerTextures = new MarkerTextures();
 	private anim: { from: Vector3; to: Vector3; fromT: Vector3; toT: Vector3; t0: number } | null = null;
 	private resizeObserver: ResizeObserver;
@@ -458,6 +476,7 @@ export class ViewerScene {
 	setOverlays(o: MeshOverlays): void {
 		for (const g of this.overlayGroups.values()) this.disposeGroup(g);
 		this.overlayGroups.clear();
+		this.sampled = {};
 		this.faceShell = o.faceShell;
 		if (!this.mesh) return;
 		const diag = this.bboxMax.distanceTo(this.bboxMin) || 1;
@@ -490,7 +509,9 @@ export class ViewerScene {
 			);
 		}
 		if (o.shortEdgeSegments.length) {
-			add('shortEdges', lineObject(o.shortEdgeSegments, st.shortEdges.colour, 5, false), markerPoints(this.markerTextures, midpoints(o.shortEdgeSegments, 20000), 'tick', st.shortEdges.colour, 12));
+			const drawn = sampleSegments(o.shortEdgeSegments, LINE_SEGMENT_CAP);
+			if (drawn !== o.shortEdgeSegments) this.sampled.shortEdges = { drawn: drawn.length / 6, total: o.shortEdgeSegments.length / 6 };
+			add('shortEdges', lineObject(drawn, st.shortEdges.colour, 5, false), markerPoints(this.markerTextures, midpoints(sampleSegments(o.shortEdgeSegments, 20000), 20000), 'tick', st.shortEdges.colour, 12));
 		}
 		if (o.degenerateFaces.length) {
 			add('degenerateFaces', markerPoints(this.markerTextures, this.faceCentres(o.degenerateFaces, 20000), 'hatched-square', st.degenerateFaces.colour, 20));
@@ -805,9 +826,26 @@ export class ViewerScene {
 		for (const h of hits) {
 			if (this.sectionOn && this.section.distanceToPoint(h.point) < 0) continue;
 			const face = h.faceIndex ?? -1;
-			return { point: [h.point.x, h.point.y, h.point.z], face, shell: this.faceShell && face >= 0 ? this.faceShell[face] : -1 };
+			const hit: PickResult = { point: [h.point.x, h.point.y, h.point.z], face, shell: this.faceShell && face >= 0 ? this.faceShell[face] : -1 };
+			if (this.colourMode === 'deviation' && this.deviation && h.face) hit.deviation = this.deviationAt(h.point, h.face.a, h.face.b, h.face.c);
+			return hit;
 		}
 		return null;
+	}
+
+	private deviationAt(p: Vector3, a: number, b: number, c: number): number {
+		const pos = this.mesh!.geometry.getAttribute('position');
+		const va = new Vector3().fromBufferAttribute(pos, a), vb = new Vector3().fromBufferAttribute(pos, b), vc = new Vector3().fromBufferAttribute(pos, c);
+		const w = Triangle.getBarycoord(p, va, vb, vc, new Vector3());
+		const d = this.deviation!.distances;
+		if (!w) return (d[a] + d[b] + d[c]) / 3;
+		return w.x * d[a] + w.y * d[b] + w.z * d[c];
+	}
+
+	/** Lowest and highest coordinate of the loaded mesh along an axis, in model units. */
+	sectionRange(axis: SectionAxis): [number, number] {
+		const a = axis === 'x' ? 0 : axis === 'y' ? 1 : 2;
+		return [this.bboxMin.getComponent(a), this.bboxMax.getComponent(a)];
 	}
 
 	/** Comment pin within 14 px of a client-space point. */

@@ -13,6 +13,7 @@ import {
 	type InspectionReport,
 	type ShellInfo,
 	type Tolerances,
+	type VolumeUndefinedReason,
 	type Vec3
 } from './report';
 
@@ -138,6 +139,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	}
 	const shells: ShellInfo[] = [];
 	let genusSum: number | null = 0, wettedArea = 0;
+	let reason: VolumeUndefinedReason | null = null;
 	for (let s = 0; s < shellCount; s++) {
 		const chi = sh.vertices[s] - sh.edges[s] + sh.faces[s];
 		const manifold = sh.nonManifoldEdges[s] === 0 && sh.nonManifoldVertices[s] === 0;
@@ -147,7 +149,11 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		if (genus === null) genusSum = null;
 		else if (genusSum !== null) genusSum += genus;
 		const closed = sh.boundaryEdges[s] === 0;
+		const consistent = sh.inconsistentEdges[s] === 0;
 		if (closed) wettedArea += sArea[s];
+		if (!closed) reason = 'open';
+		else if (!manifold && reason !== 'open') reason = 'non-manifold';
+		else if (!consistent && reason === null) reason = 'inconsistent-orientation';
 		const b6 = 6 * s;
 		shells.push({
 			faces: sh.faces[s],
@@ -158,11 +164,12 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 			closed,
 			manifold,
 			orientable,
-			consistentlyOriented: sh.inconsistentEdges[s] === 0,
+			consistentlyOriented: consistent,
 			flippedFaces: sh.flippedFaces[s],
 			eulerCharacteristic: chi,
 			genus,
 			signedVolume: sVol[s],
+			volume: closed && manifold && consistent ? sVol[s] : null,
 			area: sArea[s],
 			bbox: { min: [sBox[b6], sBox[b6 + 1], sBox[b6 + 2]], max: [sBox[b6 + 3], sBox[b6 + 4], sBox[b6 + 5]] }
 		});
@@ -252,7 +259,8 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		faceQualityHistogram: fm.qualityHistogram,
 		bbox: fm.bbox,
 		area: fm.area,
-		volume: fm.volume,
+		volume: reason === null ? fm.volume : null,
+		volumeUndefinedReason: reason,
 		projectedArea: {
 			x: px.area,
 			y: py.area,
@@ -265,7 +273,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 				method: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${pf.cellSize.toPrecision(4)} units; bound = cell area × cells met by outline-candidate edges`
 			}
 		},
-		wettedArea,
+		wettedArea: reason === null ? wettedArea : null,
 		hints,
 		timings,
 		tolerances: tol

@@ -5,7 +5,7 @@
  */
 import { readFileSync } from 'node:fs';
 import { inspectFileNode, type InspectNodeOptions } from './inspect-node';
-import type { InspectionReport, Vec3 } from './report';
+import { volumeReasonText, type InspectionReport, type Vec3 } from './report';
 
 const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--max-faces N] [--threads N] [--no-self-intersections]';
 
@@ -58,7 +58,8 @@ export function summary(r: InspectionReport): string {
 	lines.push(`  degenerate faces ${r.degenerateFaces}, duplicate faces ${r.duplicateFaces}`);
 	lines.push(`  edge length ${fmt(r.minEdgeLength)} .. ${fmt(r.maxEdgeLength)}${r.tolerances.minEdgeLength > 0 ? `, ${r.shortEdges} shorter than ${r.tolerances.minEdgeLength}` : ''}`);
 	lines.push(`  bbox [${r.bbox.min.map(fmt).join(', ')}] .. [${r.bbox.max.map(fmt).join(', ')}]`);
-	lines.push(`  area ${fmt(r.area)}, volume ${fmt(r.volume)}, wetted area ${fmt(r.wettedArea)}`);
+	if (r.volume === null || r.wettedArea === null) lines.push(`  area ${fmt(r.area)}, volume and wetted area not defined: ${volumeReasonText(r.volumeUndefinedReason)}`);
+	else lines.push(`  area ${fmt(r.area)}, volume ${fmt(r.volume)}, wetted area ${fmt(r.wettedArea)}`);
 	const f = r.projectedArea.flow;
 	lines.push(`  frontal area along [${f.direction.map(fmt).join(', ')}]: ${fmt(f.area)} ± ${fmt(f.errorBound)}`);
 	for (const h of r.holes.slice(0, 5)) {

@@ -45,8 +45,9 @@ describe.each(FORMATS.map((f) => f[0]))('inspection after a %s round trip', (for
 		expect(r.edges).toBe(18);
 		expect(r.selfIntersectingPairs).toBe(0);
 		expectClose(r.area, 6, 1e-12, 'area');
-		expectClose(r.volume, 1, 1e-12, 'volume');
-		expectClose(r.wettedArea, 6, 1e-12, 'wetted area');
+		expectClose(r.volume!, 1, 1e-12, 'volume');
+		expectClose(r.wettedArea!, 6, 1e-12, 'wetted area');
+		expect(r.volumeUndefinedReason).toBeNull();
 	});
 
 	it('reports one boundary loop of three edges for a cube with a face removed', () => {
@@ -58,7 +59,10 @@ describe.each(FORMATS.map((f) => f[0]))('inspection after a %s round trip', (for
 		expectClose(r.holes[0].perimeter, 2 + Math.SQRT2, 1e-12, 'perimeter');
 		expect(r.holes[0].onBboxPlane).toBe('z-min');
 		expect(r.genus).toBe(0);
-		expect(r.wettedArea).toBe(0);
+		expect(r.volume).toBeNull();
+		expect(r.wettedArea).toBeNull();
+		expect(r.volumeUndefinedReason).toBe('open');
+		expect(r.shells[0].volume).toBeNull();
 	});
 
 	it('counts two boundary loops for two separate holes', () => {
@@ -173,5 +177,26 @@ describe('inspection of bad input', () => {
 
 	it('refuses a mesh above maxFaces before analysis', () => {
 		expect(() => inspectBytes(writeBinaryStl(cube), 'c.stl', { maxFaces: 5 })).toThrow(/5/);
+	});
+});
+
+describe('volume only where it is defined (common practice: divergence theorem needs a closed, oriented surface)', () => {
+	it('an open box reports volume and wetted area null with reason open', () => {
+		const r = inspectMesh(asParsed(withoutFaces(unitCube(), [0, 1])));
+		expect(r.volume).toBeNull();
+		expect(r.wettedArea).toBeNull();
+		expect(r.volumeUndefinedReason).toBe('open');
+	});
+	it('a closed cube with one face flipped reports reason inconsistent-orientation', () => {
+		const r = inspectMesh(asParsed(flipFaces(unitCube(), [3])));
+		expect(r.volume).toBeNull();
+		expect(r.volumeUndefinedReason).toBe('inconsistent-orientation');
+		expect(r.shells[0].volume).toBeNull();
+	});
+	it('two closed cubes report the summed volume and per-shell volumes', () => {
+		const r = inspectMesh(asParsed(concat(unitCube(), unitCube([3, 0, 0]))));
+		expectClose(r.volume!, 2, 1e-12, 'volume');
+		for (const s of r.shells) expectClose(s.volume!, 1, 1e-12, 'shell volume');
+		expect(r.volumeUndefinedReason).toBeNull();
 	});
 });

@@ -68,7 +68,7 @@ describe('manifold-3d 3.5 as a reference for genus, volume and surface area of c
 			expect(solid.status()).toBe('NoError');
 			const r = report(m);
 			expect(r.genus).toBe(solid.genus());
-			expectClose(r.volume, solid.volume(), 1e-9, 'volume');
+			expectClose(r.volume!, solid.volume(), 1e-9, 'volume');
 			expectClose(r.area, solid.surfaceArea(), 1e-9, 'area');
 		} finally {
 			solid.delete(); // Mesh is a plain JS object in manifold-3d 3.x; only the Manifold holds WASM memory
@@ -102,7 +102,7 @@ describe('analytic areas and volumes', () => {
 		const r0 = 1.5;
 		const errs = [1, 2, 3, 4, 5].map((k) => {
 			const r = report(icosphere(k, r0));
-			return [4 * Math.PI * r0 * r0 - r.area, (4 / 3) * Math.PI * r0 ** 3 - r.volume];
+			return [4 * Math.PI * r0 * r0 - r.area, (4 / 3) * Math.PI * r0 ** 3 - r.volume!];
 		});
 		for (const [ea, ev] of errs) {
 			expect(ea).toBeGreaterThan(0); // inscribed: always below the sphere

@@ -60,10 +60,21 @@ export interface ShellInfo {
 	eulerCharacteristic: number;
 	/** (2 − χ − b) / 2, or null when the shell is non-manifold or non-orientable. */
 	genus: number | null;
-	/** Divergence-theorem volume, positive when normals point outwards; meaningful only if closed. */
+	/** Raw divergence-theorem sum, positive when normals point outwards; meaningful only if closed. */
 	signedVolume: number;
+	/** Enclosed volume: signedVolume when the shell is closed, manifold and consistently oriented, else null. */
+	volume: number | null;
 	area: number;
 	bbox: Bbox;
+}
+
+/** 'open': some shell has boundary edges; 'non-manifold': some edge or vertex is non-manifold;
+ * 'inconsistent-orientation': some interior edge is used twice in the same direction. */
+export type VolumeUndefinedReason = 'open' | 'non-manifold' | 'inconsistent-orientation';
+
+/** Plain words for a VolumeUndefinedReason, e.g. "the surface is open". */
+export function volumeReasonText(reason: VolumeUndefinedReason | null): string {
+	return reason === 'non-manifold' ? 'the surface is non-manifold' : reason === 'inconsistent-orientation' ? 'the faces are not consistently oriented' : 'the surface is open';
 }
 
 export interface FlowProjection {
@@ -162,9 +173,13 @@ export interface InspectionReport {
 
 	bbox: Bbox;
 	area: number;
-	volume: number;
+	/** Enclosed volume; null unless every shell is closed, manifold and consistently oriented. */
+	volume: number | null;
+	/** Why volume (and wettedArea) is null; null when they are defined. */
+	volumeUndefinedReason: VolumeUndefinedReason | null;
 	projectedArea: ProjectedArea;
-	wettedArea: number;
+	/** Area of the closed shells; null exactly when volume is null. */
+	wettedArea: number | null;
 
 	hints: Hint[];
 	/** Milliseconds per stage. */

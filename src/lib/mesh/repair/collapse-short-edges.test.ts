@@ -25,7 +25,7 @@ describe.each(FORMATS)('collapseShortEdges, mesh read back from %s', (_name, wri
 		expect(rep.selfIntersectingPairs).toBe(0);
 		expect(rep.degenerateFaces).toBe(0);
 		// Stated tolerance: volume within 0.1 %, Hausdorff distance below minLength.
-		expect(Math.abs(rep.volume - before.volume) / before.volume).toBeLessThan(0.001);
+		expect(Math.abs(rep.volume! - before.volume!) / before.volume!).toBeLessThan(0.001);
 		expect(meshDeviation(r.mesh, m).hausdorff).toBeLessThan(minLength);
 	});
 });

@@ -37,7 +37,7 @@ describe.each(FORMATS)('fillHoles, mesh read back from %s', (_name, write, file)
 		// Stated tolerance: volume within 1 % of the clean mesh, Hausdorff distance under one cell
 		// (the patch spans the hole with flat triangles; the sagitta is far below a cell here).
 		const cleanRep = inspect(clean);
-		expect(Math.abs(rep.volume - cleanRep.volume) / cleanRep.volume).toBeLessThan(0.01);
+		expect(Math.abs(rep.volume! - cleanRep.volume!) / cleanRep.volume!).toBeLessThan(0.01);
 		expect(meshDeviation(r.mesh, clean).hausdorff).toBeLessThan(CELL);
 	});
 });

@@ -47,10 +47,10 @@ describe.each(FORMATS)('standard recipe on a mesh read back from %s', (_fmt, wri
 		const ref = manifoldVerdict(wasm, mesh);
 		expect(ref.status).toBe('NoError');
 		expect(ref.genus).toBe(0);
-		expectClose(ref.volume, rep.volume, 1e-5, 'manifold-3d volume (float32 copy)');
+		expectClose(ref.volume!, rep.volume!, 1e-5, 'manifold-3d volume (float32 copy)');
 		// Stated tolerances against the clean surface: |ΔV|/V < 1 %, Hausdorff < 2 cells (hole edges are about one cell).
 		const cleanVolume = inspect(clean).volume;
-		expect(Math.abs(rep.volume - cleanVolume) / cleanVolume).toBeLessThan(0.01);
+		expect(Math.abs(rep.volume! - cleanVolume!) / cleanVolume!).toBeLessThan(0.01);
 		expect(meshDeviation(mesh, clean).hausdorff).toBeLessThan(2 * CELL);
 	});
 });

@@ -3,7 +3,7 @@
  * Prints a readable summary, or one JSON report on stdout with --json. Exit 0 when the file was
  * read and inspected, 2 with the message on stderr when not.
  */
-import { readFileSync } from 'node:fs';
+import { readFileSync, writeSync } from 'node:fs';
 import { inspectFileNode, type InspectNodeOptions } from './inspect-node';
 import { volumeReasonText, type InspectionReport, type Vec3 } from './report';
 
@@ -91,12 +91,30 @@ async function main(): Promise<number> {
 	try {
 		const r = await inspectFileNode(bytes, args.file, args.opts);
 		const text = args.json ? `${JSON.stringify(r)}\n` : `${summary(r)}\n`;
-		// Wait until the whole report has been handed to the OS: a slow pipe reader must get every byte.
-		await new Promise<void>((resolve, reject) => process.stdout.write(text, (err) => (err ? reject(err) : resolve())));
+		writeAll(1, text);
 		return 0;
 	} catch (e) {
 		process.stderr.write(`${(e as Error).message}\n`);
 		return 2;
+	}
+}
+
+/**
+ * Hands every byte to the OS before returning, whatever the reader's pace: a pipe set non-blocking
+ * answers EAGAIN when full, so wait a moment and go on. A stream write could still be pending
+ * when the process ends, and a slow pipe reader would then get a cut report.
+ */
+function writeAll(fd: number, text: string): void {
+	const buf = Buffer.from(text, 'utf8');
+	const pause = new Int32Array(new SharedArrayBuffer(4));
+	let off = 0;
+	while (off < buf.length) {
+		try {
+			off += writeSync(fd, buf, off, buf.length - off);
+		} catch (e) {
+			if ((e as NodeJS.ErrnoException).code !== 'EAGAIN') throw e;
+			Atomics.wait(pause, 0, 0, 5);
+		}
 	}
 }
 

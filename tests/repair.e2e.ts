@@ -40,7 +40,7 @@ test('an engineer repairs a held revision, cannot sign off their own repair, and
 		// Before and after, with the measured deviation inside the project's tolerance.
 		const changes = page.getByTestId('repair-changes');
 		await expect(changes).toContainText('What the repair changed');
-		await expect(page.getByTestId('deviation')).toContainText('within the project tolerance');
+		await expect(page.getByTestId('deviation')).toContainText('within the deviation limit');
 		await expect(page.getByTestId('repair-log').locator('li')).toHaveCount(8);
 		await expect(page.getByTestId('four-eyes')).toHaveText('You ran this repair; a different reviewer must sign it off.');
 		await expect(page.getByRole('button', { name: 'Sign off for the solver' })).toHaveCount(0);

@@ -1,7 +1,7 @@
 // Everything shown about one revision: used by the revision page and GET /api/v1/revisions/{id}.
 import { repairJudgement } from './repair-limits';
 import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm';
-import { gateRulesSchema } from '../gate/profile';
+import { gateRulesSchema, repairLimitsOf } from '../gate/profile';
 import { scaleFix } from '../gate/rules';
 import type { InspectionReport } from '../mesh/report';
 import type { SessionUser } from './auth';
@@ -142,8 +142,11 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 			};
 		}),
 		parent,
-		/** Largest surface deviation a repair may introduce: half the target cell size (project units). */
-		repairTolerance: ctx.project.targetCellSize * 0.5,
+		/** Largest surface deviation a repair may introduce, from the repair limits of the profile it was checked under (project units). */
+		repairTolerance: (() => {
+			const dev = repairLimitsOf(profile?.rules).maxDeviation;
+			return dev.mode === 'absolute' ? dev.value : dev.value * ctx.project.targetCellSize;
+		})(),
 		/** A repair's change measures against the repair limits of the profile it was checked under (null for uploads). */
 		repairLimits: limitsJudged,
 		/** Held only for being outside the repair limits: a reviewer may sign off with an override. */

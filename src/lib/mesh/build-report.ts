@@ -2,7 +2,7 @@
 import { DEFAULT_MAX_FACES, MeshReadError, type ParsedMesh } from './types';
 import { analyseTopology, collapsedFaces, type TopologyResult } from './topology';
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
-import { silhouetteArea, type SilhouetteScratch } from './projection';
+import { REFINE, silhouetteArea, type SilhouetteScratch } from './projection';
 import { buildHints } from './hints';
 import { DEFAULT_TOLERANCES } from './tolerances';
 import {
@@ -270,7 +270,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 				direction: flow,
 				area: pf.area,
 				errorBound: pf.errorBound,
-				method: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${pf.cellSize.toPrecision(4)} units; bound = cell area × cells met by outline-candidate edges`
+				method: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${pf.cellSize.toPrecision(4)} units; cells met by outline-candidate edges sampled again on ${REFINE}×${REFINE} sub-cells; bound = sub-cell area × sub-cells met by those edges`
 			}
 		},
 		wettedArea: reason === null ? wettedArea : null,

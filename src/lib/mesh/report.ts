@@ -198,7 +198,7 @@ export interface InspectOptions {
 	skipSelfIntersections?: boolean;
 	/** Cap on selfIntersectionSample length. Default 100. */
 	sampleLimit?: number;
-	/** Raster cells along the longer side of each projection. Default 1024. */
+	/** Raster cells along the longer side of each projection. Default 512. */
 	rasterCells?: number;
 	/** Name shown in the report. */
 	fileName?: string;

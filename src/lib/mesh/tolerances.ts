@@ -13,7 +13,7 @@ export const DEFAULT_TOLERANCES: Tolerances = {
 	tinyShellAreaShare: 0.01,
 	sliverClusterMin: 8,
 	minEdgeLength: 0,
-	rasterCells: 1024,
+	rasterCells: 512,
 	maxHolesListed: 200
 };
 

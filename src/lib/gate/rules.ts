@@ -127,7 +127,11 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	if (rules.closed) {
 		const holes = [...r.holes].sort((a, b) => b.perimeter - a.perimeter);
 		const big = holes[0];
-		const clipped = holes.filter((h) => h.onBboxPlane);
+		// The cause comes from the hints, which weigh the evidence (hints.ts), never from one measure.
+		const seams = r.hints.find((h) => h.kind === 'unwelded-seams');
+		const cut = r.hints.find((h) => h.kind === 'clipped-by-bbox-plane');
+		const flat = r.hints.find((h) => h.kind === 'flat-surface');
+		const weldCloses = seams && r.exactWeld ? r.exactWeld.boundaryEdges === 0 : false;
 		push(verdict(r.boundaryEdges === 0), {
 			rule: 'closed',
 			measured: r.boundaryEdges === 0 ? 'no open edges' : `${plural(r.boundaryLoops, 'hole')}, ${plural(r.boundaryEdges, 'open edge')}`,
@@ -139,9 +143,15 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 							`The surface has ${plural(r.boundaryLoops, 'hole')} (${plural(r.boundaryEdges, 'edge')} that belong to only one face).`,
 							'A CFD mesher needs a closed surface to tell fluid from solid; through a gap the volume mesh leaks and the case will not run.',
 							big ? `The largest hole is ${len(big.perimeter, u)} around, centred near ${at(big.centroid, u)}.` : '',
-							clipped.length
-								? `${plural(clipped.length, 'hole lies', 'holes lie')} flat on the edge of the bounding box (${[...new Set(clipped.map((h) => h.onBboxPlane))].join(', ')}): the shape looks cut off by the generator's sampling volume. Enlarge the sampling box upstream rather than patching here.`
-								: 'Nothing about these openings points to a particular cause: close them where the shape is made (cap the openings, or add the missing faces in the CAD export), then export again; small holes can also be filled by a repair.'
+							seams
+								? weldCloses
+									? 'All of these openings are unwelded seams: vertices at the same position are stored twice, and an exact weld closes the surface without moving anything. Weld first (one repair step, or weld on export).'
+									: `Part of this comes from unwelded seams: an exact weld would leave ${plural(r.exactWeld!.boundaryEdges, 'open edge')}. Weld first, then look at what is left.`
+								: flat
+									? 'The surface is a flat sheet, not a body: it has no thickness, so it cannot enclose a volume. Export the solid, not one of its faces.'
+									: cut
+										? `${cut.message} Enlarging the sampling box upstream is better than patching here.`
+										: 'Nothing about these openings points to a particular cause: close them where the shape is made (cap the openings, or add the missing faces in the CAD export), then export again; small holes can also be filled by a repair.'
 						]
 							.filter(Boolean)
 							.join(' '),

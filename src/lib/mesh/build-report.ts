@@ -4,11 +4,13 @@ import { analyseTopology, collapsedFaces, type TopologyResult } from './topology
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
 import { REFINE, silhouetteArea, type SilhouetteScratch } from './projection';
 import { buildHints } from './hints';
+import { exactWeldMap } from './weld';
 import { DEFAULT_TOLERANCES } from './tolerances';
 import {
 	ENGINE_VERSION,
 	type BboxPlane,
 	type BuildReportOptions,
+	type ExactWeldPreview,
 	type HoleInfo,
 	type InspectionReport,
 	type ShellInfo,
@@ -34,15 +36,26 @@ function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, t
 	const diag = Math.hypot(bb.max[0] - bb.min[0], bb.max[1] - bb.min[1], bb.max[2] - bb.min[2]);
 	const eps = tol.planeRel * diag;
 	const holes: HoleInfo[] = [];
+	const COS_CORNER = Math.cos((10 * Math.PI) / 180), COS_STRAIGHT = Math.cos((0.5 * Math.PI) / 180);
 	for (let l = 0; l < loopCount; l++) {
-		let per = 0, sx = 0, sy = 0, sz = 0;
+		let per = 0, per2 = 0, sx = 0, sy = 0, sz = 0, corners = 0, straight = 0;
 		let x0 = Infinity, y0 = Infinity, z0 = Infinity, x1 = -Infinity, y1 = -Infinity, z1 = -Infinity;
 		const s = loopStart[l], n = loopStart[l + 1] - s;
 		for (let i = s; i < s + n; i++) {
 			const e = loopEdges[i];
 			const a3 = 3 * edgeLo[e], b3 = 3 * edgeHi[e];
-			per += Math.hypot(p[b3] - p[a3], p[b3 + 1] - p[a3 + 1], p[b3 + 2] - p[a3 + 2]);
+			const len = Math.hypot(p[b3] - p[a3], p[b3 + 1] - p[a3 + 1], p[b3 + 2] - p[a3 + 2]);
+			per += len;
+			per2 += len * len;
 			const v3 = 3 * loopVerts[i];
+			// Turn at this vertex: from the previous rim vertex to the next one.
+			const u3 = 3 * loopVerts[i === s ? s + n - 1 : i - 1], w3 = 3 * loopVerts[i === s + n - 1 ? s : i + 1];
+			const ix = p[v3] - p[u3], iy = p[v3 + 1] - p[u3 + 1], iz = p[v3 + 2] - p[u3 + 2];
+			const ox = p[w3] - p[v3], oy = p[w3 + 1] - p[v3 + 1], oz = p[w3 + 2] - p[v3 + 2];
+			const il = Math.hypot(ix, iy, iz), ol = Math.hypot(ox, oy, oz);
+			const cos = il > 0 && ol > 0 ? (ix * ox + iy * oy + iz * oz) / (il * ol) : 1;
+			if (cos < COS_CORNER) corners++;
+			else if (cos > COS_STRAIGHT) straight++;
 			const x = p[v3], y = p[v3 + 1], z = p[v3 + 2];
 			sx += x;
 			sy += y;
@@ -66,10 +79,43 @@ function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, t
 			centroid: [sx / n, sy / n, sz / n],
 			bbox: { min: [x0, y0, z0], max: [x1, y1, z1] },
 			onBboxPlane: onPlane,
-			shell: shell[l]
+			shell: shell[l],
+			corners,
+			straightShare: n > 0 ? straight / n : 0,
+			edgeLengthSpread: n > 0 && per > 0 ? Math.sqrt(Math.max(0, per2 / n - (per / n) ** 2)) / (per / n) : 0
 		});
 	}
 	return holes;
+}
+
+/** Topology after welding exactly coincident vertices (indexed formats); null when there are none. */
+export function exactWeldPreview(parsed: ParsedMesh): ExactWeldPreview | null {
+	if (parsed.stats.duplicatePositions === 0) return null;
+	const vertCount = (parsed.positions.length / 3) | 0;
+	const { map, twins } = exactWeldMap(parsed.positions, vertCount);
+	if (twins === 0) return null;
+	const idx = new Uint32Array(parsed.indices.length);
+	for (let i = 0; i < idx.length; i++) idx[i] = map[parsed.indices[i]];
+	const topo = analyseTopology(idx, vertCount, collapsedFaces(idx).mask);
+	const sh = topo.shells;
+	let genus: number | null = 0;
+	for (let s = 0; s < sh.shellCount; s++) {
+		const manifold = sh.nonManifoldEdges[s] === 0 && sh.nonManifoldVertices[s] === 0;
+		if (!manifold || sh.orientable[s] !== 1) {
+			genus = null;
+			break;
+		}
+		genus += (2 - (sh.vertices[s] - sh.edges[s] + sh.faces[s]) - sh.boundaryLoops[s]) / 2;
+	}
+	return {
+		coincidentVertices: twins,
+		boundaryEdges: topo.boundaryEdges,
+		boundaryLoops: topo.loops.loopCount,
+		shells: sh.shellCount,
+		nonManifoldEdges: topo.nonManifoldEdges,
+		genus,
+		watertight: topo.activeFaces > 0 && topo.boundaryEdges === 0 && topo.nonManifoldEdges === 0 && topo.nonManifoldVertices === 0
+	};
 }
 
 /** Refuse what cannot be measured, before any stage starts: too many faces, non-finite coordinates. */
@@ -203,7 +249,15 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 
 	progress('hints', 95);
 	t0 = performance.now();
+	const exactWeld = exactWeldPreview(parsed);
+	const si = opts.selfIntersections ?? null;
 	const hints = buildHints({
+		faces: triCount,
+		bbox: fm.bbox,
+		boundaryEdges: topo.boundaryEdges,
+		nonManifoldEdges: topo.nonManifoldEdges,
+		exactWeld,
+		selfIntersectingPairs: si ? si.pairs : null,
 		shells,
 		holes: allHoles,
 		area: fm.area,
@@ -216,7 +270,6 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	});
 	timings.hints = performance.now() - t0;
 
-	const si = opts.selfIntersections ?? null;
 	if (si) timings.selfIntersections = si.ms;
 	let orientable = true, flippedFaces = 0;
 	for (const s of shells) {
@@ -233,6 +286,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		edges: topo.edges.edgeCount,
 		weldedVertices: parsed.stats.weldedVertices,
 		duplicatePositions: parsed.stats.duplicatePositions,
+		exactWeld,
 		polygonsSplit: parsed.stats.polygonsSplit,
 		regions: regionCounts,
 		boundaryEdges: topo.boundaryEdges,

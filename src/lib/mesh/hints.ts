@@ -1,12 +1,21 @@
-/** Plain-words hints about likely generator artefacts, from facts already measured. */
+/**
+ * Plain-words hints from facts already measured. Each says what was measured; a likely origin is
+ * named only where the measures point to it (see looksCut).
+ */
 import type { EdgeTable } from './edges';
-import type { Hint, HoleInfo, ShellInfo, Tolerances } from './report';
+import type { Bbox, ExactWeldPreview, Hint, HoleInfo, ShellInfo, Tolerances } from './report';
 
 export interface HintInput {
 	shells: ShellInfo[];
 	/** All holes (not only the listed ones). */
 	holes: HoleInfo[];
 	area: number;
+	faces: number;
+	bbox: Bbox;
+	boundaryEdges: number;
+	nonManifoldEdges: number;
+	exactWeld: ExactWeldPreview | null;
+	selfIntersectingPairs: number | null;
 	faceQuality: Float64Array;
 	skipFace: Uint8Array;
 	indices: Uint32Array;
@@ -19,48 +28,151 @@ function pct(share: number): string {
 	return share < 0.001 ? `${(share * 100).toPrecision(2)} %` : `${(share * 100).toFixed(1)} %`;
 }
 
+const int = (n: number) => n.toLocaleString('en-US');
+const plural = (n: number, one: string, many = `${one}s`) => `${int(n)} ${n === 1 ? one : many}`;
+
+/**
+ * Shells to call specks that can be removed: every shell but the largest (by area) that is below
+ * tinyShellAreaShare of the area and tinyShellFaceShare of the faces, and only while all of them
+ * together stay below tinyShellAreaShare of the area. Otherwise none: the pieces are bodies (an
+ * assembly, a model of many parts), and removing them would change what the mesh is.
+ */
+export function smallShellIds(shellArea: ArrayLike<number>, shellFaces: ArrayLike<number>, tol: Tolerances): number[] {
+	const n = shellArea.length;
+	if (n < 2) return [];
+	let largest = 0, area = 0, faces = 0;
+	for (let s = 0; s < n; s++) {
+		area += shellArea[s];
+		faces += shellFaces[s];
+		if (shellArea[s] > shellArea[largest]) largest = s;
+	}
+	const total = area > 0 ? area : 1, totalFaces = faces > 0 ? faces : 1;
+	const ids: number[] = [];
+	let together = 0;
+	for (let s = 0; s < n; s++) {
+		if (s === largest) continue;
+		if (shellArea[s] / total < tol.tinyShellAreaShare && shellFaces[s] / totalFaces < tol.tinyShellFaceShare) {
+			ids.push(s);
+			together += shellArea[s];
+		}
+	}
+	return together / total < tol.tinyShellAreaShare ? ids : [];
+}
+
+/** Evidence that a hole is where a sampling box cut the surface (see buildHints). */
+function looksCut(h: HoleInfo, bbox: Bbox, diag: number): boolean {
+	if (!h.onBboxPlane) return false;
+	const axis = h.onBboxPlane[0] === 'x' ? 0 : h.onBboxPlane[0] === 'y' ? 1 : 2;
+	// The mesh reaches away from the plane (a flat sheet lies in its own bbox planes) …
+	if (bbox.max[axis] - bbox.min[axis] < 1e-3 * diag) return false;
+	// … and the rim is a long curve of uneven steps, as a grid cut leaves it: not a polygon of
+	// straight sides, however divided (a missing CAD face), nor an evenly divided circle (a
+	// tessellated CAD edge).
+	return h.edgeCount >= 12 && h.edgeLengthSpread > 0.25 && h.straightShare < 0.5;
+}
+
+const AXES = ['x', 'y', 'z'] as const;
+
 export function buildHints(inp: HintInput): Hint[] {
 	const hints: Hint[] = [];
 	const tol = inp.tolerances;
 	const total = inp.area > 0 ? inp.area : 1;
+	const bb = inp.bbox;
+	const diag = Math.hypot(bb.max[0] - bb.min[0], bb.max[1] - bb.min[1], bb.max[2] - bb.min[2]);
 
-	// Tiny floating shells: every shell but the largest whose area share is below the threshold.
+	// Unwelded seams first: they make one surface read as many shells, holes and crossings.
+	const w = inp.exactWeld;
+	if (w && (w.boundaryEdges < inp.boundaryEdges || w.shells < inp.shells.length)) {
+		const parts = [
+			`${int(w.boundaryEdges)} boundary edge${w.boundaryEdges === 1 ? '' : 's'} (now ${int(inp.boundaryEdges)})`,
+			`${plural(w.shells, 'shell')} (now ${int(inp.shells.length)})`
+		];
+		if (w.nonManifoldEdges !== inp.nonManifoldEdges) parts.push(`${int(w.nonManifoldEdges)} non-manifold edges (now ${int(inp.nonManifoldEdges)})`);
+		const closed = w.watertight ? ` It would then be closed${w.genus !== null ? ` with genus ${w.genus}` : ''}.` : '';
+		const pairs = inp.selfIntersectingPairs ? ` Faces that only meet along an unwelded seam are counted among the ${int(inp.selfIntersectingPairs)} crossing pairs until they share their vertices.` : '';
+		hints.push({
+			kind: 'unwelded-seams',
+			message: `The seams are not welded: ${plural(w.coincidentVertices, 'vertex', 'vertices')} sit${w.coincidentVertices === 1 ? 's' : ''} at exactly the position of another vertex but ${w.coincidentVertices === 1 ? 'is a separate vertex' : 'are separate vertices'}, so the faces on either side are not joined. Welding them exactly (nothing moves) would leave ${parts.join(' and ')}.${closed}${pairs} Weld first, then read the other findings again.`,
+			count: w.coincidentVertices,
+			areaShare: null
+		});
+	}
+
+	// Separate pieces: specks are advised away, bodies are only counted.
 	if (inp.shells.length > 1) {
-		let largest = 0;
-		for (let s = 1; s < inp.shells.length; s++) if (inp.shells[s].area > inp.shells[largest].area) largest = s;
-		let count = 0, area = 0;
-		for (let s = 0; s < inp.shells.length; s++) {
-			if (s === largest) continue;
-			if (inp.shells[s].area / total < tol.tinyShellAreaShare) {
-				count++;
-				area += inp.shells[s].area;
-			}
+		const areas = inp.shells.map((s) => s.area), faces = inp.shells.map((s) => s.faces);
+		const specks = smallShellIds(areas, faces, tol);
+		const speckSet = new Set(specks);
+		let speckArea = 0, speckFaces = 0;
+		for (const s of specks) {
+			speckArea += areas[s];
+			speckFaces += faces[s];
 		}
-		if (count > 0) {
+		if (specks.length > 0) {
 			hints.push({
 				kind: 'floating-shells',
-				message: `${count} small loose piece${count === 1 ? '' : 's'} float${count === 1 ? 's' : ''} apart from the main surface (${pct(area / total)} of the area together); implicit-surface generators leave such islands where the field dips below the iso-level. Removing them usually does no harm.`,
-				count,
-				areaShare: area / total
+				message: `${plural(specks.length, 'small loose piece')} float${specks.length === 1 ? 's' : ''} apart from the main surface: ${pct(speckArea / total)} of the area and ${plural(speckFaces, 'face')} together, each below ${pct(tol.tinyShellAreaShare)} of the area and ${pct(tol.tinyShellFaceShare)} of the faces. Removing them changes the area by ${pct(speckArea / total)}.`,
+				count: specks.length,
+				areaShare: speckArea / total
+			});
+		}
+		const bodies = inp.shells.length - specks.length;
+		if (bodies > 1) {
+			let largest = 0;
+			for (let s = 0; s < areas.length; s++) if (!speckSet.has(s) && areas[s] > largest) largest = areas[s];
+			let bodyArea = 0;
+			for (let s = 0; s < areas.length; s++) if (!speckSet.has(s)) bodyArea += areas[s];
+			hints.push({
+				kind: 'separate-bodies',
+				message: `The mesh is made of ${int(bodies)} separate bodies that share no edge; the largest holds ${pct(largest / total)} of the area and the others ${pct((bodyArea - largest) / total)}. Each becomes a body of its own in the flow. If they are meant to be one part, join them upstream; if this is an assembly, that is expected.`,
+				count: bodies,
+				areaShare: (bodyArea - largest) / total
 			});
 		}
 	}
 
-	// Holes lying on a plane of the bounding box: the surface was cut by the sampling volume.
+	// A flat surface: no extent along one axis, so it encloses nothing and its rims lie in the bbox.
+	let flatAxis = -1;
+	if (diag > 0) for (let a = 0; a < 3; a++) if (bb.max[a] - bb.min[a] <= 1e-9 * diag) flatAxis = a;
+	if (flatAxis >= 0 && inp.boundaryEdges > 0) {
+		hints.push({
+			kind: 'flat-surface',
+			message: `The surface is flat (no extent along ${AXES[flatAxis]}): a sheet with ${plural(inp.holes.length, 'rim')}, not a body. It encloses no volume; a flow body needs a closed surface.`,
+			count: inp.holes.length,
+			areaShare: null
+		});
+	}
+
+	// Openings: those with the marks of a sampling-box cut, and the rest said plainly.
 	const planes = new Map<string, number>();
-	let clipped = 0, clippedPerimeter = 0;
+	let clipped = 0, clippedPerimeter = 0, plain = 0, plainPerimeter = 0, largestPlain = 0, fewSided = 0;
 	for (const h of inp.holes) {
-		if (!h.onBboxPlane) continue;
-		clipped++;
-		clippedPerimeter += h.perimeter;
-		planes.set(h.onBboxPlane, (planes.get(h.onBboxPlane) ?? 0) + 1);
+		if (looksCut(h, bb, diag)) {
+			clipped++;
+			clippedPerimeter += h.perimeter;
+			planes.set(h.onBboxPlane!, (planes.get(h.onBboxPlane!) ?? 0) + 1);
+		} else {
+			plain++;
+			plainPerimeter += h.perimeter;
+			if (h.perimeter > largestPlain) largestPlain = h.perimeter;
+			if (h.corners > 0 && h.corners <= 8) fewSided++;
+		}
 	}
 	if (clipped > 0) {
 		const where = [...planes.keys()].sort().join(', ');
 		hints.push({
 			kind: 'clipped-by-bbox-plane',
-			message: `${clipped} hole${clipped === 1 ? ' lies' : 's lie'} flat on the bounding box (${where}), total rim ${clippedPerimeter.toPrecision(4)} units: the shape was probably cut off by the generator's sampling volume. Enlarge the volume or cap the opening.`,
+			message: `${clipped} opening${clipped === 1 ? ' lies' : 's lie'} flat on the bounding box (${where}) with long rims of uneven steps (total rim ${clippedPerimeter.toPrecision(4)} units), as where a sampling box cuts a surface. If the shape was sampled on a grid, enlarge the box; otherwise cap the opening.`,
 			count: clipped,
+			areaShare: null
+		});
+	}
+	if (plain > 0 && flatAxis < 0) {
+		const sides = fewSided > 0 ? ` ${fewSided === plain ? (plain === 1 ? 'Its rim has' : 'Their rims have') : `${fewSided} of them have`} few corners, as where a flat face is missing.` : '';
+		hints.push({
+			kind: 'openings',
+			message: `The surface has ${plural(plain, 'opening')} (largest rim ${largestPlain.toPrecision(4)} units, ${plainPerimeter.toPrecision(4)} in all).${sides} Close ${plain === 1 ? 'it' : 'them'} upstream, or let a repair fill ${plain === 1 ? 'it' : 'them'} if ${plain === 1 ? 'it is' : 'they are'} small against the cell size.`,
+			count: plain,
 			areaShare: null
 		});
 	}
@@ -107,7 +219,7 @@ export function buildHints(inp: HintInput): Hint[] {
 			if (clusters > 0) {
 				hints.push({
 					kind: 'sliver-cluster',
-					message: `${clusters} patch${clusters === 1 ? '' : 'es'} of needle-thin triangles (${inClusters} faces with radius ratio below ${tol.sliverQuality}); typical where marching cubes passes just by grid corners. Remeshing or vertex snapping there gives the solver better cells.`,
+					message: `${clusters} patch${clusters === 1 ? '' : 'es'} of needle-thin triangles (${int(inClusters)} faces with radius ratio below ${tol.sliverQuality}, joined edge to edge). A volume mesher builds poorly shaped cells against them; remeshing those patches, or merging the nearly coincident vertices there, gives better cells.`,
 					count: clusters,
 					areaShare: null
 				});

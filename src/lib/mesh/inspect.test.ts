@@ -136,7 +136,7 @@ describe.each(FORMATS.map((f) => f[0]))('inspection after a %s round trip', (for
 		expect(r.eulerCharacteristic).toBe(0);
 	});
 
-	it('counts separate shells and flags the tiny one as a floating piece', () => {
+	it('counts separate shells and calls a small cube with a third of the faces a body, not a speck', () => {
 		const tiny = unitCube([5, 0, 0]);
 		for (let i = 0; i < tiny.positions.length; i += 3) tiny.positions[i] = 5 + (tiny.positions[i] - 5) / 16;
 		for (let i = 1; i < tiny.positions.length; i++) if (i % 3) tiny.positions[i] /= 16;
@@ -144,9 +144,10 @@ describe.each(FORMATS.map((f) => f[0]))('inspection after a %s round trip', (for
 		expect(r.components).toBe(3);
 		expect(r.shells.map((s) => s.faces)).toEqual([12, 12, 12]);
 		expect(r.shells.every((s) => s.closed && s.genus === 0)).toBe(true);
-		const hint = r.hints.find((h) => h.kind === 'floating-shells');
-		expect(hint?.count).toBe(1);
-		expectClose(hint!.areaShare!, 6 / 256 / (12 + 6 / 256), 1e-9, 'area share');
+		expect(r.hints.find((h) => h.kind === 'floating-shells')).toBeUndefined();
+		const hint = r.hints.find((h) => h.kind === 'separate-bodies');
+		expect(hint?.count).toBe(3);
+		expectClose(hint!.areaShare!, (6 + 6 / 256) / (12 + 6 / 256), 1e-9, 'area share of all but the largest');
 	});
 
 	it('counts a collinear face as degenerate without breaking the shell', () => {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { computeOverlays, loopForHole, overlayTransferables } from './overlays';
 import { inspectMesh } from './inspect';
-import { asParsed, concat, flipFaces, unitCube, weldExact, withoutFaces } from './test-meshes';
+import { asParsed, concat, flipFaces, icosphere, unitCube, weldExact, withoutFaces } from './test-meshes';
 import { expectClose } from './test-close';
 import type { MeshBuffers } from './types';
 
@@ -102,19 +102,29 @@ describe('computeOverlays', () => {
 	});
 
 	it('counts a small far cube as a floating shell with its 12 faces and its box', () => {
-		const big = unitCube();
-		for (let i = 0; i < big.positions.length; i++) big.positions[i] *= 20;
+		// A speck is small by area and by faces (hints.smallShellIds): 12 faces beside a 5,120-face sphere.
+		const big = icosphere(4, 20);
 		const small = unitCube([30, 0, 0]);
 		const m = concat(big, small);
 		const report = inspectMesh(asParsed(m), { skipSelfIntersections: true });
 		const o = computeOverlays(m, report);
+		const F = big.indices.length / 3;
 		expect(o.shellCount).toBe(2);
 		expect([...o.floatingShells]).toEqual([1]);
 		expect([...o.floatingStart]).toEqual([0, 12]);
-		expect([...o.floatingFaces]).toEqual([12, 13, 14, 15, 16, 17, 18, 19, 20, 21, 22, 23]);
+		expect([...o.floatingFaces]).toEqual(Array.from({ length: 12 }, (_, i) => F + i));
 		expect([...o.floatingBoxes]).toEqual([30, 0, 0, 31, 1, 1]);
 		expect(report.hints.find((h) => h.kind === 'floating-shells')?.count).toBe(1);
-		for (let t = 0; t < 24; t++) expect(o.faceShell[t]).toBe(t < 12 ? 0 : 1);
+		for (let t = 0; t < F + 12; t++) expect(o.faceShell[t]).toBe(t < F ? 0 : 1);
+	});
+
+	it('lists no floating shell for a cube beside a cube 20 times larger (a body, not a speck: half the faces)', () => {
+		const big = unitCube();
+		for (let i = 0; i < big.positions.length; i++) big.positions[i] *= 20;
+		const m = concat(big, unitCube([30, 0, 0]));
+		const report = inspectMesh(asParsed(m), { skipSelfIntersections: true });
+		expect([...computeOverlays(m, report).floatingShells]).toEqual([]);
+		expect(report.hints.map((h) => h.kind)).toEqual(['separate-bodies']);
 	});
 
 	it('takes self-intersection points and face pairs from the report sample', () => {

@@ -10,6 +10,7 @@ import { measureFaces } from './quality';
 import type { InspectionReport } from './report';
 import type { MeshBuffers } from './types';
 import { DEFAULT_TOLERANCES } from './tolerances';
+import { smallShellIds } from './hints';
 
 export interface OverlayOptions {
 	/** Edges strictly shorter than this are listed as short (same rule as the report's shortEdges). 0 lists none. */
@@ -153,16 +154,11 @@ export function computeOverlays(mesh: MeshBuffers, report: InspectionReport | nu
 	const flippedFaces = maskToIds(topo.flipFace, maxItems);
 	if (degenerateFaces.length < fm.degenerateCount) truncated = true;
 
-	// Floating shells: the report's hint rule (every shell but the largest by area, below the area share).
+	// Floating shells: the report's hint rule (smallShellIds, shared with hints.ts).
 	const shellCount = shells.shellCount;
 	const shellArea = new Float64Array(shellCount);
 	for (let t = 0; t < triCount; t++) if (shells.faceShell[t] >= 0) shellArea[shells.faceShell[t]] += fm.faceArea[t];
-	const share = report?.tolerances.tinyShellAreaShare ?? DEFAULT_TOLERANCES.tinyShellAreaShare;
-	const total = fm.area > 0 ? fm.area : 1;
-	let largest = 0;
-	for (let s = 1; s < shellCount; s++) if (shellArea[s] > shellArea[largest]) largest = s;
-	const floatList: number[] = [];
-	if (shellCount > 1) for (let s = 0; s < shellCount; s++) if (s !== largest && shellArea[s] / total < share) floatList.push(s);
+	const floatList = smallShellIds(shellArea, shells.faces, { ...DEFAULT_TOLERANCES, ...report?.tolerances });
 	const floatingShells = Uint32Array.from(floatList);
 	const slot = new Int32Array(shellCount).fill(-1);
 	for (let i = 0; i < floatList.length; i++) slot[floatList[i]] = i;

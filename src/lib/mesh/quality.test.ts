@@ -62,7 +62,7 @@ describe('hints', () => {
 		expect(r.degenerateFaces).toBe(0);
 	});
 
-	it('gives no hints for two clean cubes of equal size', () => {
-		expect(buildReport(asParsed(concat(unitCube(), unitCube([3, 0, 0])))).hints).toEqual([]);
+	it('only counts two clean cubes of equal size as separate bodies', () => {
+		expect(buildReport(asParsed(concat(unitCube(), unitCube([3, 0, 0])))).hints.map((h) => h.kind)).toEqual(['separate-bodies']);
 	});
 });

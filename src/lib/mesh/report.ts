@@ -3,7 +3,7 @@
  * in README.md ("The inspection report"); keep the two in step.
  */
 
-export const ENGINE_VERSION = '0.1.0';
+export const ENGINE_VERSION = '0.2.0';
 
 export type Vec3 = [number, number, number];
 
@@ -37,6 +37,28 @@ export interface HoleInfo {
 	onBboxPlane: BboxPlane | null;
 	/** Shell (index into `shells`) the loop belongs to. */
 	shell: number;
+	/** Rim vertices where the rim turns by more than 10° (a square opening has 4). */
+	corners: number;
+	/** Share of rim vertices where the rim runs straight on (turns by less than 0.5°). */
+	straightShare: number;
+	/** Spread of the rim's edge lengths: standard deviation over mean (0 for equal edges). */
+	edgeLengthSpread: number;
+}
+
+/**
+ * What the topology would be after an exact weld of vertices at identical positions (indexed
+ * formats only; nothing moves). Present only when the file has such vertices.
+ */
+export interface ExactWeldPreview {
+	/** Vertices that share their exact position with an earlier vertex (= duplicatePositions). */
+	coincidentVertices: number;
+	boundaryEdges: number;
+	boundaryLoops: number;
+	shells: number;
+	nonManifoldEdges: number;
+	/** Sum of shell genera after the weld, null where a shell is non-manifold or non-orientable. */
+	genus: number | null;
+	watertight: boolean;
 }
 
 /** One connected shell: faces connected through shared edges (non-manifold edges connect too). */
@@ -98,7 +120,16 @@ export interface ProjectedArea {
 	flow: FlowProjection;
 }
 
-export type HintKind = 'floating-shells' | 'clipped-by-bbox-plane' | 'sliver-cluster' | 'short-edges' | 'inside-out';
+export type HintKind =
+	| 'unwelded-seams'
+	| 'floating-shells'
+	| 'separate-bodies'
+	| 'flat-surface'
+	| 'clipped-by-bbox-plane'
+	| 'openings'
+	| 'sliver-cluster'
+	| 'short-edges'
+	| 'inside-out';
 
 /** A likely generator artefact, in plain words. */
 export interface Hint {
@@ -123,6 +154,8 @@ export interface Tolerances {
 	sliverQuality: number;
 	/** Shells below this share of total area (and not the largest) count as tiny floating shells. */
 	tinyShellAreaShare: number;
+	/** …and below this share of the faces; removal is advised only while together they stay below tinyShellAreaShare. */
+	tinyShellFaceShare: number;
 	/** Minimum number of slivers connected through edges that makes a "cluster". */
 	sliverClusterMin: number;
 	/** Threshold for `shortEdges`; 0 when no minEdgeLength option was given. */
@@ -142,6 +175,8 @@ export interface InspectionReport {
 	edges: number;
 	weldedVertices: number;
 	duplicatePositions: number;
+	/** Topology after welding the duplicate positions exactly; null when there are none. */
+	exactWeld: ExactWeldPreview | null;
 	polygonsSplit: number;
 	regions: { name: string; faces: number }[];
 

@@ -10,7 +10,10 @@ export const DEFAULT_TOLERANCES: Tolerances = {
 	planeRel: 1e-9,
 	// Normalised radius ratio 2r/R below 0.05 ≈ an aspect ratio above ~20:1. Common practice.
 	sliverQuality: 0.05,
+	// A piece below 1 % of the area and 1 % of the faces, with all such pieces together below 1 % of
+	// the area, is a speck; anything larger is a body of its own. Common practice.
 	tinyShellAreaShare: 0.01,
+	tinyShellFaceShare: 0.01,
 	sliverClusterMin: 8,
 	minEdgeLength: 0,
 	rasterCells: 512,

@@ -236,6 +236,21 @@ function hash64(w: Uint32Array, o: number): number {
  * cause of false holes.
  */
 export function countDuplicatePositions(positions: Float64Array, vertCount: number): number {
+	return exactTwins(positions, vertCount, null);
+}
+
+/**
+ * For each vertex, the first vertex at exactly the same position (itself when it is the first), so
+ * `map[indices[i]]` welds an indexed mesh exactly without moving anything. Same table as
+ * countDuplicatePositions; `twins` is that count.
+ */
+export function exactWeldMap(positions: Float64Array, vertCount: number): { map: Uint32Array; twins: number } {
+	const map = new Uint32Array(vertCount);
+	const twins = exactTwins(positions, vertCount, map);
+	return { map, twins };
+}
+
+function exactTwins(positions: Float64Array, vertCount: number, map: Uint32Array | null): number {
 	if (vertCount === 0) return 0;
 	// Table of vertex id + 1 (0 = empty); equality is tested on the float values themselves
 	// (−0 === +0, NaN never present), hashing on the words with −0 folded onto +0.
@@ -262,7 +277,8 @@ export function countDuplicatePositions(positions: Float64Array, vertCount: numb
 		if (id1 === 0) {
 			table[s] = v + 1;
 			distinct++;
-		}
+			if (map) map[v] = v;
+		} else if (map) map[v] = id1 - 1;
 	}
 	return vertCount - distinct;
 }

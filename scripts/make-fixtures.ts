@@ -5,6 +5,7 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { writeAsciiStl, writeBinaryStl, writeObj, writePly } from '../src/lib/mesh/write';
+import { torus } from '../src/lib/mesh/test-meshes';
 
 const dir = join(import.meta.dirname, '..', 'fixtures');
 mkdirSync(dir, { recursive: true });
@@ -187,4 +188,27 @@ console.log('fixtures written to', dir);
 	for (let i = 1; i < pts.length; i++) if (positions[3 * i + 1] > positions[3 * top + 1]) top = i;
 	positions[3 * top + 1] = -26; // 6 below the bottom pole at y = -20
 	put('sphere-vertex-pushed-through.stl', writeBinaryStl({ positions, indices: new Uint32Array(faces.flat()) }));
+}
+
+// A ring housing (torus R = 40, r = 12, 48 × 16 quads) written as OBJ in four quarter patches that
+// each keep their own vertices: the seams between the patches are not welded. Welded it is one
+// closed shell of genus 1; as written it reads as four open shells.
+{
+	const ring = torus(48, 16, 40, 12);
+	const pos = Array.from(ring.positions);
+	const idx = Array.from(ring.indices);
+	const faces = idx.length / 3;
+	for (let q = 1; q < 4; q++) {
+		const copy = new Map<number, number>();
+		for (let c = (3 * faces * q) / 4; c < (3 * faces * (q + 1)) / 4; c++) {
+			let w = copy.get(idx[c]);
+			if (w === undefined) {
+				w = pos.length / 3;
+				pos.push(pos[3 * idx[c]], pos[3 * idx[c] + 1], pos[3 * idx[c] + 2]);
+				copy.set(idx[c], w);
+			}
+			idx[c] = w;
+		}
+	}
+	put('ring-housing-unwelded-seams.obj', writeObj({ positions: Float64Array.from(pos), indices: Uint32Array.from(idx) }));
 }

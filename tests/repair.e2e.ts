@@ -41,6 +41,7 @@ test('an engineer repairs a held revision, cannot sign off their own repair, and
 		const changes = page.getByTestId('repair-changes');
 		await expect(changes).toContainText('What the repair changed');
 		await expect(page.getByTestId('deviation')).toContainText('within the deviation limit');
+		await expect(page.getByTestId('repair-verdict')).toContainText("within this project's repair limits");
 		await expect(page.getByTestId('repair-log').locator('li')).toHaveCount(8);
 		await expect(page.getByTestId('four-eyes')).toHaveText('You ran this repair; a different reviewer must sign it off.');
 		await expect(page.getByRole('button', { name: 'Sign off for the solver' })).toHaveCount(0);
@@ -92,6 +93,9 @@ test('a repair outside its limits is held, shows the limits table, and the revie
 	// Filling the missing face adds a fifth of the cube's area: outside the 5 % area limit.
 	await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
 	await expect(page.getByTestId('repair-limit-area')).toContainText('outside');
+	// One panel, one verdict: the headline says held, even though the surface move alone is within its limit.
+	await expect(page.getByTestId('repair-verdict')).toContainText('Held for a reviewer: area outside its limit');
+	await expect(page.getByTestId('deviation')).toContainText('within the deviation limit');
 	await expect(page.getByTestId('override-needed')).toBeVisible();
 	await page.screenshot({ path: shot('repair-held-limits'), fullPage: true });
 	await page.getByLabel('Override reason (required)').fill('the missing face was an export slip; the filled cap is the designed lid');

@@ -202,7 +202,9 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					? 'The self-intersection check did not run for this revision.'
 					: pairs === 0
 						? 'No two faces cross or touch other than along shared edges and vertices.'
-						: `The surface passes through itself in ${plural(pairs, 'place')}${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u)}` : ''}. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape so that the surfaces no longer cross (in an implicit-surface generator, sample the field more finely or smooth it where thin walls fold).`,
+						: r.hints.some((h) => h.kind === 'unwelded-seams')
+							? `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u)}` : ''}. The seams of this mesh are not welded, and faces that meet only along such a seam are counted here too: weld first (nothing moves), then check again to see which crossings are real.`
+							: `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u)}` : ''}: the surface passes through itself. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape where it folds through itself (where walls are thinner than the sampling or export resolution, refine there).`,
 			location: r.selfIntersectionSample.length ? { points: r.selfIntersectionSample.slice(0, 20).map((s) => s.point), note: 'sample of crossing points' } : null
 		});
 	}
@@ -235,7 +237,9 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 			limit: `≤ ${rules.maxShells}`,
 			explanation: ok
 				? 'The number of separate surfaces is as expected.'
-				: `The mesh has ${plural(r.components, 'separate surface')} where at most ${rules.maxShells} ${rules.maxShells === 1 ? 'is' : 'are'} expected. ${tiny ? tiny.message + ' ' : ''}${
+				: r.hints.some((h) => h.kind === 'unwelded-seams') && r.exactWeld && r.exactWeld.shells <= rules.maxShells
+					? `The mesh reads as ${plural(r.components, 'separate surface')} only because its seams are not welded: an exact weld (nothing moves) leaves ${plural(r.exactWeld.shells, 'shell')}, within the limit of ${rules.maxShells}. Weld first.`
+					: `The mesh has ${plural(r.components, 'separate surface')} where at most ${rules.maxShells} ${rules.maxShells === 1 ? 'is' : 'are'} expected. ${tiny ? tiny.message + ' ' : ''}${
 						tiny
 							? 'Loose specks become extra bodies in the flow and waste cells; removing them (a repair step, or filtering small components upstream) changes the shape very little.'
 							: `The shells other than the largest make up ${(restShare * 100).toLocaleString('en-US', { maximumSignificantDigits: 3 })} % of the area (the smallest is ${len(smallest, `${u}²`)}), so they look like separate bodies rather than specks: each becomes its own body in the flow. If the case is meant to have one body, join them upstream; if it is an assembly, raise this project's shell limit.`

@@ -250,14 +250,12 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	progress('hints', 95);
 	t0 = performance.now();
 	const exactWeld = exactWeldPreview(parsed);
-	const si = opts.selfIntersections ?? null;
 	const hints = buildHints({
 		faces: triCount,
 		bbox: fm.bbox,
 		boundaryEdges: topo.boundaryEdges,
 		nonManifoldEdges: topo.nonManifoldEdges,
 		exactWeld,
-		selfIntersectingPairs: si ? si.pairs : null,
 		shells,
 		holes: allHoles,
 		area: fm.area,
@@ -270,6 +268,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	});
 	timings.hints = performance.now() - t0;
 
+	const si = opts.selfIntersections ?? null;
 	if (si) timings.selfIntersections = si.ms;
 	let orientable = true, flippedFaces = 0;
 	for (const s of shells) {

@@ -15,7 +15,6 @@ export interface HintInput {
 	boundaryEdges: number;
 	nonManifoldEdges: number;
 	exactWeld: ExactWeldPreview | null;
-	selfIntersectingPairs: number | null;
 	faceQuality: Float64Array;
 	skipFace: Uint8Array;
 	indices: Uint32Array;
@@ -89,7 +88,8 @@ export function buildHints(inp: HintInput): Hint[] {
 		];
 		if (w.nonManifoldEdges !== inp.nonManifoldEdges) parts.push(`${int(w.nonManifoldEdges)} non-manifold edges (now ${int(inp.nonManifoldEdges)})`);
 		const closed = w.watertight ? ` It would then be closed${w.genus !== null ? ` with genus ${w.genus}` : ''}.` : '';
-		const pairs = inp.selfIntersectingPairs ? ` Faces that only meet along an unwelded seam are counted among the ${int(inp.selfIntersectingPairs)} crossing pairs until they share their vertices.` : '';
+		// The crossing-pair count may arrive after the hints (inspect-node), so it is not quoted here.
+		const pairs = ' Faces that meet only along such a seam can also be counted as crossing pairs until they share their vertices.';
 		hints.push({
 			kind: 'unwelded-seams',
 			message: `The seams are not welded: ${plural(w.coincidentVertices, 'vertex', 'vertices')} sit${w.coincidentVertices === 1 ? 's' : ''} at exactly the position of another vertex but ${w.coincidentVertices === 1 ? 'is a separate vertex' : 'are separate vertices'}, so the faces on either side are not joined. Welding them exactly (nothing moves) would leave ${parts.join(' and ')}.${closed}${pairs} Weld first, then read the other findings again.`,
@@ -98,8 +98,12 @@ export function buildHints(inp: HintInput): Hint[] {
 		});
 	}
 
+	// What an exact weld fully explains is not said again below.
+	const seamsJoinAll = hints.length > 0 && w !== null && w.shells === 1;
+	const seamsCloseAll = hints.length > 0 && w !== null && w.boundaryEdges === 0;
+
 	// Separate pieces: specks are advised away, bodies are only counted.
-	if (inp.shells.length > 1) {
+	if (inp.shells.length > 1 && !seamsJoinAll) {
 		const areas = inp.shells.map((s) => s.area), faces = inp.shells.map((s) => s.faces);
 		const specks = smallShellIds(areas, faces, tol);
 		const speckSet = new Set(specks);
@@ -158,7 +162,7 @@ export function buildHints(inp: HintInput): Hint[] {
 			if (h.corners > 0 && h.corners <= 8) fewSided++;
 		}
 	}
-	if (clipped > 0) {
+	if (clipped > 0 && !seamsCloseAll) {
 		const where = [...planes.keys()].sort().join(', ');
 		hints.push({
 			kind: 'clipped-by-bbox-plane',
@@ -167,7 +171,7 @@ export function buildHints(inp: HintInput): Hint[] {
 			areaShare: null
 		});
 	}
-	if (plain > 0 && flatAxis < 0) {
+	if (plain > 0 && flatAxis < 0 && !seamsCloseAll) {
 		const sides = fewSided > 0 ? ` ${fewSided === plain ? (plain === 1 ? 'Its rim has' : 'Their rims have') : `${fewSided} of them have`} few corners, as where a flat face is missing.` : '';
 		hints.push({
 			kind: 'openings',

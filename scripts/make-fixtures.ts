@@ -212,3 +212,17 @@ console.log('fixtures written to', dir);
 	}
 	put('ring-housing-unwelded-seams.obj', writeObj({ positions: Float64Array.from(pos), indices: Uint32Array.from(idx) }));
 }
+
+// Two equal blocks, 20 × 10 × 10 each, 0.01 apart along x: closed, clean, and a gap far below any
+// cell size a pod project uses.
+{
+	const block = (x0: number) => {
+		const p = cubePositions.map((c, i) => (i % 3 === 0 ? x0 + 20 * c : 10 * c));
+		return p;
+	};
+	const a = block(0), b = block(20.01);
+	const positions = new Float64Array([...a, ...b]);
+	const tri = cubeQuads.flatMap(([p, q, r, s]) => [[p, q, r], [p, r, s]]);
+	const indices = new Uint32Array([...tri.flat(), ...tri.flat().map((v) => v + 8)]);
+	put('blocks-0.01-apart.stl', writeBinaryStl({ positions, indices }));
+}

@@ -141,3 +141,42 @@ describe('advice that fits the mesh', () => {
 		expect(o.explanation).not.toMatch(/implicit field|islands/);
 	});
 });
+
+describe('walls and gaps against the cell size', () => {
+	// Two 20 × 10 × 10 mm blocks 0.01 mm apart along x (scripts/make-fixtures.ts), in a 2 mm-cell
+	// project. Analytic: gap 0.01 mm (float32 coordinates of the STL: 20.01 is stored to ~2e-7), walls 10 mm.
+	const bytes = new Uint8Array(readFileSync('fixtures/blocks-0.01-apart.stl'));
+	const r = inspectBytes(bytes, 'blocks-0.01-apart.stl', { cellSize: 2 });
+	const rules = { ...DEFAULT_GATE_RULES, maxShells: 2, minWallGapCells: 2 };
+
+	it('measures the gap and the walls of the two blocks', () => {
+		const c = r.cellSizeChecks!;
+		expect(Math.abs(c.narrowestGap!.value - 0.01)).toBeLessThan(1e-6);
+		expect(c.narrowestGap!.cells).toBeCloseTo(0.005, 6);
+		expect(c.thinnestWall!.value).toBeCloseTo(10, 9);
+		expect(c.narrowGapFaces).toBe(4);
+		expect(c.gapRegionCount).toBe(2);
+	});
+
+	it('holds the blocks with the gap, where it is, and what the mesher will do', () => {
+		const out = evaluateGate(r, rules, ctx);
+		const o = out.find((x) => x.rule === 'walls-and-gaps')!;
+		expect(o.passed).toBe(false);
+		expect(o.severity).toBe('blocking');
+		expect(o.measured).toBe('thinnest wall 10 mm (5 cells); narrowest gap 0.01 mm (0.005 cells)');
+		expect(o.limit).toBe('≥ 2 cells (4 mm)');
+		expect(o.explanation).toMatch(/^The narrowest gap is 0\.01 mm, 0\.005 cells across, near \(20, .*bridges such a gap.*at least 4 mm apart/);
+		expect(o.location!.points[0][0]).toBe(20);
+		expect(o.location!.points[1][0]).toBeCloseTo(20.01, 6);
+		expect(gatePasses(out)).toBe(false);
+	});
+
+	it('passes blocks far apart, and says not checked when nothing was measured', () => {
+		expect(evaluateGate(r, { ...rules, minWallGapCells: 0.004 }, ctx).find((x) => x.rule === 'walls-and-gaps')!.passed).toBe(true);
+		const unmeasured = evaluateGate({ ...r, cellSizeChecks: null }, rules, ctx).find((x) => x.rule === 'walls-and-gaps')!;
+		expect(unmeasured.severity).toBe('warning');
+		expect(unmeasured.measured).toBe('not measured');
+		// The default profile leaves the rule off: stored profile versions keep their verdicts.
+		expect(evaluateGate(r, DEFAULT_GATE_RULES, ctx).some((x) => x.rule === 'walls-and-gaps')).toBe(false);
+	});
+});

@@ -12,7 +12,8 @@ export const RULE_IDS = [
 	'max-shells',
 	'expected-genus',
 	'max-degenerate-faces',
-	'expected-size'
+	'expected-size',
+	'walls-and-gaps'
 ] as const;
 export type RuleId = (typeof RULE_IDS)[number];
 
@@ -25,7 +26,8 @@ export const RULE_TITLES: Record<RuleId, string> = {
 	'max-shells': 'Number of shells',
 	'expected-genus': 'Expected genus',
 	'max-degenerate-faces': 'Zero-area faces',
-	'expected-size': 'Size and units'
+	'expected-size': 'Size and units',
+	'walls-and-gaps': 'Walls and gaps against the cell size'
 };
 
 /** How a rule came out: failed blocks the revision; not-checked (the fact was not measured) warns. */
@@ -298,6 +300,50 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 							].join(' '),
 			location: null
 		});
+	}
+	if (rules.minWallGapCells !== null) {
+		const need = rules.minWallGapCells * ctx.targetCellSize;
+		const c = r.cellSizeChecks ?? null;
+		const cells = (x: number) => `${(x / ctx.targetCellSize).toLocaleString('en-US', { maximumSignificantDigits: 2 })} cells`;
+		const limit = `≥ ${rules.minWallGapCells} cells (${len(need, u)})`;
+		if (r.faces === 0 || !c || c.range < need) {
+			push('not-checked', {
+				rule: 'walls-and-gaps',
+				measured: 'not measured',
+				limit,
+				explanation: r.faces === 0 ? 'The mesh has no faces, so it has no walls or gaps to measure.' : 'Walls and gaps were not measured for this cell size on this check. Check it again to measure them.',
+				location: null
+			});
+		} else {
+			const wall = c.thinnestWall, gap = c.narrowestGap;
+			const wallBad = wall !== null && wall.value < need, gapBad = gap !== null && gap.value < need;
+			const show = (f: typeof wall, what: string) => (f ? `${what} ${len(f.value, u)} (${cells(f.value)})` : `no ${what} under ${len(c.range, u)}`);
+			push(verdict(!wallBad && !gapBad), {
+				rule: 'walls-and-gaps',
+				measured: `${show(wall, 'thinnest wall')}; ${show(gap, 'narrowest gap')}`,
+				limit,
+				explanation:
+					!wallBad && !gapBad
+						? `Every wall and every gap is at least ${rules.minWallGapCells} cells of ${len(ctx.targetCellSize, u)} across, so the volume mesher can put cells across them.`
+						: [
+								wallBad
+									? `The thinnest wall is ${len(wall!.value, u)}, ${cells(wall!.value)} across, near ${at(wall!.from, u)}; ${plural(c.thinWallFaces, 'face')} (${len(c.thinWallArea, `${u}²`)}) sit on walls thinner than ${rules.minWallGapCells} cells. With so few cells across, the volume mesher squashes or drops the cells inside the wall and the solid can leak through it. Upstream: thicken the wall there, or ask for a finer cell size locally.`
+									: '',
+								gapBad
+									? `The narrowest gap is ${len(gap!.value, u)}, ${cells(gap!.value)} across, near ${at(gap!.from, u)}; ${plural(c.narrowGapFaces, 'face')} face gaps narrower than ${rules.minWallGapCells} cells. The mesher either bridges such a gap (the surfaces fuse and the flow path there closes) or fills it with collapsed cells. Upstream: move the surfaces at least ${len(need, u)} apart, join them if they are meant to touch, or ask for a finer cell size in the gap.`
+									: ''
+							]
+								.filter(Boolean)
+								.join(' '),
+				location:
+					wallBad || gapBad
+						? {
+								points: [...(wallBad ? [wall!.from, wall!.to] : []), ...(gapBad ? [gap!.from, gap!.to] : [])],
+								note: `${wallBad ? 'thinnest wall' : ''}${wallBad && gapBad ? ' and ' : ''}${gapBad ? 'narrowest gap' : ''}: both ends of the measuring ray`
+							}
+						: null
+			});
+		}
 	}
 	return out;
 }

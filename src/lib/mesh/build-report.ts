@@ -328,6 +328,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		},
 		wettedArea: reason === null ? wettedArea : null,
 		hints,
+		cellSizeChecks: null,
 		timings,
 		tolerances: tol
 	};

@@ -11,6 +11,8 @@ import { buildReport, type InspectionReport } from './report';
 import type { InspectRunOptions } from './inspect';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
 import { DEFAULT_MAX_FACES } from './types';
+import { analyseCellSize, cellSizeChecksOf, cellSizeMaxDistance, DEFAULT_THIN_CELLS } from './thickness';
+import { faceDistancesBothParallel } from './thickness-node';
 
 export interface InspectNodeOptions extends InspectRunOptions {
 	/**
@@ -63,6 +65,16 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 			// (taking traversal tasks itself, then waiting for the workers' last ones).
 			report.timings.selfIntersectionsWait = performance.now() - tWait;
 		}
+	}
+	if (opts.cellSize !== undefined && report.faces > 0) {
+		progress('walls and gaps', 90);
+		const t1 = performance.now();
+		const thinCells = opts.thinCells ?? DEFAULT_THIN_CELLS;
+		const maxDistance = cellSizeMaxDistance({ cellSize: opts.cellSize });
+		const distances = await faceDistancesBothParallel(parsed, { cellSize: opts.cellSize, maxDistance, threads });
+		const res = analyseCellSize(parsed, { cellSize: opts.cellSize, thinCells, maxDistance, distances });
+		report.cellSizeChecks = cellSizeChecksOf(res, thinCells, performance.now() - t1);
+		report.timings.cellSize = report.cellSizeChecks.ms;
 	}
 	report.timings.total = performance.now() - t0;
 	progress('done', 100);

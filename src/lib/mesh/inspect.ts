@@ -4,6 +4,7 @@ import { findSelfIntersections } from './self-intersect';
 import { validateMesh } from './build-report';
 import { buildReport, type InspectionReport, type InspectOptions } from './report';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
+import { analyseCellSize, cellSizeChecksOf, DEFAULT_THIN_CELLS } from './thickness';
 import { DEFAULT_MAX_FACES, type ParsedMesh } from './types';
 
 export interface InspectRunOptions extends InspectOptions {
@@ -18,6 +19,13 @@ export function inspectMesh(parsed: ParsedMesh, opts: InspectRunOptions = {}): I
 	validateMesh(parsed, maxFaces);
 	const si = opts.skipSelfIntersections ? null : findSelfIntersections(parsed, { sampleLimit: opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT });
 	const report = buildReport(parsed, { ...opts, selfIntersections: si });
+	if (opts.cellSize !== undefined && report.faces > 0) {
+		const t1 = performance.now();
+		const thinCells = opts.thinCells ?? DEFAULT_THIN_CELLS;
+		const res = analyseCellSize(parsed, { cellSize: opts.cellSize, thinCells });
+		report.cellSizeChecks = cellSizeChecksOf(res, thinCells, performance.now() - t1);
+		report.timings.cellSize = report.cellSizeChecks.ms;
+	}
 	report.timings.total = (opts.timings?.read ?? 0) + performance.now() - t0;
 	return report;
 }

@@ -166,6 +166,65 @@ export interface Tolerances {
 	maxHolesListed: number;
 }
 
+/** The thinnest wall or the narrowest gap: where it is measured and what it measures. */
+export interface WallGapFinding {
+	/** Model units, and in target cells. */
+	value: number;
+	cells: number;
+	/** The measured face, the face its ray met, and the two ends of that ray. */
+	face: number;
+	otherFace: number;
+	from: Vec3;
+	to: Vec3;
+}
+
+/** An edge-connected group of faces under the wall or gap threshold. */
+export interface WallGapRegion {
+	faces: number;
+	area: number;
+	centroid: Vec3;
+	/** Smallest value in the group, model units and cells, and its face. */
+	min: number;
+	minCells: number;
+	minFace: number;
+}
+
+/**
+ * Walls, gaps, edge lengths and feature edges against the target cell size (thickness.ts).
+ * Present when the inspection was given a cell size (every check of a project is); null otherwise.
+ */
+export interface CellSizeChecks {
+	cellSize: number;
+	/** Walls and gaps under this many cells are flagged. */
+	thinCells: number;
+	/** Rays stop here (model units); a wall or gap wider than this reads "none within range". */
+	range: number;
+	/** null: no wall (or gap) within range. */
+	thinnestWall: WallGapFinding | null;
+	narrowestGap: WallGapFinding | null;
+	thinWallFaces: number;
+	thinWallArea: number;
+	narrowGapFaces: number;
+	narrowGapArea: number;
+	/** Faces per band of one cell, [i, i + 1) cells for i < bins; `beyond` up to the range; `noHit` nothing within range. */
+	wallHistogram: { counts: number[]; beyond: number; noHit: number };
+	gapHistogram: { counts: number[]; beyond: number; noHit: number };
+	/** Largest first (by area), at most 20 each; the counts are before the cap. */
+	wallRegions: WallGapRegion[];
+	wallRegionCount: number;
+	gapRegions: WallGapRegion[];
+	gapRegionCount: number;
+	longestEdge: number;
+	/** Faces with an edge longer than longEdgeCells cells, and their share of the area. */
+	longEdgeCells: number;
+	coarseFaces: number;
+	coarseAreaShare: number;
+	/** Edges where the faces meet at more than featureAngleDeg. */
+	featureAngleDeg: number;
+	sharpEdges: number;
+	ms: number;
+}
+
 export interface InspectionReport {
 	engineVersion: string;
 	format: string;
@@ -217,6 +276,8 @@ export interface InspectionReport {
 	wettedArea: number | null;
 
 	hints: Hint[];
+	/** Walls, gaps and edges against the target cell size; null when no cell size was given. */
+	cellSizeChecks: CellSizeChecks | null;
 	/** Milliseconds per stage. */
 	timings: Record<string, number>;
 	tolerances: Tolerances;
@@ -237,6 +298,10 @@ export interface InspectOptions {
 	rasterCells?: number;
 	/** Name shown in the report. */
 	fileName?: string;
+	/** Target cell size (model units): turns on the wall, gap, long-edge and feature-edge checks. */
+	cellSize?: number;
+	/** Walls and gaps under this many cells are flagged. Default 2. */
+	thinCells?: number;
 }
 
 /** What the self-intersection stage hands over (same shape as self-intersect.ts returns). */

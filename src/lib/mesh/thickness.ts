@@ -30,6 +30,7 @@
 import { buildBvhSorted, f32Down, f32Up, morton3, mortonScale, sortByCode, type FlatBvh } from './bvh';
 import { buildEdges, type EdgeTable } from './edges';
 import type { MeshBuffers } from './types';
+import type { CellSizeChecks, WallGapFinding, WallGapRegion } from './report';
 
 /** Hits whose face normal is more than this off the ray (or its reverse) are passed through. */
 export const THICKNESS_FACING_MAX_DEG = 60;
@@ -39,6 +40,8 @@ export const THICKNESS_FACING_MAX_DEG = 60;
  * 150°). Lower flags the facets of a coarse curved surface; higher misses chamfers.
  */
 export const DEFAULT_FEATURE_ANGLE_DEG = 30;
+/** Walls and gaps under 2 cells are flagged: common practice wants at least two cells across to resolve them. */
+export const DEFAULT_THIN_CELLS = 2;
 
 // Eight per leaf: with the normal prefilter a leaf test is cheap, and a shallower tree opens fewer boxes near the ray origin.
 const LEAF_SIZE = 8;
@@ -881,7 +884,7 @@ export function analyseCellSize(mesh: MeshBuffers, opts: CellSizeOptions): CellS
 	const t2 = performance.now();
 	const areas = faceAreas(mesh);
 	const edges = opts.edges ?? buildEdges(mesh.indices, mesh.positions.length / 3);
-	const threshold = (opts.thinCells ?? 2) * cellSize;
+	const threshold = (opts.thinCells ?? DEFAULT_THIN_CELLS) * cellSize;
 	const sOpts = { cellSize, threshold, bins: opts.bins, maxRegions: opts.maxRegions, areas, edges };
 	const wall = summariseDistances(mesh, thickness, sOpts);
 	const narrowGap = summariseDistances(mesh, gap, sOpts);
@@ -898,5 +901,39 @@ export function analyseCellSize(mesh: MeshBuffers, opts: CellSizeOptions): CellS
 		longEdges: le,
 		sharp,
 		timings: { buildBvh: t1 - t0, rays: t2 - t1, summaries: t3 - t2 }
+	};
+}
+
+/** The report's cell-size section from one analysis (the per-face arrays stay out of the JSON). */
+export function cellSizeChecksOf(r: CellSizeResult, thinCells: number, ms: number): CellSizeChecks {
+	const h = r.cellSize;
+	const finding = (d: DistanceSummary): WallGapFinding | null =>
+		d.minFace < 0 ? null : { value: d.min, cells: d.min / h, face: d.minFace, otherFace: d.minHitFace, from: [...d.minFrom], to: [...d.minTo] };
+	const regions = (d: DistanceSummary): WallGapRegion[] =>
+		d.regions.map((g) => ({ faces: g.faceCount, area: g.area, centroid: [...g.centroid], min: g.min, minCells: g.min / h, minFace: g.minFace }));
+	const hist = (d: DistanceSummary) => ({ counts: Array.from(d.histogram.counts), beyond: d.histogram.beyond, noHit: d.histogram.noHit });
+	return {
+		cellSize: h,
+		thinCells,
+		range: r.maxDistance,
+		thinnestWall: finding(r.wall),
+		narrowestGap: finding(r.narrowGap),
+		thinWallFaces: r.wall.flaggedFaces,
+		thinWallArea: r.wall.flaggedArea,
+		narrowGapFaces: r.narrowGap.flaggedFaces,
+		narrowGapArea: r.narrowGap.flaggedArea,
+		wallHistogram: hist(r.wall),
+		gapHistogram: hist(r.narrowGap),
+		wallRegions: regions(r.wall),
+		wallRegionCount: r.wall.regionCount,
+		gapRegions: regions(r.narrowGap),
+		gapRegionCount: r.narrowGap.regionCount,
+		longestEdge: r.longEdges.longestLengths.length ? r.longEdges.longestLengths[0] : 0,
+		longEdgeCells: r.longEdges.limit / h,
+		coarseFaces: r.longEdges.facesOver,
+		coarseAreaShare: r.longEdges.areaShareOver,
+		featureAngleDeg: r.sharp.angleDeg,
+		sharpEdges: r.sharp.angles.length,
+		ms
 	};
 }

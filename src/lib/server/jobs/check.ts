@@ -17,6 +17,7 @@ import { EnginePool, EngineRefused as CheckRefused, type EngineLimits as CheckLi
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
 import { failureReason, storedFileMissing } from '../reasons';
 import { repairJudgement } from '../repair-limits';
+import { DEFAULT_THIN_CELLS } from '../../mesh/thickness';
 
 export { CheckRefused, type CheckLimits };
 
@@ -94,6 +95,10 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 				options: {
 					flowDirection: [ctx.project.flowX, ctx.project.flowY, ctx.project.flowZ],
 					minEdgeLength: minEdgeThreshold(rules, gctx) ?? 0,
+					// Walls, gaps and edges against the cell size are measured on every check; the
+					// rule (minWallGapCells) decides whether they hold the revision.
+					cellSize: ctx.project.targetCellSize,
+					thinCells: rules.minWallGapCells ?? DEFAULT_THIN_CELLS,
 					maxFaces: config.maxFaces,
 					fileName: ctx.rev.fileName
 				},

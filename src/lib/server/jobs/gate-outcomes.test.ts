@@ -22,7 +22,7 @@ let drop: () => Promise<void>;
 let users: Awaited<ReturnType<typeof seededUsers>>;
 
 /** Every rule switched on, so each one is evaluated on every row. */
-const ALL_RULES: GateRules = { ...DEFAULT_GATE_RULES, expectedGenus: 0, maxShells: 1, expectedSize: { mode: 'absolute', min: 0.5, max: 5 } };
+const ALL_RULES: GateRules = { ...DEFAULT_GATE_RULES, expectedGenus: 0, maxShells: 1, expectedSize: { mode: 'absolute', min: 0.5, max: 5 }, minWallGapCells: 2 };
 
 beforeAll(async () => {
 	process.env.SHELLGATE_DATA_DIR = mkdtempSync(path.join(tmpdir(), 'sg-gate-'));
@@ -36,7 +36,13 @@ beforeAll(async () => {
 afterAll(() => drop());
 
 /** A clean closed unit cube (sensor-pods: mm, cell 2); each row breaks exactly one fact of it. */
-const base = (): InspectionReport => structuredClone(inspectBytes(fixture('cube-closed.stl'), 'cube-closed.stl'));
+const base = (): InspectionReport => {
+	// Measured for the project's 2 mm cell; the 1 mm cube's own walls are then widened to 5 cells
+	// so the walls-and-gaps rule passes on the clean row like every other rule.
+	const r = structuredClone(inspectBytes(fixture('cube-closed.stl'), 'cube-closed.stl', { cellSize: 2 }));
+	r.cellSizeChecks!.thinnestWall = { ...r.cellSizeChecks!.thinnestWall!, value: 10, cells: 5 };
+	return r;
+};
 
 const CASES: { rule: RuleId; verdict: RuleVerdict; edit: (r: InspectionReport) => void }[] = [
 	{ rule: 'closed', verdict: 'failed', edit: (r) => Object.assign(r, { boundaryEdges: 4, boundaryLoops: 1, watertight: false, holes: [{ edgeCount: 4, perimeter: 4, centroid: [0.5, 0.5, 1], bbox: r.bbox, onBboxPlane: null, shell: 0 }] }) },
@@ -48,7 +54,9 @@ const CASES: { rule: RuleId; verdict: RuleVerdict; edit: (r: InspectionReport) =
 	{ rule: 'max-shells', verdict: 'failed', edit: (r) => Object.assign(r, { components: 2 }) },
 	{ rule: 'expected-genus', verdict: 'failed', edit: (r) => Object.assign(r, { genus: 1 }) },
 	{ rule: 'max-degenerate-faces', verdict: 'failed', edit: (r) => Object.assign(r, { degenerateFaces: 1 }) },
-	{ rule: 'expected-size', verdict: 'failed', edit: (r) => Object.assign(r, { bbox: { min: [0, 0, 0], max: [1000, 1000, 1000] } }) }
+	{ rule: 'expected-size', verdict: 'failed', edit: (r) => Object.assign(r, { bbox: { min: [0, 0, 0], max: [1000, 1000, 1000] } }) },
+	{ rule: 'walls-and-gaps', verdict: 'failed', edit: (r) => Object.assign(r.cellSizeChecks!, { narrowestGap: { value: 0.01, cells: 0.005, face: 0, otherFace: 7, from: [0, 0, 0], to: [0.01, 0, 0] }, narrowGapFaces: 2 }) },
+	{ rule: 'walls-and-gaps', verdict: 'not-checked', edit: (r) => Object.assign(r, { cellSizeChecks: null }) }
 ];
 
 const EXPECTED = {

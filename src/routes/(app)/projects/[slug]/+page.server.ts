@@ -93,6 +93,7 @@ export const actions: Actions = {
 				fd.get('sizeMode') === 'cells' || fd.get('sizeMode') === 'absolute'
 					? { mode: fd.get('sizeMode'), min: num(fd.get('sizeMin')), max: num(fd.get('sizeMax')) }
 					: null,
+			minWallGapCells: num(fd.get('minWallGapCells')),
 			repairLimits: repairLimitsFromForm(fd)
 		});
 		if (!parsed.success) return fail(400, { profileError: parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ') });

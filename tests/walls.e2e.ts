@@ -1,0 +1,39 @@
+import { expect, test, type Page } from '@playwright/test';
+import { shot, signInAs, signOut } from './helpers';
+
+const PART = `blocks-gap-${Date.now().toString(36)}`;
+
+async function setWallGap(page: Page, cells: string) {
+	await signInAs(page, 'admin');
+	await page.goto('/projects/sensor-pods');
+	await page.getByLabel('minimum wall and gap in cells').fill(cells);
+	await page.getByRole('button', { name: /Save as version/ }).click();
+	await expect(page.getByText(/Saved as version/)).toBeVisible();
+	await signOut(page);
+}
+
+test('two blocks 0.01 mm apart in the 2 mm-cell project are held by the walls-and-gaps rule, with the gap and where it is', async ({ page }) => {
+	test.setTimeout(120_000);
+	await setWallGap(page, '2');
+	try {
+		await signInAs(page, 'designer');
+		await page.goto('/upload?project=sensor-pods');
+		await page.getByLabel('Part').fill(PART);
+		await page.getByLabel('Files').setInputFiles('fixtures/blocks-0.01-apart.stl');
+		await page.getByRole('button', { name: 'Upload' }).click();
+		await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+		await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
+		const rule = page.locator('[data-rule="walls-and-gaps"]');
+		await expect(rule).toHaveAttribute('data-passed', 'false');
+		// Analytic: the blocks are 0.01 mm apart, 0.005 cells of 2 mm; the gap faces sit at x = 20 and 20.01.
+		await expect(rule).toContainText('narrowest gap 0.01 mm (0.005 cells)');
+		await expect(rule.getByTestId('explanation')).toContainText('near (20,');
+		await expect(page.getByTestId('narrowest-gap')).toContainText('0.005 cells');
+		// The separate-bodies hint counts the blocks; it does not advise removing either.
+		await expect(page.getByText('The mesh is made of 2 separate bodies')).toBeVisible();
+		await page.screenshot({ path: shot('revision-walls-gaps-held'), fullPage: true });
+		await signOut(page);
+	} finally {
+		await setWallGap(page, '');
+	}
+});

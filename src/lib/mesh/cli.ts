@@ -1,5 +1,5 @@
 /**
- * `npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--max-faces N] [--threads N] [--no-self-intersections]`
+ * `npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--no-self-intersections]`
  * Prints a readable summary, or one JSON report on stdout with --json. Exit 0 when the file was
  * read and inspected, 2 with the message on stderr when not.
  */
@@ -7,7 +7,7 @@ import { readFileSync, writeSync } from 'node:fs';
 import { inspectFileNode, type InspectNodeOptions } from './inspect-node';
 import { volumeReasonText, type InspectionReport, type Vec3 } from './report';
 
-const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--max-faces N] [--threads N] [--no-self-intersections]';
+const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--no-self-intersections]';
 
 class UsageError extends Error {}
 
@@ -29,6 +29,7 @@ function parseArgs(argv: string[]): { file: string; json: boolean; opts: Inspect
 			if (parts.length !== 3) throw new UsageError(`--flow needs three comma-separated numbers, e.g. --flow 1,0,0`);
 			opts.flowDirection = parts.map((p) => num('--flow', p)) as Vec3;
 		} else if (a === '--min-edge') opts.minEdgeLength = num('--min-edge', argv[++i]);
+		else if (a === '--cell-size') opts.cellSize = num('--cell-size', argv[++i]);
 		else if (a === '--max-faces') opts.maxFaces = num('--max-faces', argv[++i]);
 		else if (a === '--threads') opts.threads = num('--threads', argv[++i]);
 		else if (a === '--help' || a === '-h') throw new UsageError(USAGE);
@@ -66,6 +67,12 @@ export function summary(r: InspectionReport): string {
 		lines.push(`  hole: ${h.edgeCount} edges, rim ${fmt(h.perimeter)}, centre [${h.centroid.map(fmt).join(', ')}]${h.onBboxPlane ? `, on bbox ${h.onBboxPlane}` : ''}`);
 	}
 	if (r.holes.length > 5) lines.push(`  … ${r.boundaryLoops - 5} more holes`);
+	const c = r.cellSizeChecks;
+	if (c) {
+		const f = (x: { value: number; cells: number } | null) => (x ? `${fmt(x.value)} (${fmt(x.cells)} cells)` : `none within ${fmt(c.range)}`);
+		lines.push(`  cell ${fmt(c.cellSize)}: thinnest wall ${f(c.thinnestWall)}, narrowest gap ${f(c.narrowestGap)}; ${c.thinWallFaces} faces on walls and ${c.narrowGapFaces} at gaps under ${c.thinCells} cells`);
+		lines.push(`  longest edge ${fmt(c.longestEdge)} (${fmt(c.longestEdge / c.cellSize)} cells); ${c.sharpEdges} sharp edges over ${c.featureAngleDeg}°`);
+	}
 	for (const h of r.hints) lines.push(`  hint: ${h.message}`);
 	const t = Object.entries(r.timings).map(([k, v]) => `${k} ${Math.round(v)}`).join(', ');
 	lines.push(`  ms: ${t}`);

@@ -330,7 +330,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 									? `The thinnest wall is ${len(wall!.value, u)}, ${cells(wall!.value)} across, near ${at(wall!.from, u)}; ${plural(c.thinWallFaces, 'face')} (${len(c.thinWallArea, `${u}²`)}) sit on walls thinner than ${rules.minWallGapCells} cells. With so few cells across, the volume mesher squashes or drops the cells inside the wall and the solid can leak through it. Upstream: thicken the wall there, or ask for a finer cell size locally.`
 									: '',
 								gapBad
-									? `The narrowest gap is ${len(gap!.value, u)}, ${cells(gap!.value)} across, near ${at(gap!.from, u)}; ${plural(c.narrowGapFaces, 'face')} face gaps narrower than ${rules.minWallGapCells} cells. The mesher either bridges such a gap (the surfaces fuse and the flow path there closes) or fills it with collapsed cells. Upstream: move the surfaces at least ${len(need, u)} apart, join them if they are meant to touch, or ask for a finer cell size in the gap.`
+									? `The narrowest gap is ${len(gap!.value, u)}, ${cells(gap!.value)} across, near ${at(gap!.from, u)}; ${plural(c.narrowGapFaces, 'face')} border gaps narrower than ${rules.minWallGapCells} cells. The mesher either bridges such a gap (the surfaces fuse and the flow path there closes) or fills it with collapsed cells. Upstream: move the surfaces at least ${len(need, u)} apart, join them if they are meant to touch, or ask for a finer cell size in the gap.`
 									: ''
 							]
 								.filter(Boolean)

@@ -2,6 +2,7 @@
 // explanation for designers: what it means for the solver, where on the shape, what to change upstream.
 import type { InspectionReport, Vec3 } from '../mesh/report';
 import type { GateRules } from './profile';
+import { displayUnit, fmtArea, fmtCount, fmtLength, fmtNumber, fmtPercent, fmtPoint, plural, type DisplayUnit } from '../format';
 
 export const RULE_IDS = [
 	'closed',
@@ -50,10 +51,11 @@ export interface GateContext {
 	targetCellSize: number;
 }
 
-const n = (x: number) => x.toLocaleString('en-US');
-const len = (x: number, units: string) => `${x.toLocaleString('en-US', { maximumSignificantDigits: 3 })} ${units}`;
-const at = (p: Vec3, units: string) => `(${p.map((c) => c.toLocaleString('en-US', { maximumSignificantDigits: 4 })).join(', ')}) ${units}`;
-const plural = (k: number, one: string, many = one + 's') => `${n(k)} ${k === 1 ? one : many}`;
+// Numbers go through $lib/format: units always, 4 significant digits, round-off (against the part's
+// size) written as 0, and a limit and its finding in one unit.
+const n = fmtCount;
+const len = (x: number, units: string, scale?: number | null, unit?: DisplayUnit) => fmtLength(x, units, { scale, unit });
+const at = (p: Vec3, units: string, scale: number) => fmtPoint(p, units, { scale });
 
 /** Minimum edge length the profile asks for, in project units, or null when the rule is off. */
 export function minEdgeThreshold(rules: GateRules, ctx: GateContext): number | null {
@@ -115,10 +117,11 @@ export function scaleFix(r: InspectionReport, rules: GateRules, ctx: GateContext
 	return likelyUnitFix(size, range, ctx.units);
 }
 
-export const fmtFactor = (f: number) => `×${f.toLocaleString('en-US', { maximumSignificantDigits: 4 })}`;
+export const fmtFactor = (f: number) => `×${fmtNumber(f)}`;
 
 export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateContext): RuleOutcome[] {
 	const u = ctx.units;
+	const size = r.faces ? bodySize(r) : null;
 	const out: RuleOutcome[] = [];
 	// passed and severity are derived from the verdict and written last, so nothing in o can unset them.
 	const push = (v: RuleVerdict, o: Omit<RuleOutcome, 'passed' | 'severity'>) => out.push({ ...o, passed: v === 'passed', severity: VERDICT_SEVERITY[v] });
@@ -138,7 +141,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					: [
 							`The surface has ${plural(r.boundaryLoops, 'hole')} (${plural(r.boundaryEdges, 'edge')} that belong to only one face).`,
 							'A CFD mesher needs a closed surface to tell fluid from solid; through a gap the volume mesh leaks and the case will not run.',
-							big ? `The largest hole is ${len(big.perimeter, u)} around, centred near ${at(big.centroid, u)}.` : '',
+							big ? `The largest hole is ${len(big.perimeter, u, size)} around, centred near ${at(big.centroid, u, size ?? 0)}.` : '',
 							clipped.length
 								? `${plural(clipped.length, 'hole lies', 'holes lie')} flat on the edge of the bounding box (${[...new Set(clipped.map((h) => h.onBboxPlane))].join(', ')}): the shape looks cut off by the generator's sampling volume. Enlarge the sampling box upstream rather than patching here.`
 								: 'Nothing about these openings points to a particular cause: close them where the shape is made (cap the openings, or add the missing faces in the CAD export), then export again; small holes can also be filled by a repair.'
@@ -192,7 +195,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					? 'The self-intersection check did not run for this revision.'
 					: pairs === 0
 						? 'No two faces cross or touch other than along shared edges and vertices.'
-						: `The surface passes through itself in ${plural(pairs, 'place')}${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u)}` : ''}. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape so that the surfaces no longer cross (in an implicit-surface generator, sample the field more finely or smooth it where thin walls fold).`,
+						: `The surface passes through itself in ${plural(pairs, 'place')}${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape so that the surfaces no longer cross (in an implicit-surface generator, sample the field more finely or smooth it where thin walls fold).`,
 			location: r.selfIntersectionSample.length ? { points: r.selfIntersectionSample.slice(0, 20).map((s) => s.point), note: 'sample of crossing points' } : null
 		});
 	}
@@ -200,10 +203,12 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	const minLen = minEdgeThreshold(rules, ctx);
 	if (minLen !== null) {
 		const ok = r.faces === 0 || r.minEdgeLength >= minLen;
+		// The finding is written in the limit's unit, so "42.1 µm" stands beside "≥ 100 µm".
+		const du = displayUnit(minLen, u, 1);
 		push(verdict(ok), {
 			rule: 'min-edge-length',
-			measured: `shortest ${len(r.minEdgeLength, u)}${!ok && r.shortEdges ? `, ${plural(r.shortEdges, 'edge')} below the limit` : ''}`,
-			limit: `≥ ${len(minLen, u)}${rules.minEdgeLength?.mode === 'fraction-of-cell' ? ` (${rules.minEdgeLength.value} × cell size ${len(ctx.targetCellSize, u)})` : ''}`,
+			measured: `shortest ${len(r.minEdgeLength, u, size, du)}${!ok && r.shortEdges ? `, ${plural(r.shortEdges, 'edge')} below the limit` : ''}`,
+			limit: `≥ ${len(minLen, u, null, du)}${rules.minEdgeLength?.mode === 'fraction-of-cell' ? ` (${fmtNumber(rules.minEdgeLength.value)} × cell size ${len(ctx.targetCellSize, u)})` : ''}`,
 			explanation: ok
 				? 'No edge is shorter than the limit set for the target cell size.'
 				: `Some edges are much shorter than the target cell size (${len(ctx.targetCellSize, u)}). The mesher either refines down to them, wasting cells and time step, or produces badly shaped cells next to them. Upstream: export with a coarser or more uniform triangulation, or let a repair collapse the short edges.`,
@@ -228,7 +233,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 				: `The mesh has ${plural(r.components, 'separate surface')} where at most ${rules.maxShells} ${rules.maxShells === 1 ? 'is' : 'are'} expected. ${tiny ? tiny.message + ' ' : ''}${
 						tiny
 							? 'Loose specks become extra bodies in the flow and waste cells; removing them (a repair step, or filtering small components upstream) changes the shape very little.'
-							: `The shells other than the largest make up ${(restShare * 100).toLocaleString('en-US', { maximumSignificantDigits: 3 })} % of the area (the smallest is ${len(smallest, `${u}²`)}), so they look like separate bodies rather than specks: each becomes its own body in the flow. If the case is meant to have one body, join them upstream; if it is an assembly, raise this project's shell limit.`
+							: `The shells other than the largest make up ${fmtPercent(restShare)} of the area (the smallest is ${fmtArea(smallest, u, { scale: size })}), so they look like separate bodies rather than specks: each becomes its own body in the flow. If the case is meant to have one body, join them upstream; if it is an assembly, raise this project's shell limit.`
 					}`,
 			location: null
 		});
@@ -262,24 +267,25 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 
 	const range = expectedSizeRange(rules, ctx);
 	if (range) {
-		const size = bodySize(r);
-		const ok = size >= range.min && size <= range.max;
+		const across = bodySize(r);
+		const du = displayUnit(range.max, u, 1);
+		const ok = across >= range.min && across <= range.max;
 		const fix = ok ? null : scaleFix(r, rules, ctx);
 		const cells = rules.expectedSize?.mode === 'cells' ? ` (${n(rules.expectedSize.min)} to ${n(rules.expectedSize.max)} cells of ${len(ctx.targetCellSize, u)})` : '';
 		push(r.faces === 0 ? 'not-checked' : verdict(ok), {
 			rule: 'expected-size',
-			measured: r.faces === 0 ? 'not checked: no faces' : `${len(size, u)} across${fix ? `; likely ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits})` : ''}`,
-			limit: `${len(range.min, u)} to ${len(range.max, u)} across${cells}`,
+			measured: r.faces === 0 ? 'not checked: no faces' : `${len(across, u)} across${fix ? `; likely ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits})` : ''}`,
+			limit: `${len(range.min, u, null, du)} to ${len(range.max, u, null, du)} across${cells}`,
 			explanation:
 				r.faces === 0
 					? 'The mesh has no faces, so it has no size to check.'
 					: ok
 						? 'The body’s size (bounding-box diagonal) is within the range this project expects, so its units look right.'
 						: [
-								`The body measures ${len(size, u)} across (bounding-box diagonal), ${size < range.min ? 'smaller' : 'larger'} than the ${len(range.min, u)} to ${len(range.max, u)} this project expects${cells}.`,
+								`The body measures ${len(across, u)} across (bounding-box diagonal), ${across < range.min ? 'smaller' : 'larger'} than the ${len(range.min, u, null, du)} to ${len(range.max, u, null, du)} this project expects${cells}.`,
 								'Mesh files carry no units, so this is most often a unit mistake at export.',
 								fix
-									? `The numbers look like ${UNIT_WORDS[fix.fileUnits]} read as ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}: scaled ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits}) the body would be ${len(size * fix.factor, u)} across. Export again in ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}, or let a repair rescale it by ${fmtFactor(fix.factor)}.`
+									? `The numbers look like ${UNIT_WORDS[fix.fileUnits]} read as ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}: scaled ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits}) the body would be ${len(across * fix.factor, u, null, du)} across. Export again in ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}, or let a repair rescale it by ${fmtFactor(fix.factor)}.`
 									: `No usual unit factor explains it (mm, cm, m, in and ft were tried). Check the export scale, and the project’s target cell size and expected size.`
 							].join(' '),
 			location: null

@@ -31,7 +31,7 @@ export function buildHints(inp: HintInput): Hint[] {
 		let count = 0, area = 0;
 		for (let s = 0; s < inp.shells.length; s++) {
 			if (s === largest) continue;
-			if (inp.shells[s].area / total < tol.tinyShellAreaShare) {
+			if (inp.shells[s].area / total < tol.smallShellAreaShare) {
 				count++;
 				area += inp.shells[s].area;
 			}

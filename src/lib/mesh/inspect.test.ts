@@ -136,7 +136,7 @@ describe.each(FORMATS.map((f) => f[0]))('inspection after a %s round trip', (for
 		expect(r.eulerCharacteristic).toBe(0);
 	});
 
-	it('counts separate shells and flags the tiny one as a floating piece', () => {
+	it('counts separate shells and flags the small one as a floating piece', () => {
 		const tiny = unitCube([5, 0, 0]);
 		for (let i = 0; i < tiny.positions.length; i += 3) tiny.positions[i] = 5 + (tiny.positions[i] - 5) / 16;
 		for (let i = 1; i < tiny.positions.length; i++) if (i % 3) tiny.positions[i] /= 16;

@@ -44,7 +44,7 @@ export interface MeshOverlays {
 	shortEdgeSegments: Float32Array;
 	degenerateFaces: Uint32Array;
 	flippedFaces: Uint32Array;
-	/** Shell ids counted as floating: not the largest by area and below the tiny-shell area share. */
+	/** Shell ids counted as floating: not the largest by area and below the small-shell area share. */
 	floatingShells: Uint32Array;
 	/** Faces of the floating shells, grouped by shell: faces of floatingShells[i] are floatingFaces[floatingStart[i] .. floatingStart[i + 1]). */
 	floatingFaces: Uint32Array;
@@ -157,7 +157,7 @@ export function computeOverlays(mesh: MeshBuffers, report: InspectionReport | nu
 	const shellCount = shells.shellCount;
 	const shellArea = new Float64Array(shellCount);
 	for (let t = 0; t < triCount; t++) if (shells.faceShell[t] >= 0) shellArea[shells.faceShell[t]] += fm.faceArea[t];
-	const share = report?.tolerances.tinyShellAreaShare ?? DEFAULT_TOLERANCES.tinyShellAreaShare;
+	const share = report?.tolerances.smallShellAreaShare ?? DEFAULT_TOLERANCES.smallShellAreaShare;
 	const total = fm.area > 0 ? fm.area : 1;
 	let largest = 0;
 	for (let s = 1; s < shellCount; s++) if (shellArea[s] > shellArea[largest]) largest = s;

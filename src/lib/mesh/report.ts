@@ -121,8 +121,8 @@ export interface Tolerances {
 	planeRel: number;
 	/** Faces with quality below this count as slivers for hints. */
 	sliverQuality: number;
-	/** Shells below this share of total area (and not the largest) count as tiny floating shells. */
-	tinyShellAreaShare: number;
+	/** Shells below this share of total area (and not the largest) count as small floating shells. */
+	smallShellAreaShare: number;
 	/** Minimum number of slivers connected through edges that makes a "cluster". */
 	sliverClusterMin: number;
 	/** Threshold for `shortEdges`; 0 when no minEdgeLength option was given. */

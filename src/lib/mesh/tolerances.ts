@@ -10,7 +10,7 @@ export const DEFAULT_TOLERANCES: Tolerances = {
 	planeRel: 1e-9,
 	// Normalised radius ratio 2r/R below 0.05 ≈ an aspect ratio above ~20:1. Common practice.
 	sliverQuality: 0.05,
-	tinyShellAreaShare: 0.01,
+	smallShellAreaShare: 0.01,
 	sliverClusterMin: 8,
 	minEdgeLength: 0,
 	rasterCells: 1024,

@@ -41,9 +41,10 @@ describe('lengths, areas and volumes', () => {
 		expect(fmtVolume(0.0123, 'm')).toBe('0.0123 m³');
 	});
 	it('move metric values outside 0.001 … 1,000,000 to an SI-prefixed unit', () => {
-		expect(fmtLength(0.0001, 'm')).toBe('100 µm');
+		expect(fmtLength(0.0001, 'm')).toBe('0.1 mm');
 		expect(fmtLength(0.000000954, 'mm')).toBe('0.954 nm');
-		expect(fmtLength(2e6, 'mm')).toBe('2 km');
+		expect(fmtLength(2e6, 'mm')).toBe('2,000 m');
+		expect(fmtVolume(1.777e6, 'mm')).toBe('0.001777 m³');
 		expect(fmtArea(2.3e6, 'mm')).toBe('2.3 m²');
 		expect(fmtVolume(2.5e-5, 'm')).toBe('25,000 mm³');
 	});
@@ -62,14 +63,23 @@ describe('lengths, areas and volumes', () => {
 		expect(isRoundOff(200 * ROUND_OFF_REL * 1.01, 1, 200)).toBe(false);
 		expect(isRoundOff(1e-30, 1, null)).toBe(false);
 	});
-	it('write a limit and its finding in the same unit', () => {
-		const du = displayUnit(0.0001, 'm');
-		expect(fmtLength(0.0001, 'm', { unit: du })).toBe('100 µm');
-		expect(fmtLength(0.0000421, 'm', { unit: du })).toBe('42.1 µm');
-		expect(fmtLength(0.0015, 'm', { unit: du })).toBe('1,500 µm');
-		expect(fmtIn(0.0000421, du)).toBe('42.1');
+	it('write a limit and its finding, or both ends of a range, in one unit', () => {
+		// 0.1 mm limit, 0.0421 mm finding in a metre project: millimetres for both.
+		const du = displayUnit([0.0001, 0.0000421], 'm');
+		expect(du.label).toBe('mm');
+		expect(fmtLength(0.0001, 'm', { unit: du })).toBe('0.1 mm');
+		expect(fmtLength(0.0000421, 'm', { unit: du })).toBe('0.0421 mm');
+		expect(fmtIn(0.0000421, du)).toBe('0.0421');
+		// Shortest and longest edge of the keel bulb: 0.7071 – 86 mm rather than 707.1 µm – 0.086 m.
+		const edges = displayUnit([0.0007071, 0.086], 'm');
+		expect(`${fmtIn(0.0007071, edges)} – ${fmtLength(0.086, 'm', { unit: edges })}`).toBe('0.7071 – 86 mm');
+		// Values already plain in the project unit stay in it.
+		expect(displayUnit([0.04, 8.5], 'mm').label).toBe('mm');
+		expect(displayUnit([12, 3e6], 'mm', 2).label).toBe('mm²');
 		// A finding a million times the limit reads in its own unit.
-		expect(fmtLength(2, 'm', { unit: du })).toBe('2 m');
+		expect(fmtLength(2e4, 'm', { unit: du })).toBe('20,000 m');
+		// Round-off does not pull the unit: it is written 0.
+		expect(displayUnit([1e-15, 0.5], 'm', 1, { scale: 1 }).label).toBe('m');
 	});
 });
 

@@ -3,13 +3,13 @@
 //
 // - Counts: grouped integers ("12,480").
 // - Measures: 4 significant digits and always a unit. Between 0.001 and 1,000,000 of the project's
-//   unit the value stays in that unit; outside that, metric units move to the SI-prefixed unit that
-//   gives a readable number ("100 µm", "2.3 m²", "25,000 mm³"), and other units get engineering
-//   notation ("3 × 10⁻⁶ in").
+//   unit the value stays in that unit; outside that, metric units move to the nearest SI-prefixed
+//   unit that gives a plain number ("0.1 mm" for 0.0001 m, "2.3 m²", "25,000 mm³"), and other units
+//   get engineering notation ("3 × 10⁻⁶ in").
 // - Round-off: given the part's size, a value smaller than what float32 coordinates (STL stores
 //   float32) can resolve at that size is written 0, so "1.601e-15 m" becomes "0 m".
-// - A limit and its finding are written in one unit: pick it with displayUnit(limit, …) and pass it
-//   to both.
+// - A limit and its finding, or the two ends of a range, are written in one unit: pick it with
+//   displayUnit([limit, finding], …) and pass it to both.
 
 export type Dim = 1 | 2 | 3;
 
@@ -91,26 +91,38 @@ export function isRoundOff(x: number, dim: Dim, scale: number | null | undefined
 	return Math.abs(x) < scale ** dim * ROUND_OFF_REL;
 }
 
-/** The unit a value of about `ref` (in `unit`) is best written in; use it for a limit and its finding alike. */
-export function displayUnit(ref: number | null | undefined, unit: string, dim: Dim = 1, opts: { scale?: number | null } = {}): DisplayUnit {
+const isPlain = (v: number) => {
+	const r = Math.abs(Number(v.toPrecision(DIGITS)));
+	return r >= 1e-3 && r < 1e6;
+};
+
+/**
+ * The unit to write values of about `refs` (in `unit`) in: the project's unit when every one of them
+ * reads plainly there (0.001 … 1,000,000), else the nearest SI-prefixed unit in which they all do,
+ * else the one in which most do. Pass a limit and its finding together to write both in one unit;
+ * values within round-off (they are written 0) do not count.
+ */
+export function displayUnit(refs: number | readonly (number | null | undefined)[], unit: string, dim: Dim = 1, opts: { scale?: number | null } = {}): DisplayUnit {
 	const keep = { label: unitLabel(unit, dim), factor: 1 };
 	const perUnit = METRIC[unit];
-	if (ref == null || !Number.isFinite(ref) || ref === 0 || perUnit === undefined || isRoundOff(ref, dim, opts.scale)) return keep;
-	const a = Math.abs(ref);
-	if (a >= 1e-3 && a < 1e6) return keep;
-	const inMetres = a * perUnit ** dim;
-	for (const p of LADDER) {
-		const f = (perUnit / METRIC[p]) ** dim;
-		if (inMetres / METRIC[p] ** dim >= 1 || p === 'nm') return p === unit ? keep : { label: unitLabel(p, dim), factor: f };
+	const values = (typeof refs === 'number' ? [refs] : refs).filter((v): v is number => v != null && Number.isFinite(v) && v !== 0 && !isRoundOff(v, dim, opts.scale));
+	if (!values.length || perUnit === undefined) return keep;
+	const candidates = [unit, ...LADDER.filter((p) => p !== unit).sort((p, q) => Math.abs(Math.log(METRIC[p] / perUnit)) - Math.abs(Math.log(METRIC[q] / perUnit)) || METRIC[p] - METRIC[q])];
+	let best = keep;
+	let bestScore = -1;
+	for (const p of candidates) {
+		const factor = (perUnit / METRIC[p]) ** dim;
+		const score = values.filter((v) => isPlain(v * factor)).length;
+		if (score > bestScore) [best, bestScore] = [p === unit ? keep : { label: unitLabel(p, dim), factor }, score];
+		if (score === values.length) break;
 	}
-	return keep;
+	return best;
 }
 
 /** A length, area or volume in the project's unit, written with its unit. */
 export function fmtMeasure(x: number | null | undefined, unit: string, dim: Dim, opts: MeasureOptions = {}): string {
 	if (x == null || !Number.isFinite(x)) return '—';
-	const plain = (du: DisplayUnit) => Math.abs(x * du.factor) >= 1e-3 && Math.abs(x * du.factor) < 1e6;
-	const du = opts.unit && (plain(opts.unit) || isRoundOff(x, dim, opts.scale)) ? opts.unit : displayUnit(x, unit, dim, opts);
+	const du = opts.unit && (isPlain(x * opts.unit.factor) || isRoundOff(x, dim, opts.scale)) ? opts.unit : displayUnit(x, unit, dim, opts);
 	if (x === 0 || isRoundOff(x, dim, opts.scale)) return `0 ${du.label}`;
 	return `${fmtNumber(x * du.factor, opts.digits)} ${du.label}`;
 }

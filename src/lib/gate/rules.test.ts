@@ -38,12 +38,12 @@ describe('gate rules', () => {
 	});
 
 	it('writes the shortest edge in the unit of its limit and coordinates within round-off as 0', () => {
-		// The unit cube read as metres: the limit in µm; 1 m edges would be 1,000,000 µm, so they keep metres.
+		// The unit cube read as metres against a 0.1 mm limit: both in millimetres.
 		const r = report('cube-closed.stl');
 		const m = { units: 'm', targetCellSize: 0.005 };
 		const rule = evaluateGate(r, { ...DEFAULT_GATE_RULES, minEdgeLength: { mode: 'absolute', value: 0.0001 } }, m).find((o) => o.rule === 'min-edge-length')!;
-		expect(rule.limit).toBe('≥ 100 µm');
-		expect(rule.measured).toBe('shortest 1 m');
+		expect(rule.limit).toBe('≥ 0.1 mm');
+		expect(rule.measured).toBe('shortest 1,000 mm');
 		const open = report('cube-one-face-missing.stl');
 		const nudged = { ...open, holes: open.holes.map((h) => ({ ...h, centroid: [h.centroid[0] - 2.98e-9, h.centroid[1], h.centroid[2]] as [number, number, number] })) };
 		const closed = evaluateGate(nudged, DEFAULT_GATE_RULES, ctx).find((o) => o.rule === 'closed')!;
@@ -126,7 +126,7 @@ describe('the size and units rule (unit definitions: 1 in = 25.4 mm, 1 ft = 304.
 		const rules = { ...D, expectedSize: { mode: 'absolute' as const, min: 50, max: 2000 } };
 		const o = sizeRule(bodyOfDiagonal(1e7), rules, pods);
 		expect(o.passed).toBe(false);
-		expect(o.measured).toBe('10 km across');
+		expect(o.measured).toBe('10,000 m across');
 		expect(o.explanation).toContain('No usual unit factor explains it');
 		expect(scaleFix(bodyOfDiagonal(1e7), rules, pods)).toBeNull();
 	});

@@ -203,8 +203,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	const minLen = minEdgeThreshold(rules, ctx);
 	if (minLen !== null) {
 		const ok = r.faces === 0 || r.minEdgeLength >= minLen;
-		// The finding is written in the limit's unit, so "42.1 µm" stands beside "≥ 100 µm".
-		const du = displayUnit(minLen, u, 1);
+		// The finding and the limit in one unit, so "0.0421 mm" stands beside "≥ 0.1 mm".
+		const du = displayUnit([minLen, r.minEdgeLength], u, 1, { scale: size });
 		push(verdict(ok), {
 			rule: 'min-edge-length',
 			measured: `shortest ${len(r.minEdgeLength, u, size, du)}${!ok && r.shortEdges ? `, ${plural(r.shortEdges, 'edge')} below the limit` : ''}`,
@@ -268,13 +268,13 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	const range = expectedSizeRange(rules, ctx);
 	if (range) {
 		const across = bodySize(r);
-		const du = displayUnit(range.max, u, 1);
+		const du = displayUnit([range.min, range.max, across], u, 1);
 		const ok = across >= range.min && across <= range.max;
 		const fix = ok ? null : scaleFix(r, rules, ctx);
 		const cells = rules.expectedSize?.mode === 'cells' ? ` (${n(rules.expectedSize.min)} to ${n(rules.expectedSize.max)} cells of ${len(ctx.targetCellSize, u)})` : '';
 		push(r.faces === 0 ? 'not-checked' : verdict(ok), {
 			rule: 'expected-size',
-			measured: r.faces === 0 ? 'not checked: no faces' : `${len(across, u)} across${fix ? `; likely ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits})` : ''}`,
+			measured: r.faces === 0 ? 'not checked: no faces' : `${len(across, u, null, du)} across${fix ? `; likely ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits})` : ''}`,
 			limit: `${len(range.min, u, null, du)} to ${len(range.max, u, null, du)} across${cells}`,
 			explanation:
 				r.faces === 0
@@ -282,7 +282,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					: ok
 						? 'The body’s size (bounding-box diagonal) is within the range this project expects, so its units look right.'
 						: [
-								`The body measures ${len(across, u)} across (bounding-box diagonal), ${across < range.min ? 'smaller' : 'larger'} than the ${len(range.min, u, null, du)} to ${len(range.max, u, null, du)} this project expects${cells}.`,
+								`The body measures ${len(across, u, null, du)} across (bounding-box diagonal), ${across < range.min ? 'smaller' : 'larger'} than the ${len(range.min, u, null, du)} to ${len(range.max, u, null, du)} this project expects${cells}.`,
 								'Mesh files carry no units, so this is most often a unit mistake at export.',
 								fix
 									? `The numbers look like ${UNIT_WORDS[fix.fileUnits]} read as ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}: scaled ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits}) the body would be ${len(across * fix.factor, u, null, du)} across. Export again in ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}, or let a repair rescale it by ${fmtFactor(fix.factor)}.`

@@ -107,7 +107,7 @@ export function judgeRepair(m: ChangeMeasures, limits: RepairLimits, targetCellS
 	const devLimit = limits.maxDeviation.mode === 'absolute' ? limits.maxDeviation.value : limits.maxDeviation.value * targetCellSize;
 	const dev = m.deviation;
 	// The move and its limit in one unit (the limit's), as the rule texts do.
-	const du = displayUnit(devLimit, units || 'units', 1);
+	const du = displayUnit([devLimit, dev], units || 'units', 1);
 	const lenText = (x: number) => (units ? fmtLength(x, units, { unit: du }) : fmt(x));
 	lines.push({
 		measure: 'deviation',

@@ -13,6 +13,7 @@ import { spool } from '../src/lib/server/storage';
 import { demoUploads } from './demo-meshes';
 
 export const DEMO_PASSWORD = 'shellgate-demo';
+export const TEAM_NAME = 'Example Cove Robotics';
 
 const PEOPLE: { email: string; name: string; roles: Role[] }[] = [
 	{ email: 'admin@example.test', name: 'Ada Admin', roles: ['admin'] },
@@ -34,7 +35,7 @@ const PROJECTS: {
 	{
 		slug: 'sensor-pods',
 		name: 'Sensor-pod housings',
-		description: 'Hull-mounted pods for the side-scan and the CTD probe of the SD-4 survey drone.',
+		description: 'Hull-mounted pods for the side-scan sonar and the CTD probe of the team’s uncrewed survey boat.',
 		units: 'mm',
 		flow: [1, 0, 0],
 		cell: 2,
@@ -60,7 +61,7 @@ const PROJECTS: {
 	{
 		slug: 'keel-bulbs',
 		name: 'Keel bulbs',
-		description: 'Ballast bulbs for the sail drone keel, shaped by the optimiser.',
+		description: 'Ballast bulbs for the survey boat’s keel, shaped by the optimiser.',
 		units: 'm',
 		flow: [1, 0, 0],
 		cell: 0.005,
@@ -72,10 +73,19 @@ const PROJECTS: {
 export async function seed(opts: { meshes?: boolean } = {}): Promise<{ created: number }> {
 	const db = getDb();
 	let created = 0;
-	let [t] = await db.select().from(team).where(eq(team.name, 'Tidewater Survey Robotics')).limit(1);
+	// An invented name (example.test, like the sign-ins). A database seeded under an earlier demo
+	// name keeps its team, found through the demo admin, and takes the new name.
+	let [t] = await db.select().from(team).where(eq(team.name, TEAM_NAME)).limit(1);
 	if (!t) {
-		const [r] = await db.insert(team).values({ name: 'Tidewater Survey Robotics' }).$returningId();
-		t = { id: r.id, name: 'Tidewater Survey Robotics', createdAt: new Date() };
+		const [admin] = await db.select({ teamId: user.teamId }).from(user).where(eq(user.email, 'admin@example.test')).limit(1);
+		if (admin?.teamId != null) {
+			await db.update(team).set({ name: TEAM_NAME }).where(eq(team.id, admin.teamId));
+			[t] = await db.select().from(team).where(eq(team.id, admin.teamId)).limit(1);
+		}
+	}
+	if (!t) {
+		const [r] = await db.insert(team).values({ name: TEAM_NAME }).$returningId();
+		t = { id: r.id, name: TEAM_NAME, createdAt: new Date() };
 		created++;
 	}
 	const passwordHash = await hashPassword(DEMO_PASSWORD);

@@ -1,11 +1,12 @@
 import { redirect, type Handle, type HandleServerError } from '@sveltejs/kit';
-import { and, eq, isNull } from 'drizzle-orm';
+import { eq } from 'drizzle-orm';
 import { getLucia, hashToken, loadSessionUser } from '$lib/server/auth';
 import { accessFor } from '$lib/server/auth/guard';
 import { getDb } from '$lib/server/db';
 import { apiToken } from '$lib/server/db/schema';
 import { startBackground } from '$lib/server/background';
 import { loggable } from '$lib/server/api/respond';
+import { crossSiteRefusal } from '$lib/server/csrf';
 
 startBackground();
 
@@ -32,11 +33,13 @@ async function authenticate(event: Parameters<Handle>[0]['event']) {
 	const bearer = event.request.headers.get('authorization');
 	if (bearer?.startsWith('Bearer ') && event.url.pathname.startsWith('/api/')) {
 		const token = bearer.slice(7).trim();
-		const [row] = await db
-			.select()
-			.from(apiToken)
-			.where(and(eq(apiToken.tokenHash, hashToken(token)), isNull(apiToken.revokedAt)))
-			.limit(1);
+		// Looked up whether revoked or not, so a revoked token is told so rather than "unknown".
+		const [row] = await db.select().from(apiToken).where(eq(apiToken.tokenHash, hashToken(token))).limit(1);
+		if (!row) event.locals.tokenProblem = { kind: 'unknown' };
+		else if (row.revokedAt) {
+			event.locals.tokenProblem = { kind: 'revoked', at: row.revokedAt };
+			return;
+		}
 		if (row) {
 			event.locals.user = await loadSessionUser(db, row.userId);
 			// Last use is informative only (shown to the minute), so it is written at most once a
@@ -65,10 +68,22 @@ async function authenticate(event: Parameters<Handle>[0]['event']) {
 	event.locals.user = user ? await loadSessionUser(db, user.id) : null;
 }
 
+function unauthenticatedMessage(p: App.Locals['tokenProblem']): string {
+	if (p?.kind === 'revoked') {
+		return `This API token was revoked (${p.at.toISOString().slice(0, 16).replace('T', ' ')} UTC) and no longer works. Create a new one under Settings & API tokens and give it to the pipeline.`;
+	}
+	if (p?.kind === 'unknown') {
+		return 'This API token is not known to Shellgate: check that the pipeline sends it whole (it starts with "sg_"), or create a new one under Settings & API tokens.';
+	}
+	return 'Authentication required: send a session cookie or an "Authorization: Bearer" API token.';
+}
+
 export const handle: Handle = async ({ event, resolve }) => {
 	const path = event.url.pathname;
 	if (path.startsWith('/_app/') || path === '/favicon.svg') return resolve(event);
 	const isApi = path.startsWith('/api/');
+	const refused = crossSiteRefusal(event.request, event.url, !!event.cookies.get(getLucia().sessionCookieName));
+	if (refused) return isApi ? json(403, refused) : new Response(refused, { status: 403, headers: { 'content-type': 'text/plain; charset=utf-8' } });
 	try {
 		await authenticate(event);
 	} catch (e) {
@@ -82,7 +97,7 @@ export const handle: Handle = async ({ event, resolve }) => {
 	const u = event.locals.user;
 	if (access !== 'public') {
 		if (!u) {
-			if (isApi) return json(401, 'Authentication required: send a session cookie or an "Authorization: Bearer" API token.');
+			if (isApi) return json(401, unauthenticatedMessage(event.locals.tokenProblem));
 			redirect(303, `/sign-in?next=${encodeURIComponent(path + event.url.search)}`);
 		}
 		// Pages lacking the role are refused by their layout's requireRole (so the app's error page

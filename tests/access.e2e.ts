@@ -260,11 +260,15 @@ test('a revoked API token stops working at once, and no answer shows a token or 
 	}
 	answers.push(await (await designer.get('/settings')).text());
 	const [[row]] = await db.query<mysql.RowDataPacket[]>('SELECT id FROM api_token WHERE prefix = ? ORDER BY id DESC LIMIT 1', [token.slice(0, 10)]);
-	const rv = await designer.post('/settings?/revoke', { form: { id: String(row.id) }, headers: { origin: baseURL, 'x-sveltekit-action': 'true', accept: 'application/json' } });
+	// The first post only asks; the token still works until the revoke is confirmed.
+	const ask = await designer.post('/settings?/revoke', { form: { id: String(row.id) }, headers: { origin: baseURL, 'x-sveltekit-action': 'true', accept: 'application/json' } });
+	expect(((await ask.json()) as { type: string }).type).toBe('success');
+	expect((await bearer.get('/api/v1/queue')).status()).toBe(200);
+	const rv = await designer.post('/settings?/revoke', { form: { id: String(row.id), confirm: 'yes' }, headers: { origin: baseURL, 'x-sveltekit-action': 'true', accept: 'application/json' } });
 	expect(((await rv.json()) as { type: string }).type).toBe('success');
 	const after = await bearer.get('/api/v1/queue');
 	expect(after.status()).toBe(401);
-	expect(((await after.json()) as { message: string }).message).toMatch(/Authentication required/);
+	expect(((await after.json()) as { message: string }).message).toMatch(/API token was revoked/);
 	figures.refusals++;
 	const [audits] = await db.query<mysql.RowDataPacket[]>('SELECT CAST(detail AS CHAR) AS d FROM audit_event');
 	answers.push(...audits.map((a) => String(a.d)));

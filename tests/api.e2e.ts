@@ -56,9 +56,55 @@ test('a pipeline token uploads, follows the check, reads the report and file, co
 
 	await page.goto('/settings');
 	await page.getByRole('row').filter({ hasText: 'run farm 2' }).getByRole('button', { name: 'Revoke' }).click();
+	// Revoking asks first; until confirmed the token still works.
+	await expect(page.getByTestId('confirm-revoke')).toContainText('run farm 2');
+	expect((await api.get(created.links.self)).status()).toBe(200);
+	await page.getByRole('button', { name: 'Yes, revoke it' }).click();
 	await expect(page.getByRole('row').filter({ hasText: 'run farm 2' })).toContainText('revoked');
-	expect((await api.get(created.links.self)).status()).toBe(401);
+	const refused = await api.get(created.links.self);
+	expect(refused.status()).toBe(401);
+	expect((await refused.json()).message).toMatch(/API token was revoked/);
 	await api.dispose();
+	const unknown = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { authorization: 'Bearer sg_notatoken' } });
+	expect((await (await unknown.get('/api/v1/queue')).json()).message).toMatch(/not known to Shellgate/);
+	await unknown.dispose();
+});
+
+test('a multipart upload with a bearer token needs no Origin header; cookie-authenticated form posts still do', async ({ page, playwright, baseURL }) => {
+	await signInAs(page, 'designer');
+	await page.context().grantPermissions(['clipboard-read', 'clipboard-write'], { origin: baseURL });
+	await page.goto('/settings');
+	await page.getByLabel('Name').fill('pod script, multipart');
+	await page.getByRole('button', { name: 'Create token' }).click();
+	const token = (await page.getByTestId('new-token').textContent())!.trim();
+	await page.getByTestId('copy-token').click();
+	await expect(page.getByTestId('copy-token')).toHaveText('Copied');
+	expect(await page.evaluate(() => navigator.clipboard.readText())).toBe(token);
+
+	const bytes = readFileSync('fixtures/cube-closed.stl');
+	const part = `pod-mp-${Date.now().toString(36)}`;
+	// Playwright's request context sends no Origin header, like curl or a pipeline's HTTP client.
+	const api = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { authorization: `Bearer ${token}` } });
+	const up = await api.post(`/api/v1/projects/sensor-pods/parts/${part}/revisions`, { multipart: { file: { name: 'pod.stl', mimeType: 'model/stl', buffer: bytes } } });
+	expect(up.status(), await up.text()).toBe(201);
+	expect((await up.json()).links.self).toMatch(/^\/api\/v1\/revisions\/\d+$/);
+	await api.dispose();
+
+	// The same upload on the browser's session cookie, with no Origin: refused, as JSON.
+	const cookies = await page.context().storageState();
+	const viaCookie = await playwright.request.newContext({ baseURL, storageState: cookies });
+	const cross = await viaCookie.post(`/api/v1/projects/sensor-pods/parts/${part}/revisions`, { multipart: { file: { name: 'pod2.stl', mimeType: 'model/stl', buffer: bytes } } });
+	expect(cross.status()).toBe(403);
+	expect((await cross.json()).message).toMatch(/Cross-site POST/);
+	// A bearer header does not lift the check while a session cookie comes along.
+	const both = await viaCookie.post(`/api/v1/projects/sensor-pods/parts/${part}/revisions`, { headers: { authorization: `Bearer ${token}` }, multipart: { file: { name: 'pod3.stl', mimeType: 'model/stl', buffer: bytes } } });
+	expect(both.status()).toBe(403);
+	// A page's form post from another origin is refused; from our own it goes through.
+	const foreign = await viaCookie.post('/settings?/create', { form: { name: 'forged' }, headers: { origin: 'http://elsewhere.example', accept: 'application/json' } });
+	expect(foreign.status()).toBe(403);
+	const own = await viaCookie.post('/settings?/create', { form: { name: 'own origin' }, headers: { origin: baseURL!, 'x-sveltekit-action': 'true', accept: 'application/json' } });
+	expect(((await own.json()) as { type: string }).type).toBe('success');
+	await viaCookie.dispose();
 });
 
 

@@ -63,6 +63,20 @@ test('an engineer repairs a held revision, cannot sign off their own repair, and
 		await page.screenshot({ path: shot('repair-proposed-reviewer'), fullPage: true });
 		await page.getByRole('button', { name: 'Sign off for the solver' }).click();
 		await expect(page.getByTestId('signed-by')).toContainText('reviewer@example.test');
+		// The engineer who ran the repair and the designer who uploaded the original both hear of it.
+		const partWords = PART.replace(/-/g, ' ');
+		for (const [to, subject] of [
+			['engineer@example.test', /^Signed off: /],
+			['designer@example.test', /^Repair of your upload signed off: /]
+		] as const) {
+			await expect(async () => {
+				await page.goto('/dev/mailbox');
+				const mail = page.getByTestId('mail').filter({ hasText: partWords }).filter({ has: page.getByTestId('mail-subject').filter({ hasText: subject }) });
+				await expect(mail).toHaveCount(1, { timeout: 500 });
+				await expect(mail.getByTestId('mail-to')).toHaveText(to, { timeout: 500 });
+			}).toPass({ timeout: 20_000 });
+		}
+		await page.goto('/queue');
 		await signOut(page);
 	} finally {
 		await setEngineerAlsoReviewer(page, false);

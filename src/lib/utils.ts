@@ -5,18 +5,8 @@ export function cn(...inputs: ClassValue[]): string {
 	return twMerge(clsx(inputs));
 }
 
-export function fmtInt(n: number | null | undefined): string {
-	return n == null ? '—' : n.toLocaleString('en-US');
-}
-
-/** Engineering-friendly number: up to 4 significant digits, no exponent for ordinary sizes. */
-export function fmtNum(n: number | null | undefined, digits = 4): string {
-	if (n == null || !Number.isFinite(n)) return '—';
-	if (n === 0) return '0';
-	const a = Math.abs(n);
-	if (a >= 1e6 || a < 1e-3) return n.toExponential(digits - 1);
-	return Number(n.toPrecision(digits)).toLocaleString('en-US', { maximumFractionDigits: 6 });
-}
+// Counts and bare numbers come from $lib/format, the one place numbers are formatted.
+export { fmtCount as fmtInt, fmtNumber as fmtNum } from './format';
 
 export function fmtBytes(n: number): string {
 	if (n < 1024) return `${n} B`;

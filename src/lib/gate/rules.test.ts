@@ -37,6 +37,19 @@ describe('gate rules', () => {
 		expect(rule.limit).toBe('≥ 1.2 mm (0.6 × cell size 2 mm)');
 	});
 
+	it('writes the shortest edge in the unit of its limit and coordinates within round-off as 0', () => {
+		// The unit cube read as metres against a 0.1 mm limit: both in millimetres.
+		const r = report('cube-closed.stl');
+		const m = { units: 'm', targetCellSize: 0.005 };
+		const rule = evaluateGate(r, { ...DEFAULT_GATE_RULES, minEdgeLength: { mode: 'absolute', value: 0.0001 } }, m).find((o) => o.rule === 'min-edge-length')!;
+		expect(rule.limit).toBe('≥ 0.1 mm');
+		expect(rule.measured).toBe('shortest 1,000 mm');
+		const open = report('cube-one-face-missing.stl');
+		const nudged = { ...open, holes: open.holes.map((h) => ({ ...h, centroid: [h.centroid[0] - 2.98e-9, h.centroid[1], h.centroid[2]] as [number, number, number] })) };
+		const closed = evaluateGate(nudged, DEFAULT_GATE_RULES, ctx).find((o) => o.rule === 'closed')!;
+		expect(closed.explanation).not.toMatch(/e-|× 10/);
+	});
+
 	it('checks the expected genus only when the profile asks for one', () => {
 		const r = report('cube-closed.stl');
 		expect(evaluateGate(r, DEFAULT_GATE_RULES, ctx).some((o) => o.rule === 'expected-genus')).toBe(false);
@@ -97,7 +110,7 @@ describe('the size and units rule (unit definitions: 1 in = 25.4 mm, 1 ft = 304.
 		// ×10 (cm) would also land inside the range, at 118 mm; ×25.4 lands nearer its middle (316 mm).
 		const o = sizeRule(bodyOfDiagonal(300 / 25.4), rules, pods);
 		expect(o.passed).toBe(false);
-		expect(o.measured).toBe('11.8 mm across; likely ×25.4 (in → mm)');
+		expect(o.measured).toBe('11.81 mm across; likely ×25.4 (in → mm)');
 		expect(likelyUnitFix(300 / 25.4, { min: 50, max: 2000 }, 'mm')).toEqual({ factor: 25.4, fileUnits: 'in', projectUnits: 'mm' });
 	});
 
@@ -113,7 +126,7 @@ describe('the size and units rule (unit definitions: 1 in = 25.4 mm, 1 ft = 304.
 		const rules = { ...D, expectedSize: { mode: 'absolute' as const, min: 50, max: 2000 } };
 		const o = sizeRule(bodyOfDiagonal(1e7), rules, pods);
 		expect(o.passed).toBe(false);
-		expect(o.measured).toBe('10,000,000 mm across');
+		expect(o.measured).toBe('10,000 m across');
 		expect(o.explanation).toContain('No usual unit factor explains it');
 		expect(scaleFix(bodyOfDiagonal(1e7), rules, pods)).toBeNull();
 	});

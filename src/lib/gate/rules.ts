@@ -2,6 +2,7 @@
 // explanation for designers: what it means for the solver, where on the shape, what to change upstream.
 import type { InspectionReport, Vec3 } from '../mesh/report';
 import type { GateRules } from './profile';
+import { displayUnit, fmtArea, fmtCount, fmtLength, fmtNumber, fmtPercent, fmtPoint, plural, type DisplayUnit } from '../format';
 
 export const RULE_IDS = [
 	'closed',
@@ -52,10 +53,11 @@ export interface GateContext {
 	targetCellSize: number;
 }
 
-const n = (x: number) => x.toLocaleString('en-US');
-const len = (x: number, units: string) => `${x.toLocaleString('en-US', { maximumSignificantDigits: 3 })} ${units}`;
-const at = (p: Vec3, units: string) => `(${p.map((c) => c.toLocaleString('en-US', { maximumSignificantDigits: 4 })).join(', ')}) ${units}`;
-const plural = (k: number, one: string, many = one + 's') => `${n(k)} ${k === 1 ? one : many}`;
+// Numbers go through $lib/format: units always, 4 significant digits, round-off (against the part's
+// size) written as 0, and a limit and its finding in one unit.
+const n = fmtCount;
+const len = (x: number, units: string, scale?: number | null, unit?: DisplayUnit) => fmtLength(x, units, { scale, unit });
+const at = (p: Vec3, units: string, scale: number) => fmtPoint(p, units, { scale });
 
 /** Minimum edge length the profile asks for, in project units, or null when the rule is off. */
 export function minEdgeThreshold(rules: GateRules, ctx: GateContext): number | null {
@@ -117,10 +119,11 @@ export function scaleFix(r: InspectionReport, rules: GateRules, ctx: GateContext
 	return likelyUnitFix(size, range, ctx.units);
 }
 
-export const fmtFactor = (f: number) => `×${f.toLocaleString('en-US', { maximumSignificantDigits: 4 })}`;
+export const fmtFactor = (f: number) => `×${fmtNumber(f)}`;
 
 export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateContext): RuleOutcome[] {
 	const u = ctx.units;
+	const size = r.faces ? bodySize(r) : null;
 	const out: RuleOutcome[] = [];
 	// passed and severity are derived from the verdict and written last, so nothing in o can unset them.
 	const push = (v: RuleVerdict, o: Omit<RuleOutcome, 'passed' | 'severity'>) => out.push({ ...o, passed: v === 'passed', severity: VERDICT_SEVERITY[v] });
@@ -144,7 +147,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					: [
 							`The surface has ${plural(r.boundaryLoops, 'hole')} (${plural(r.boundaryEdges, 'edge')} that belong to only one face).`,
 							'A CFD mesher needs a closed surface to tell fluid from solid; through a gap the volume mesh leaks and the case will not run.',
-							big ? `The largest hole is ${len(big.perimeter, u)} around, centred near ${at(big.centroid, u)}.` : '',
+							big ? `The largest hole is ${len(big.perimeter, u)} around, centred near ${at(big.centroid, u, size ?? 0)}.` : '',
 							seams
 								? weldCloses
 									? 'All of these openings are unwelded seams: vertices at the same position are stored twice, and an exact weld closes the surface without moving anything. Weld first (one repair step, or weld on export).'
@@ -205,8 +208,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					: pairs === 0
 						? 'No two faces cross or touch other than along shared edges and vertices.'
 						: r.hints.some((h) => h.kind === 'unwelded-seams')
-							? `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u)}` : ''}. The seams of this mesh are not welded, and faces that meet only along such a seam are counted here too: weld first (nothing moves), then check again to see which crossings are real.`
-							: `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u)}` : ''}: the surface passes through itself. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape where it folds through itself (where walls are thinner than the sampling or export resolution, refine there).`,
+							? `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}. The seams of this mesh are not welded, and faces that meet only along such a seam are counted here too: weld first (nothing moves), then check again to see which crossings are real.`
+							: `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}: the surface passes through itself. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape where it folds through itself (where walls are thinner than the sampling or export resolution, refine there).`,
 			location: r.selfIntersectionSample.length ? { points: r.selfIntersectionSample.slice(0, 20).map((s) => s.point), note: 'sample of crossing points' } : null
 		});
 	}
@@ -214,10 +217,12 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	const minLen = minEdgeThreshold(rules, ctx);
 	if (minLen !== null) {
 		const ok = r.faces === 0 || r.minEdgeLength >= minLen;
+		// The finding and the limit in one unit, so "0.0421 mm" stands beside "≥ 0.1 mm".
+		const du = displayUnit([minLen, r.minEdgeLength], u, 1, { scale: size });
 		push(verdict(ok), {
 			rule: 'min-edge-length',
-			measured: `shortest ${len(r.minEdgeLength, u)}${!ok && r.shortEdges ? `, ${plural(r.shortEdges, 'edge')} below the limit` : ''}`,
-			limit: `≥ ${len(minLen, u)}${rules.minEdgeLength?.mode === 'fraction-of-cell' ? ` (${rules.minEdgeLength.value} × cell size ${len(ctx.targetCellSize, u)})` : ''}`,
+			measured: `shortest ${len(r.minEdgeLength, u, size, du)}${!ok && r.shortEdges ? `, ${plural(r.shortEdges, 'edge')} below the limit` : ''}`,
+			limit: `≥ ${len(minLen, u, null, du)}${rules.minEdgeLength?.mode === 'fraction-of-cell' ? ` (${fmtNumber(rules.minEdgeLength.value)} × cell size ${len(ctx.targetCellSize, u)})` : ''}`,
 			explanation: ok
 				? 'No edge is shorter than the limit set for the target cell size.'
 				: `Some edges are much shorter than the target cell size (${len(ctx.targetCellSize, u)}). The mesher either refines down to them, wasting cells and time step, or produces badly shaped cells next to them. Upstream: export with a coarser or more uniform triangulation, or let a repair collapse the short edges.`,
@@ -244,7 +249,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					: `The mesh has ${plural(r.components, 'separate surface')} where at most ${rules.maxShells} ${rules.maxShells === 1 ? 'is' : 'are'} expected. ${tiny ? tiny.message + ' ' : ''}${
 						tiny
 							? 'Loose specks become extra bodies in the flow and waste cells; removing them (a repair step, or filtering small components upstream) changes the shape very little.'
-							: `The shells other than the largest make up ${(restShare * 100).toLocaleString('en-US', { maximumSignificantDigits: 3 })} % of the area (the smallest is ${len(smallest, `${u}²`)}), so they look like separate bodies rather than specks: each becomes its own body in the flow. If the case is meant to have one body, join them upstream; if it is an assembly, raise this project's shell limit.`
+							: `The shells other than the largest make up ${fmtPercent(restShare)} of the area (the smallest is ${fmtArea(smallest, u, { scale: size })}), so they look like separate bodies rather than specks: each becomes its own body in the flow. If the case is meant to have one body, join them upstream; if it is an assembly, raise this project's shell limit.`
 					}`,
 			location: null
 		});
@@ -278,24 +283,25 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 
 	const range = expectedSizeRange(rules, ctx);
 	if (range) {
-		const size = bodySize(r);
-		const ok = size >= range.min && size <= range.max;
+		const across = bodySize(r);
+		const du = displayUnit([range.min, range.max, across], u, 1);
+		const ok = across >= range.min && across <= range.max;
 		const fix = ok ? null : scaleFix(r, rules, ctx);
 		const cells = rules.expectedSize?.mode === 'cells' ? ` (${n(rules.expectedSize.min)} to ${n(rules.expectedSize.max)} cells of ${len(ctx.targetCellSize, u)})` : '';
 		push(r.faces === 0 ? 'not-checked' : verdict(ok), {
 			rule: 'expected-size',
-			measured: r.faces === 0 ? 'not checked: no faces' : `${len(size, u)} across${fix ? `; likely ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits})` : ''}`,
-			limit: `${len(range.min, u)} to ${len(range.max, u)} across${cells}`,
+			measured: r.faces === 0 ? 'not checked: no faces' : `${len(across, u, null, du)} across${fix ? `; likely ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits})` : ''}`,
+			limit: `${len(range.min, u, null, du)} to ${len(range.max, u, null, du)} across${cells}`,
 			explanation:
 				r.faces === 0
 					? 'The mesh has no faces, so it has no size to check.'
 					: ok
 						? 'The body’s size (bounding-box diagonal) is within the range this project expects, so its units look right.'
 						: [
-								`The body measures ${len(size, u)} across (bounding-box diagonal), ${size < range.min ? 'smaller' : 'larger'} than the ${len(range.min, u)} to ${len(range.max, u)} this project expects${cells}.`,
+								`The body measures ${len(across, u, null, du)} across (bounding-box diagonal), ${across < range.min ? 'smaller' : 'larger'} than the ${len(range.min, u, null, du)} to ${len(range.max, u, null, du)} this project expects${cells}.`,
 								'Mesh files carry no units, so this is most often a unit mistake at export.',
 								fix
-									? `The numbers look like ${UNIT_WORDS[fix.fileUnits]} read as ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}: scaled ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits}) the body would be ${len(size * fix.factor, u)} across. Export again in ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}, or let a repair rescale it by ${fmtFactor(fix.factor)}.`
+									? `The numbers look like ${UNIT_WORDS[fix.fileUnits]} read as ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}: scaled ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits}) the body would be ${len(across * fix.factor, u, null, du)} across. Export again in ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}, or let a repair rescale it by ${fmtFactor(fix.factor)}.`
 									: `No usual unit factor explains it (mm, cm, m, in and ft were tried). Check the export scale, and the project’s target cell size and expected size.`
 							].join(' '),
 			location: null
@@ -327,10 +333,10 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 						? `Every wall and every gap is at least ${rules.minWallGapCells} cells of ${len(ctx.targetCellSize, u)} across, so the volume mesher can put cells across them.`
 						: [
 								wallBad
-									? `The thinnest wall is ${len(wall!.value, u)}, ${cells(wall!.value)} across, near ${at(wall!.from, u)}; ${plural(c.thinWallFaces, 'face')} (${len(c.thinWallArea, `${u}²`)}) sit on walls thinner than ${rules.minWallGapCells} cells. With so few cells across, the volume mesher squashes or drops the cells inside the wall and the solid can leak through it. Upstream: thicken the wall there, or ask for a finer cell size locally.`
+									? `The thinnest wall is ${len(wall!.value, u)}, ${cells(wall!.value)} across, near ${at(wall!.from, u, size ?? 0)}; ${plural(c.thinWallFaces, 'face')} (${len(c.thinWallArea, `${u}²`)}) sit on walls thinner than ${rules.minWallGapCells} cells. With so few cells across, the volume mesher squashes or drops the cells inside the wall and the solid can leak through it. Upstream: thicken the wall there, or ask for a finer cell size locally.`
 									: '',
 								gapBad
-									? `The narrowest gap is ${len(gap!.value, u)}, ${cells(gap!.value)} across, near ${at(gap!.from, u)}; ${plural(c.narrowGapFaces, 'face')} border gaps narrower than ${rules.minWallGapCells} cells. The mesher either bridges such a gap (the surfaces fuse and the flow path there closes) or fills it with collapsed cells. Upstream: move the surfaces at least ${len(need, u)} apart, join them if they are meant to touch, or ask for a finer cell size in the gap.`
+									? `The narrowest gap is ${len(gap!.value, u)}, ${cells(gap!.value)} across, near ${at(gap!.from, u, size ?? 0)}; ${plural(c.narrowGapFaces, 'face')} border gaps narrower than ${rules.minWallGapCells} cells. The mesher either bridges such a gap (the surfaces fuse and the flow path there closes) or fills it with collapsed cells. Upstream: move the surfaces at least ${len(need, u)} apart, join them if they are meant to touch, or ask for a finer cell size in the gap.`
 									: ''
 							]
 								.filter(Boolean)

@@ -32,8 +32,8 @@ const plural = (n: number, one: string, many = `${one}s`) => `${int(n)} ${n === 
 
 /**
  * Shells to call specks that can be removed: every shell but the largest (by area) that is below
- * tinyShellAreaShare of the area and tinyShellFaceShare of the faces, and only while all of them
- * together stay below tinyShellAreaShare of the area. Otherwise none: the pieces are bodies (an
+ * smallShellAreaShare of the area and smallShellFaceShare of the faces, and only while all of them
+ * together stay below smallShellAreaShare of the area. Otherwise none: the pieces are bodies (an
  * assembly, a model of many parts), and removing them would change what the mesh is.
  */
 export function smallShellIds(shellArea: ArrayLike<number>, shellFaces: ArrayLike<number>, tol: Tolerances): number[] {
@@ -50,12 +50,12 @@ export function smallShellIds(shellArea: ArrayLike<number>, shellFaces: ArrayLik
 	let together = 0;
 	for (let s = 0; s < n; s++) {
 		if (s === largest) continue;
-		if (shellArea[s] / total < tol.tinyShellAreaShare && shellFaces[s] / totalFaces < tol.tinyShellFaceShare) {
+		if (shellArea[s] / total < tol.smallShellAreaShare && shellFaces[s] / totalFaces < tol.smallShellFaceShare) {
 			ids.push(s);
 			together += shellArea[s];
 		}
 	}
-	return together / total < tol.tinyShellAreaShare ? ids : [];
+	return together / total < tol.smallShellAreaShare ? ids : [];
 }
 
 /** Evidence that a hole is where a sampling box cut the surface (see buildHints). */
@@ -115,7 +115,7 @@ export function buildHints(inp: HintInput): Hint[] {
 		if (specks.length > 0) {
 			hints.push({
 				kind: 'floating-shells',
-				message: `${plural(specks.length, 'small loose piece')} float${specks.length === 1 ? 's' : ''} apart from the main surface: ${pct(speckArea / total)} of the area and ${plural(speckFaces, 'face')} together, each below ${pct(tol.tinyShellAreaShare)} of the area and ${pct(tol.tinyShellFaceShare)} of the faces. Removing them changes the area by ${pct(speckArea / total)}.`,
+				message: `${plural(specks.length, 'small loose piece')} float${specks.length === 1 ? 's' : ''} apart from the main surface: ${pct(speckArea / total)} of the area and ${plural(speckFaces, 'face')} together, each below ${pct(tol.smallShellAreaShare)} of the area and ${pct(tol.smallShellFaceShare)} of the faces. Removing them changes the area by ${pct(speckArea / total)}.`,
 				count: specks.length,
 				areaShare: speckArea / total
 			});

@@ -45,7 +45,7 @@ export interface MeshOverlays {
 	shortEdgeSegments: Float32Array;
 	degenerateFaces: Uint32Array;
 	flippedFaces: Uint32Array;
-	/** Shell ids counted as floating: not the largest by area and below the tiny-shell area share. */
+	/** Shell ids counted as floating: not the largest by area and below the small-shell area share. */
 	floatingShells: Uint32Array;
 	/** Faces of the floating shells, grouped by shell: faces of floatingShells[i] are floatingFaces[floatingStart[i] .. floatingStart[i + 1]). */
 	floatingFaces: Uint32Array;

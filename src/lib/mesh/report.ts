@@ -152,10 +152,10 @@ export interface Tolerances {
 	planeRel: number;
 	/** Faces with quality below this count as slivers for hints. */
 	sliverQuality: number;
-	/** Shells below this share of total area (and not the largest) count as tiny floating shells. */
-	tinyShellAreaShare: number;
-	/** …and below this share of the faces; removal is advised only while together they stay below tinyShellAreaShare. */
-	tinyShellFaceShare: number;
+	/** Shells below this share of total area (and not the largest) count as small floating shells. */
+	smallShellAreaShare: number;
+	/** …and below this share of the faces; removal is advised only while together they stay below smallShellAreaShare. */
+	smallShellFaceShare: number;
 	/** Minimum number of slivers connected through edges that makes a "cluster". */
 	sliverClusterMin: number;
 	/** Threshold for `shortEdges`; 0 when no minEdgeLength option was given. */

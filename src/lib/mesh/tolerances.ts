@@ -12,8 +12,8 @@ export const DEFAULT_TOLERANCES: Tolerances = {
 	sliverQuality: 0.05,
 	// A piece below 1 % of the area and 1 % of the faces, with all such pieces together below 1 % of
 	// the area, is a speck; anything larger is a body of its own. Common practice.
-	tinyShellAreaShare: 0.01,
-	tinyShellFaceShare: 0.01,
+	smallShellAreaShare: 0.01,
+	smallShellFaceShare: 0.01,
 	sliverClusterMin: 8,
 	minEdgeLength: 0,
 	rasterCells: 512,

@@ -2,7 +2,7 @@
 import { and, eq } from 'drizzle-orm';
 import { config } from './config';
 import type { Db } from './db';
-import { user, userRole } from './db/schema';
+import { revision, user, userRole } from './db/schema';
 import { queueMail, simpleMail } from './mail';
 
 type Tx = Db;
@@ -54,16 +54,51 @@ export async function notifyRepairAwaits(tx: Tx, r: RevisionRef, teamId: number,
 	}
 }
 
+/**
+ * The revision a repair (or a repair of a repair) started from: the designer's own upload, whose
+ * uploader has not been told anything by a sign-off on the repair otherwise.
+ */
+async function originalOf(tx: Tx, revisionId: number): Promise<{ id: number; number: number; uploaderId: string } | null> {
+	let id: number | null = revisionId;
+	let row: { id: number; number: number; uploaderId: string; source: string; parentRevisionId: number | null } | undefined;
+	for (let depth = 0; id !== null && depth < 50; depth++) {
+		[row] = await tx
+			.select({ id: revision.id, number: revision.number, uploaderId: revision.uploaderId, source: revision.source, parentRevisionId: revision.parentRevisionId })
+			.from(revision)
+			.where(eq(revision.id, id))
+			.limit(1);
+		if (!row) return null;
+		if (row.source !== 'repair' || row.parentRevisionId === null) return row;
+		id = row.parentRevisionId;
+	}
+	return null;
+}
+
 export async function notifySignedOff(tx: Tx, r: RevisionRef, by: string): Promise<void> {
 	const u = await person(tx, r.uploaderId);
-	if (!u) return;
+	const caution = 'A clearance says the surface is fit for meshing and solving; it is not a structural or safety approval.';
+	if (u) {
+		await queueMail(
+			tx,
+			simpleMail(u.email, `Signed off: ${title(r)}`, [
+				`Hello ${u.name},`,
+				`${by} signed off ${title(r)} for the CFD solver. The clearance record holds the file's and the report's hashes.`,
+				caution
+			], link(r.id))
+		);
+	}
+	// A repaired revision: the designer who uploaded the original hears that the repair went through.
+	const orig = await originalOf(tx, r.id);
+	if (!orig || orig.id === r.id || orig.uploaderId === r.uploaderId) return;
+	const d = await person(tx, orig.uploaderId);
+	if (!d) return;
 	await queueMail(
 		tx,
-		simpleMail(u.email, `Signed off: ${title(r)}`, [
-			`Hello ${u.name},`,
-			`${by} signed off ${title(r)} for the CFD solver. The clearance record holds the file's and the report's hashes.`,
-			'A clearance says the surface is fit for meshing and solving; it is not a structural or safety approval.'
+		simpleMail(d.email, `Repair of your upload signed off: ${title(r)}`, [
+			`Hello ${d.name},`,
+			`${by} signed off ${title(r)} for the CFD solver. It is a repair of your rev ${orig.number}, made in Shellgate; the repaired file is what goes to the solver.`,
+			'The revision page shows what the repair changed. If the same defects come out of your generator again, the notes on rev ' + orig.number + ' say what to change upstream.',
+			caution
 		], link(r.id))
 	);
 }
-

@@ -3,6 +3,7 @@ import { repairJudgement } from './repair-limits';
 import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm';
 import { gateRulesSchema, repairLimitsOf } from '../gate/profile';
 import { scaleFix } from '../gate/rules';
+import { fmtPercent } from '../format';
 import type { InspectionReport } from '../mesh/report';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
@@ -190,7 +191,7 @@ export async function partHistory(db: Db, partId: number) {
 			if (run.genus !== prev.genus) changes.push(`genus ${prev.genus ?? 'undefined'} → ${run.genus ?? 'undefined'}`);
 			if (run.shells !== prev.shells) changes.push(`shells ${prev.shells} → ${run.shells}`);
 			const dv = prev.volume !== 0 ? (run.volume - prev.volume) / Math.abs(prev.volume) : 0;
-			if (Math.abs(dv) > 0.01) changes.push(`volume ${dv > 0 ? '+' : ''}${(dv * 100).toFixed(1)} %`);
+			if (Math.abs(dv) > 0.01) changes.push(`volume ${fmtPercent(dv, { signed: true })}`);
 		}
 		if (run) prev = run;
 		return { ...r, genus: run?.genus ?? null, shells: run?.shells ?? null, volume: run?.volume ?? null, faces: run?.faces ?? null, changes };

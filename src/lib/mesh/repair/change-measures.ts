@@ -2,6 +2,7 @@
  * How much a repair changed a mesh, and whether each change is within the project's repair limits.
  * Pure functions (no database): the engine thread measures, the check job and sign-off judge.
  */
+import { displayUnit, fmtCount, fmtLength, fmtNumber } from '../../format';
 import { faceCross, faceVolume6 } from './common';
 import { buildEdges } from '../edges';
 import type { MeshBuffers } from '../types';
@@ -74,7 +75,7 @@ export interface LimitJudgement {
 }
 
 const pct = (after: number, before: number) => (before === 0 ? (after === 0 ? 0 : Infinity) : (100 * (after - before)) / Math.abs(before));
-const fmt = (x: number) => (Math.abs(x) >= 1000 || (Math.abs(x) < 0.01 && x !== 0) ? String(Number(x.toPrecision(3))) : String(Math.round(x * 100) / 100));
+const fmt = (x: number) => fmtNumber(x);
 const sgn = (x: number) => (x > 0 ? '+' : '') + fmt(x);
 
 /**
@@ -85,7 +86,6 @@ const sgn = (x: number) => (x > 0 ? '+' : '') + fmt(x);
  */
 export function judgeRepair(m: ChangeMeasures, limits: RepairLimits, targetCellSize: number, units = ''): LimitJudgement {
 	const f = m.scaleFactor && m.scaleFactor > 0 ? m.scaleFactor : 1;
-	const u = units ? ` ${units}` : '';
 	const lines: LimitLine[] = [];
 	if (m.volumeBefore === null || m.volumeAfter === null || m.volumeBefore === 0) {
 		lines.push({ measure: 'volume', measured: null, limit: limits.maxVolumeChangePercent, within: null, text: `volume not comparable (${m.volumeBefore === null ? 'the original' : 'the result'} is not a closed, consistently oriented surface)` });
@@ -102,16 +102,19 @@ export function judgeRepair(m: ChangeMeasures, limits: RepairLimits, targetCellS
 		measured: fc,
 		limit: limits.maxFaceChangePercent,
 		within: Math.abs(fc) <= limits.maxFaceChangePercent,
-		text: `faces ${m.facesBefore.toLocaleString('en')} → ${m.facesAfter.toLocaleString('en')} (${sgn(fc)} %) against a limit of ±${fmt(limits.maxFaceChangePercent)} %`
+		text: `faces ${fmtCount(m.facesBefore)} → ${fmtCount(m.facesAfter)} (${sgn(fc)} %) against a limit of ±${fmt(limits.maxFaceChangePercent)} %`
 	});
 	const devLimit = limits.maxDeviation.mode === 'absolute' ? limits.maxDeviation.value : limits.maxDeviation.value * targetCellSize;
 	const dev = m.deviation;
+	// The move and its limit in one unit (the limit's), as the rule texts do.
+	const du = displayUnit([devLimit, dev], units || 'units', 1);
+	const lenText = (x: number) => (units ? fmtLength(x, units, { unit: du }) : fmt(x));
 	lines.push({
 		measure: 'deviation',
 		measured: dev,
 		limit: devLimit,
 		within: dev <= devLimit,
-		text: `surface moved up to ${fmt(dev)}${u}${f !== 1 ? ` (after undoing the ×${fmt(f)} rescale)` : ''} against a limit of ${fmt(devLimit)}${u}`
+		text: `surface moved up to ${lenText(dev)}${f !== 1 ? ` (after undoing the ×${fmt(f)} rescale)` : ''} against a limit of ${lenText(devLimit)}`
 	});
 	const out = lines.filter((l) => l.within === false);
 	return { within: out.length === 0, lines, reason: out.length ? `Repair outside its limits: ${out.map((l) => l.text).join('; ')}.` : '' };

@@ -2,12 +2,13 @@
  * What the steps of a recipe left alone, each with why, in plain words (never a bare "nothing to
  * do"), and the scale factor of a recipe's rescale steps.
  */
+import { fmtNumber } from '../../format';
 import type { RepairLogEntry, RepairStep } from './recipe';
 import type { FillHoleCounts, HoleLeftReason } from './fill-holes';
 import type { OrientCounts } from './orient';
 import type { CollapseCounts } from './collapse-short-edges';
 
-const fmt = (x: number) => (Math.abs(x) >= 1000 || (Math.abs(x) < 0.01 && x !== 0) ? String(Number(x.toPrecision(3))) : String(Math.round(x * 100) / 100));
+const fmt = (x: number) => fmtNumber(x);
 
 const HOLE_WHY: Record<HoleLeftReason, (p: Record<string, number | string>) => string> = {
 	'perimeter-too-long': (p) => `above the ${fmt(Number(p.maxPerimeter))} limit`,

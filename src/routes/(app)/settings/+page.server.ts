@@ -1,5 +1,5 @@
 import { fail } from '@sveltejs/kit';
-import { and, desc, eq } from 'drizzle-orm';
+import { and, desc, eq, isNull } from 'drizzle-orm';
 import { z } from 'zod';
 import { hashToken, randomToken, requireRole } from '$lib/server/auth';
 import { audit } from '$lib/server/audit';
@@ -35,9 +35,16 @@ export const actions: Actions = {
 	},
 	revoke: async ({ request, locals }) => {
 		const me = requireRole(locals);
-		const id = Number((await request.formData()).get('id'));
+		const fd = await request.formData();
+		const id = Number(fd.get('id'));
 		if (!Number.isInteger(id)) return fail(400, { tokenError: 'Unknown token.' });
 		const db = getDb();
+		// Revoking stops every pipeline that uses the token, so the first post only asks.
+		if (fd.get('confirm') !== 'yes') {
+			const [t] = await db.select({ name: apiToken.name }).from(apiToken).where(and(eq(apiToken.id, id), eq(apiToken.userId, me.id), isNull(apiToken.revokedAt))).limit(1);
+			if (!t) return fail(404, { tokenError: 'No such token of yours.' });
+			return { confirmRevoke: { id, name: t.name } };
+		}
 		const [res] = await db.update(apiToken).set({ revokedAt: new Date() }).where(and(eq(apiToken.id, id), eq(apiToken.userId, me.id)));
 		if (res.affectedRows === 0) return fail(404, { tokenError: 'No such token of yours.' });
 		await audit(db, me.id, 'api_token', id, 'revoked');

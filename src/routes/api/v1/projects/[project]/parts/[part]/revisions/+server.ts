@@ -24,7 +24,7 @@ function created(res: IngestResult): Response {
 }
 
 /**
- * Multipart (field `file`; from browsers and forms, which SvelteKit's origin check covers) or a raw
+ * Multipart (field `file`; from browsers, which the origin check in hooks covers, or from pipelines with a bearer token) or a raw
  * application/octet-stream body with ?fileName= (for pipelines).
  */
 export const POST: RequestHandler = ({ locals, params, request, url }) =>

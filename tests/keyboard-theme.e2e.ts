@@ -67,7 +67,10 @@ test('the theme follows the system and the toggle overrides it; revision pages w
 		await expect(page.getByTestId('quality-classes')).toContainText('sliver');
 		await page.screenshot({ path: shot(`revision-${name}-light`), fullPage: true });
 	}
-	await expect(page.getByTestId('shells').locator('th').filter({ hasText: 'Volume' })).toContainText('(mm³)');
+	// The unit keeps its case under the upper-case table heads (innerText applies the CSS).
+	const volumeHead = page.getByTestId('shells').locator('th').filter({ hasText: /volume/i });
+	expect(await volumeHead.evaluate((el) => (el as HTMLElement).innerText.trim())).toMatch(/^VOLUME \((mm|m)³\)$/);
+	expect(await page.getByTestId('shells').locator('th').filter({ hasText: /euler/i }).evaluate((el) => (el as HTMLElement).innerText.trim())).toBe('Euler χ');
 
 	await page.getByTestId('theme-toggle').selectOption('dark');
 	await expect(page.locator('html')).toHaveAttribute('data-theme', 'dark');

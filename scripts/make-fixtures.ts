@@ -190,11 +190,11 @@ console.log('fixtures written to', dir);
 	put('sphere-vertex-pushed-through.stl', writeBinaryStl({ positions, indices: new Uint32Array(faces.flat()) }));
 }
 
-// A ring housing (torus R = 40, r = 12, 48 × 16 quads) written as OBJ in four quarter patches that
+// A ring housing (torus R = 40, r = 12, 32 × 12 quads) written as OBJ in four quarter patches that
 // each keep their own vertices: the seams between the patches are not welded. Welded it is one
 // closed shell of genus 1; as written it reads as four open shells.
 {
-	const ring = torus(48, 16, 40, 12);
+	const ring = torus(32, 12, 40, 12);
 	const pos = Array.from(ring.positions);
 	const idx = Array.from(ring.indices);
 	const faces = idx.length / 3;

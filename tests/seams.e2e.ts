@@ -13,9 +13,9 @@ test('an OBJ with unwelded seams is held, says so before the rules with what a w
 	await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
 	await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
 	const seams = page.getByTestId('unwelded-seams');
-	// 624 coincident vertices; welded: 0 boundary edges (now 128), 1 shell (now 4), genus 1 (fixture: scripts/make-fixtures.ts).
-	await expect(seams).toContainText('The seams are not welded: 624 vertices');
-	await expect(seams).toContainText('0 boundary edges (now 128) and 1 shell (now 4)');
+	// 324 coincident vertices; welded: 0 boundary edges (now 96), 1 shell (now 4), genus 1 (fixture: scripts/make-fixtures.ts).
+	await expect(seams).toContainText('The seams are not welded: 324 vertices');
+	await expect(seams).toContainText('0 boundary edges (now 96) and 1 shell (now 4)');
 	await expect(seams).toContainText('closed with genus 1');
 	await expect(page.locator('[data-rule="closed"] [data-testid="explanation"]')).toContainText('unwelded seams');
 	// The designer is told, but repairs are the engineer's.

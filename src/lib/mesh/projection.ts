@@ -266,7 +266,7 @@ export function silhouetteArea(
 }
 
 /** Sub-cells per side in a refined cell, and the cap on refined samples (bytes, twice over). */
-export const REFINE = 16;
+export const REFINE = 32;
 const REFINE_SAMPLE_CAP = 32 * 1024 * 1024;
 
 function countMarkedCovered(grid: Uint8Array, mark: Uint8Array, need: number): number {

@@ -16,7 +16,7 @@ export const DEFAULT_TOLERANCES: Tolerances = {
 	smallShellFaceShare: 0.01,
 	sliverClusterMin: 8,
 	minEdgeLength: 0,
-	rasterCells: 512,
+	rasterCells: 128,
 	maxHolesListed: 200
 };
 

@@ -2,7 +2,7 @@
 // large upload is never held in memory. Refuses as soon as a limit is passed.
 import Busboy from 'busboy';
 import { Readable } from 'node:stream';
-import { HttpError } from './revisions';
+import { DomainError } from '../domain-error';
 import { discard, spool, UploadTooLargeError, type Spooled } from './storage';
 
 export interface ReceivedFile {
@@ -62,11 +62,11 @@ export function refusableBody(body: ReadableStream<Uint8Array>): ReadableStream<
 
 export async function receiveMultipart(request: Request, limitBytes: number): Promise<Received> {
 	const type = request.headers.get('content-type') ?? '';
-	if (!type.toLowerCase().startsWith('multipart/form-data')) throw new HttpError(415, 'Send the file as multipart/form-data in a field named "file".');
+	if (!type.toLowerCase().startsWith('multipart/form-data')) throw new DomainError('invalid', 'Send the file as multipart/form-data in a field named "file".', 'unsupported-type');
 	const declared = Number(request.headers.get('content-length') ?? NaN);
 	// A declared length far over the limit is refused before a byte is read.
-	if (Number.isFinite(declared) && declared > limitBytes + 1024 * 1024) throw new HttpError(413, new UploadTooLargeError(limitBytes).message);
-	if (!request.body) throw new HttpError(400, 'The request has no body.');
+	if (Number.isFinite(declared) && declared > limitBytes + 1024 * 1024) throw new DomainError('invalid', new UploadTooLargeError(limitBytes).message, 'too-large');
+	if (!request.body) throw new DomainError('invalid', 'The request has no body.');
 
 	const files: ReceivedFile[] = [];
 	const fields: Record<string, string> = {};
@@ -76,7 +76,7 @@ export async function receiveMultipart(request: Request, limitBytes: number): Pr
 	try {
 		bb = Busboy({ headers: { 'content-type': type }, limits: { files: MAX_FILES_PER_REQUEST, fields: 20, fieldSize: 8 * 1024, parts: MAX_FILES_PER_REQUEST + 20 } });
 	} catch {
-		throw new HttpError(400, 'The multipart body is malformed (no boundary).');
+		throw new DomainError('invalid', 'The multipart body is malformed (no boundary).');
 	}
 	const source = Readable.fromWeb(refusableBody(request.body) as import('node:stream/web').ReadableStream);
 	await new Promise<void>((resolve) => {
@@ -91,7 +91,7 @@ export async function receiveMultipart(request: Request, limitBytes: number): Pr
 			resolve();
 		};
 		bb.on('field', (name, value, info) => {
-			if (info.valueTruncated) return fail(new HttpError(400, `The field "${name.slice(0, 40)}" is too long.`));
+			if (info.valueTruncated) return fail(new DomainError('invalid', `The field "${name.slice(0, 40)}" is too long.`));
 			fields[name] = value;
 		});
 		bb.on('file', (field, stream, info) => {
@@ -106,15 +106,15 @@ export async function receiveMultipart(request: Request, limitBytes: number): Pr
 					},
 					(e: Error) => {
 						stream.resume();
-						fail(e instanceof UploadTooLargeError ? new HttpError(413, e.message) : new HttpError(400, `The upload was interrupted: ${e.message}`));
+						fail(e instanceof UploadTooLargeError ? new DomainError('invalid', e.message, 'too-large') : new DomainError('invalid', `The upload was interrupted: ${e.message}`));
 					}
 				)
 			);
 		});
-		bb.on('filesLimit', () => fail(new HttpError(413, `At most ${MAX_FILES_PER_REQUEST} files per request.`)));
-		bb.on('error', (e: Error) => fail(new HttpError(400, `The multipart body is malformed: ${e.message}`)));
+		bb.on('filesLimit', () => fail(new DomainError('invalid', `At most ${MAX_FILES_PER_REQUEST} files per request.`, 'too-large')));
+		bb.on('error', (e: Error) => fail(new DomainError('invalid', `The multipart body is malformed: ${e.message}`)));
 		bb.on('close', () => resolve());
-		source.on('error', (e) => fail(new HttpError(400, `The upload was interrupted: ${e.message}`)));
+		source.on('error', (e) => fail(new DomainError('invalid', `The upload was interrupted: ${e.message}`)));
 		source.pipe(bb);
 	});
 	await Promise.allSettled(pending);

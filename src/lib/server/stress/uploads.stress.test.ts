@@ -12,7 +12,8 @@ import { checkConsistency } from '../consistency';
 import { getDb } from '../db';
 import { job, revision, storedFile } from '../db/schema';
 import { ingestRevision } from '../ingest';
-import { HttpError } from '../revisions';
+import { DomainError } from '../../domain-error';
+import { httpStatus } from '../errors';
 import { getStore, spool } from '../storage';
 import { useFreshDatabase } from '../testing/db';
 import { fixture, seededUsers, uploadBytes } from '../testing/fixtures';
@@ -66,9 +67,9 @@ async function expectRefusedCleanly(what: string, status: number, message: RegEx
 		() => null,
 		(e: unknown) => e
 	);
-	expect(err, what).toBeInstanceOf(HttpError);
-	expect((err as HttpError).status, what).toBe(status);
-	expect((err as HttpError).message, what).toMatch(message);
+	expect(err, what).toBeInstanceOf(DomainError);
+	expect(httpStatus(err as DomainError), what).toBe(status);
+	expect((err as DomainError).message, what).toMatch(message);
 	expect(await rowCounts(), what).toEqual(before);
 	expect((await storedShas()).sort(), what).toEqual(filesBefore.sort());
 	expect(tmpFiles(), what).toEqual([]);
@@ -200,10 +201,10 @@ describe('hostile uploads', () => {
 		});
 		const res = await receiveMultipart(multipartRequest(garbage), 1024 * 1024).then(
 			(r) => r,
-			(e: HttpError) => e
+			(e: DomainError) => e
 		);
 		// Busboy ends without a file part here; the route then answers 400 "No file".
-		if (res instanceof HttpError) expect(res.status).toBeLessThan(500);
+		if (res instanceof DomainError) expect(httpStatus(res)).toBeLessThan(500);
 		else expect(res.files).toEqual([]);
 		const wrongType = new Request('http://127.0.0.1/x', { method: 'POST', body: 'x', headers: { 'content-type': 'text/plain' } });
 		await expectRefusedCleanly('text/plain body', 415, /multipart/, () => receiveMultipart(wrongType, 1024));

@@ -5,7 +5,7 @@ import { config } from '$lib/server/config';
 import { getDb } from '$lib/server/db';
 import { ingestRevision, type IngestResult } from '$lib/server/ingest';
 import { DomainError } from '$lib/domain-error';
-import { receiveMultipart, refusableBody } from '$lib/server/upload';
+import { bodyRefusal, receiveMultipart, refusableBody } from '$lib/server/upload';
 import { discard, spool, UploadTooLargeError } from '$lib/server/storage';
 import type { RequestHandler } from './$types';
 
@@ -43,8 +43,7 @@ export const POST: RequestHandler = ({ locals, params, request, url }) =>
 			try {
 				spooled = await spool(refusableBody(request.body), config.uploadLimitBytes);
 			} catch (e) {
-				if (e instanceof UploadTooLargeError) throw new DomainError('invalid', e.message, 'too-large');
-				throw new DomainError('invalid', `The upload was interrupted: ${(e as Error).message}`);
+				throw bodyRefusal(e);
 			}
 			return created(
 				await ingestRevision(getDb(), { user: u, projectSlug: params.project, partSlug: params.part, partName: url.searchParams.get('partName') ?? undefined, fileName, spooled, source: viaApi ? 'api' : 'upload', note: url.searchParams.get('note') })

@@ -7,6 +7,7 @@ import { apiToken } from '$lib/server/db/schema';
 import { startBackground } from '$lib/server/background';
 import { loggable } from '$lib/server/api/respond';
 import { crossSiteRefusal } from '$lib/server/csrf';
+import { DATABASE_DOWN_MESSAGE, isDatabaseDown } from '$lib/server/errors';
 
 startBackground();
 
@@ -15,15 +16,6 @@ function json(status: number, message: string): Response {
 		status,
 		headers: { 'content-type': 'application/json; charset=utf-8' }
 	});
-}
-
-/** Drizzle wraps the driver's error ("Failed query: …"), so the connection code sits in a cause. */
-function isDbDown(e: unknown): boolean {
-	for (let x = e, depth = 0; x && depth < 5; x = (x as { cause?: unknown }).cause, depth++) {
-		const code = (x as { code?: string }).code ?? '';
-		if (['ECONNREFUSED', 'PROTOCOL_CONNECTION_LOST', 'ETIMEDOUT', 'ER_CON_COUNT_ERROR', 'ECONNRESET'].includes(code)) return true;
-	}
-	return false;
 }
 
 async function authenticate(event: Parameters<Handle>[0]['event']) {
@@ -87,9 +79,8 @@ export const handle: Handle = async ({ event, resolve }) => {
 	try {
 		await authenticate(event);
 	} catch (e) {
-		if (isDbDown(e)) {
-			const msg = 'The database is not reachable right now. Nothing was changed; try again in a moment.';
-			return isApi ? json(503, msg) : new Response(msg, { status: 503, headers: { 'content-type': 'text/plain; charset=utf-8' } });
+		if (isDatabaseDown(e)) {
+			return isApi ? json(503, DATABASE_DOWN_MESSAGE) : new Response(DATABASE_DOWN_MESSAGE, { status: 503, headers: { 'content-type': 'text/plain; charset=utf-8' } });
 		}
 		throw e;
 	}
@@ -114,8 +105,8 @@ export const handle: Handle = async ({ event, resolve }) => {
 };
 
 export const handleError: HandleServerError = ({ error: err, status, message }) => {
-	if (isDbDown(err)) {
-		return { message: 'The database is not reachable right now. Nothing was changed; try again in a moment.' };
+	if (isDatabaseDown(err)) {
+		return { message: DATABASE_DOWN_MESSAGE };
 	}
 	if (status >= 500) console.error('[shellgate] unexpected error:', loggable(err));
 	return { message: status >= 500 ? 'Something went wrong on the server. It has been logged.' : message };

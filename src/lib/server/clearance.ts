@@ -4,7 +4,8 @@ import type { SessionUser } from './auth';
 import type { Db } from './db';
 import { decision, gateProfile, revision, user } from './db/schema';
 import { repairJudgement } from './repair-limits';
-import { HttpError, loadRevisionForUser } from './revisions';
+import { loadRevisionForUser } from './revisions';
+import { DomainError } from '../domain-error';
 
 export const CLEARANCE_CAUTION =
 	'This clearance says that the surface mesh met the project gate for CFD meshing and solving. It is not a structural, hydrostatic or safety approval: follow your team’s own procedures before using the shape or any result for such decisions.';
@@ -17,7 +18,7 @@ export async function clearanceRecord(db: Db, u: SessionUser, revisionId: number
 		.innerJoin(user, eq(user.id, decision.byId))
 		.where(and(eq(decision.revisionId, revisionId), eq(decision.kind, 'sign-off')))
 		.limit(1);
-	if (!row) throw new HttpError(404, 'This revision has not been signed off, so it has no clearance record.');
+	if (!row) throw new DomainError('not-found', 'This revision has not been signed off, so it has no clearance record.');
 	const [uploader] = await db.select({ name: user.name }).from(user).where(eq(user.id, ctx.rev.uploaderId)).limit(1);
 	const [checkedProfile] = row.d.gateProfileId ? await db.select().from(gateProfile).where(eq(gateProfile.id, row.d.gateProfileId)).limit(1) : [];
 	const [newest] = await db.select({ version: gateProfile.version }).from(gateProfile).where(eq(gateProfile.projectId, ctx.project.id)).orderBy(desc(gateProfile.version)).limit(1);

@@ -8,7 +8,8 @@ import type { Db } from './db';
 import * as schema from './db/schema';
 import { part, revision, storedFile, type RevisionState } from './db/schema';
 import { enqueueCheck } from './jobs/queue';
-import { assertCan, findProjectForUser, HttpError } from './revisions';
+import { assertCan, findProjectForUser } from './revisions';
+import { DomainError } from '../domain-error';
 import type { SessionUser } from './auth';
 import { discard, getStore, type Spooled } from './storage';
 
@@ -28,13 +29,13 @@ export function cleanFileName(raw: string): string {
 /** Checks the name and the first bytes look like a mesh file before anything is stored. */
 export function checkUploadKind(fileName: string, head: Uint8Array): string {
 	const m = EXT.exec(fileName);
-	if (!m) throw new HttpError(400, `"${fileName}" is not a mesh file: Shellgate accepts .stl, .ply and .obj.`);
+	if (!m) throw new DomainError('invalid', `"${fileName}" is not a mesh file: Shellgate accepts .stl, .ply and .obj.`);
 	const ext = m[1].toLowerCase();
 	const text = new TextDecoder('latin1').decode(head.subarray(0, 256)).trimStart().toLowerCase();
-	if (/^(<!doctype|<html|<script|<\?xml|<svg)/.test(text)) throw new HttpError(400, `"${fileName}" holds HTML or XML, not a mesh.`);
-	if (head[0] === 0x50 && head[1] === 0x4b && head[2] === 0x03 && head[3] === 0x04) throw new HttpError(400, `"${fileName}" is a zip archive; upload the mesh file itself.`);
-	if (head[0] === 0x1f && head[1] === 0x8b) throw new HttpError(400, `"${fileName}" is gzip-compressed; upload the uncompressed mesh file.`);
-	if (ext === 'ply' && !text.startsWith('ply')) throw new HttpError(400, `"${fileName}" does not start with the PLY header line "ply".`);
+	if (/^(<!doctype|<html|<script|<\?xml|<svg)/.test(text)) throw new DomainError('invalid', `"${fileName}" holds HTML or XML, not a mesh.`);
+	if (head[0] === 0x50 && head[1] === 0x4b && head[2] === 0x03 && head[3] === 0x04) throw new DomainError('invalid', `"${fileName}" is a zip archive; upload the mesh file itself.`);
+	if (head[0] === 0x1f && head[1] === 0x8b) throw new DomainError('invalid', `"${fileName}" is gzip-compressed; upload the uncompressed mesh file.`);
+	if (ext === 'ply' && !text.startsWith('ply')) throw new DomainError('invalid', `"${fileName}" does not start with the PLY header line "ply".`);
 	return ext;
 }
 
@@ -107,17 +108,17 @@ export async function ingestRevision(db: Db, input: IngestInput): Promise<Ingest
 		assertCan(u, input.source === 'repair' ? 'repair' : 'upload');
 		const fileName = cleanFileName(input.fileName);
 		const ext = checkUploadKind(fileName, spooled.head);
-		if (spooled.size === 0) throw new HttpError(400, `"${fileName}" is empty.`);
+		if (spooled.size === 0) throw new DomainError('invalid', `"${fileName}" is empty.`);
 		const sniffed = sniffFormat(spooled.head);
 		if (sniffed && sniffed !== ext && !(ext === 'stl' && sniffed === null)) {
-			throw new HttpError(400, `"${fileName}" is named .${ext} but its content looks like ${sniffed.toUpperCase()}.`);
+			throw new DomainError('invalid', `"${fileName}" is named .${ext} but its content looks like ${sniffed.toUpperCase()}.`);
 		}
-		if (!SLUG.test(input.partSlug)) throw new HttpError(400, 'A part name in the address may use lower-case letters, digits and dashes (at most 64).');
+		if (!SLUG.test(input.partSlug)) throw new DomainError('invalid', 'A part name in the address may use lower-case letters, digits and dashes (at most 64).');
 		const proj = await findProjectForUser(db, u, input.projectSlug);
 		return await withConnection(db, async (conn, cdb) => {
 			const lockName = `sg-file-${spooled.sha256}`;
 			const [rows] = (await conn.query('SELECT GET_LOCK(?, 60) AS got', [lockName])) as [Array<{ got: number | null }>, unknown];
-			if (rows[0]?.got !== 1) throw new HttpError(503, 'The server is busy with this same file right now. Nothing was saved; try the upload again in a moment.');
+			if (rows[0]?.got !== 1) throw new DomainError('unavailable', 'The server is busy with this same file right now. Nothing was saved; try the upload again in a moment.');
 			try {
 				return await ingestLocked(cdb, input, proj, fileName, ext);
 			} finally {
@@ -138,7 +139,7 @@ async function ingestLocked(db: Db, input: IngestInput, proj: { id: number; slug
 		// Under the file lock: only bytes no committed row refers to are removed.
 		await removeIfUnreferenced(db, spooled.sha256);
 		console.error('[shellgate] file store write failed:', (e as Error)?.message ?? e);
-		throw new HttpError(503, 'The file store did not accept the file right now. Nothing was saved; try the upload again in a moment.');
+		throw new DomainError('unavailable', 'The file store did not accept the file right now. Nothing was saved; try the upload again in a moment.');
 	}
 	try {
 		// The part on first use: its own short statement, harmless when another request got there first.

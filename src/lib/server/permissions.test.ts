@@ -9,7 +9,10 @@ import { getDb } from './db';
 import { revision, type RevisionState } from './db/schema';
 import { processCheckJob } from './jobs/check';
 import { claimJob } from './jobs/queue';
-import { assignRevision, HttpError, loadRevisionForUser, recheck, returnRevision, signOff } from './revisions';
+import { assignRevision } from './assignment';
+import { recheck, returnRevision, signOff } from './decisions';
+import { loadRevisionForUser } from './revisions';
+import { DomainError } from '../domain-error';
 import { useFreshDatabase } from './testing/db';
 import { fixture, seededUsers, uploadBytes } from './testing/fixtures';
 
@@ -55,7 +58,7 @@ describe('every role × action pair is allowed or refused as the permission tabl
 				await getDb().update(revision).set({ status: c.from }).where(eq(revision.id, revId));
 				const attempt = c.run(role);
 				if (allowed) await expect(attempt).resolves.not.toThrow();
-				else await expect(attempt).rejects.toSatisfy((e) => e instanceof HttpError && e.status === 403);
+				else await expect(attempt).rejects.toSatisfy((e) => e instanceof DomainError && e.kind === 'forbidden');
 			});
 		}
 	}

@@ -10,7 +10,8 @@ import { claimJob } from './jobs/queue';
 import { processRepairJob } from './jobs/repair';
 import { parseQueueFilter, queryQueue } from './queue-view';
 import { proposeRepair, standardRecipe } from './repairs';
-import { loadRevisionForUser, recheck } from './revisions';
+import { recheck } from './decisions';
+import { loadRevisionForUser } from './revisions';
 import { useFreshDatabase } from './testing/db';
 import { fixture, seededUsers, uploadBytes } from './testing/fixtures';
 

@@ -5,7 +5,9 @@ import { and, eq, inArray, lt, sql } from 'drizzle-orm';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
 import { checkRun, gateProfile, part, revision } from './db/schema';
-import { assertCan, findProjectForUser, HttpError, loadRevisionForUser, recheck } from './revisions';
+import { recheck } from './decisions';
+import { assertCan, findProjectForUser, loadRevisionForUser } from './revisions';
+import { DomainError } from '../domain-error';
 
 /** Undecided: a verdict exists and nobody has signed it off or returned it yet. */
 export const UNDECIDED = ['held', 'clear', 'repair-proposed'] as const;
@@ -34,7 +36,7 @@ export async function recheckStale(db: Db, u: SessionUser, projectSlug: string):
 			queued++;
 		} catch (e) {
 			// Decided or already re-checking since the list was read: leave it as it is.
-			if (e instanceof HttpError && e.status === 409) skipped++;
+			if (e instanceof DomainError && e.kind === 'conflict') skipped++;
 			else throw e;
 		}
 	}

@@ -15,7 +15,9 @@ import { processCheckJob } from './jobs/check';
 import { claimJob } from './jobs/queue';
 import { processRepairJob } from './jobs/repair';
 import { proposeRepair } from './repairs';
-import { HttpError, loadRevisionForUser, signOff } from './revisions';
+import { signOff } from './decisions';
+import { loadRevisionForUser } from './revisions';
+import { DomainError } from '../domain-error';
 import { useFreshDatabase } from './testing/db';
 import { fixture, seededUsers, uploadBytes } from './testing/fixtures';
 
@@ -56,7 +58,7 @@ async function signOffError(revId: number, override: { reason: string } | null) 
 		await signOff(db, users.reviewer, await loadRevisionForUser(db, users.reviewer, revId), null, override);
 		return null;
 	} catch (e) {
-		if (e instanceof HttpError) return e;
+		if (e instanceof DomainError) return e;
 		throw e;
 	}
 }
@@ -76,7 +78,7 @@ describe('repair limits', () => {
 		expect(rep.statusReason).toMatch(/faces 36 → 12 \(-66\.67 %\) against a limit of ±50 %/);
 
 		const refused = await signOffError(rep.id, null);
-		expect(refused?.status).toBe(409);
+		expect(refused?.kind).toBe('conflict');
 		expect(refused?.message).toMatch(/needs an explicit override with a reason/);
 		expect((await db.select().from(decision).where(eq(decision.revisionId, rep.id))).length).toBe(0);
 

@@ -2,7 +2,7 @@
 // (the check job holds it when outside), and the sign-off guard that asks for an explicit override.
 import { judgeRepair, type ChangeMeasures, type LimitJudgement } from '../mesh/repair';
 import { repairLimitsOf } from '../gate/profile';
-import { HttpError } from './revisions';
+import { DomainError } from '../domain-error';
 
 interface RevLike {
 	source: string;
@@ -53,7 +53,7 @@ export function repairSignOffGuard(
 	if (!j || j.within) return { allowHeld: false, overrideReason: null };
 	if (failedRules) return { allowHeld: false, overrideReason: null }; // held by gate rules too: no override helps
 	if (!override) {
-		throw new HttpError(409, `${j.reason} Signing it off needs an explicit override with a reason.`);
+		throw new DomainError('conflict', `${j.reason} Signing it off needs an explicit override with a reason.`);
 	}
 	return { allowHeld: true, overrideReason: override.reason };
 }

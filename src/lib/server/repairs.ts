@@ -9,7 +9,8 @@ import type { Db } from './db';
 import { job, part, recipe, revision } from './db/schema';
 import { enqueueRepair } from './jobs/queue';
 import type { RepairPayload } from './jobs/repair';
-import { assertCan, findProjectForUser, HttpError, loadRevisionForUser } from './revisions';
+import { assertCan, findProjectForUser, loadRevisionForUser } from './revisions';
+import { DomainError } from '../domain-error';
 
 export const REPAIRABLE = ['held', 'clear', 'returned'] as const;
 
@@ -17,7 +18,7 @@ export function checkRecipe(raw: unknown): RepairStep[] {
 	try {
 		return parseRecipe(raw);
 	} catch (e) {
-		throw new HttpError(400, `The recipe is not valid: ${(e as Error).message}`);
+		throw new DomainError('invalid', `The recipe is not valid: ${(e as Error).message}`);
 	}
 }
 
@@ -29,7 +30,7 @@ export async function proposeRepair(db: Db, u: SessionUser, revisionId: number, 
 	assertCan(u, 'repair');
 	const ctx = await loadRevisionForUser(db, u, revisionId);
 	if (!(REPAIRABLE as readonly string[]).includes(ctx.rev.status)) {
-		throw new HttpError(409, `A repair starts from a held, clear or returned revision; this one is "${ctx.rev.status.replace(/-/g, ' ')}".`);
+		throw new DomainError('conflict', `A repair starts from a held, clear or returned revision; this one is "${ctx.rev.status.replace(/-/g, ' ')}".`);
 	}
 	await db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;
@@ -38,7 +39,7 @@ export async function proposeRepair(db: Db, u: SessionUser, revisionId: number, 
 			.from(job)
 			.where(and(eq(job.revisionId, ctx.rev.id), eq(job.kind, 'repair'), inArray(job.status, ['queued', 'running'])))
 			.limit(1);
-		if (pending) throw new HttpError(409, 'A repair of this revision is already running.');
+		if (pending) throw new DomainError('conflict', 'A repair of this revision is already running.');
 		const payload: RepairPayload = { steps, requestedBy: u.id, recipeName: recipeName.slice(0, 120) };
 		await enqueueRepair(tx, ctx.rev.id, payload, config.checkAttempts);
 		await audit(tx, u.id, 'revision', ctx.rev.id, 'repair-requested', null, null, { recipe: recipeName, steps: steps.length });
@@ -48,7 +49,7 @@ export async function proposeRepair(db: Db, u: SessionUser, revisionId: number, 
 export async function saveRecipe(db: Db, u: SessionUser, projectSlug: string, name: string, steps: RepairStep[]): Promise<number> {
 	assertCan(u, 'repair');
 	const p = await findProjectForUser(db, u, projectSlug);
-	if (!name.trim()) throw new HttpError(400, 'Give the recipe a name.');
+	if (!name.trim()) throw new DomainError('invalid', 'Give the recipe a name.');
 	return db.transaction(async (tx) => {
 		const [r] = await tx.insert(recipe).values({ projectId: p.id, name: name.trim().slice(0, 120), steps, createdBy: u.id }).$returningId();
 		await audit(tx, u.id, 'recipe', r.id, 'saved', null, null, { project: p.slug });
@@ -69,7 +70,7 @@ export async function repairBatch(db: Db, u: SessionUser, projectSlug: string, r
 	let name = 'standard';
 	if (recipeId) {
 		const [r] = await db.select().from(recipe).where(and(eq(recipe.id, recipeId), eq(recipe.projectId, p.id))).limit(1);
-		if (!r) throw new HttpError(404, 'No such recipe in this project.');
+		if (!r) throw new DomainError('not-found', 'No such recipe in this project.');
 		steps = checkRecipe(r.steps);
 		name = r.name;
 	} else steps = standardRecipe(p.targetCellSize);
@@ -85,7 +86,7 @@ export async function repairBatch(db: Db, u: SessionUser, projectSlug: string, r
 			await proposeRepair(db, u, h.id, steps, name);
 			queued++;
 		} catch (e) {
-			if (e instanceof HttpError && e.status === 409) skipped++;
+			if (e instanceof DomainError && e.kind === 'conflict') skipped++;
 			else throw e;
 		}
 	}

@@ -5,12 +5,11 @@ import { desc, eq } from 'drizzle-orm';
 import type { InspectionReport } from '../../mesh/report';
 import { gateRulesSchema } from '../../gate/profile';
 import { blockingFailures, evaluateGate, gatePasses, minEdgeThreshold, RULE_TITLES, severityScore } from '../../gate/rules';
-import { audit } from '../audit';
 import { config } from '../config';
 import type { Db } from '../db';
-import { checkRun, gateProfile, revision, ruleResult } from '../db/schema';
+import { checkRun, gateProfile, ruleResult } from '../db/schema';
 import { loadRevisionContext } from '../revisions';
-import { notifyHeld, notifyRepairAwaits } from '../notify';
+import { applyEvent } from '../revision-events';
 import { getStore } from '../storage';
 import type { EngineTask } from './engine-thread';
 import { EnginePool, EngineRefused as CheckRefused, type EngineLimits as CheckLimits } from './engine-pool';
@@ -167,30 +166,16 @@ export async function writeCheckResult(db: Db, j: ClaimedJob, workerId: string, 
 				location: o.location
 			}))
 		);
-		await tx.update(revision).set({ status: next, statusReason: passes ? (next === 'held' ? limitsOut!.reason.slice(0, 1000) : null) : failed.map((o) => RULE_TITLES[o.rule]).join('; ').slice(0, 1000), latestCheckId: run.id, updatedAt: new Date() }).where(eq(revision.id, ctx.rev.id));
-		await audit(tx, null, 'revision', ctx.rev.id, 'checked', 'checking', next, { checkRun: run.id, failed: failed.map((o) => o.rule), profileVersion: profile.version });
-		const ref = { id: ctx.rev.id, number: ctx.rev.number, partName: ctx.part.name, projectName: ctx.project.name, uploaderId: ctx.rev.uploaderId };
-		if (next === 'held') {
-			// For a repair that still fails, the designer of the original upload is the one to tell.
-			const designerRev = ctx.rev.parentRevisionId ? await originalUpload(tx, ctx.rev.parentRevisionId) : null;
-			const reasons = passes ? [limitsOut!.reason] : failed.map((o) => `${RULE_TITLES[o.rule]}: ${o.measured}. ${o.explanation}`);
-			await notifyHeld(tx, { ...ref, uploaderId: designerRev?.uploaderId ?? ref.uploaderId }, reasons);
-		} else if (next === 'repair-proposed') {
-			await notifyRepairAwaits(tx, ref, ctx.project.teamId, ctx.rev.uploaderId);
-		}
+		const event = next === 'held' ? 'check-held' : next === 'repair-proposed' ? 'repair-proposed' : 'check-passed';
+		await applyEvent(tx, ctx.rev.id, event, {
+			actor: null,
+			reason: passes ? (next === 'held' ? limitsOut!.reason : null) : failed.map((o) => RULE_TITLES[o.rule]).join('; '),
+			latestCheckId: run.id,
+			detail: { checkRun: run.id, failed: failed.map((o) => o.rule), profileVersion: profile.version },
+			heldReasons: passes ? [limitsOut?.reason ?? ''] : failed.map((o) => `${RULE_TITLES[o.rule]}: ${o.measured}. ${o.explanation}`)
+		});
 		await finishJob(tx, j.id);
 		return true;
 	});
 	return written;
-}
-
-async function originalUpload(tx: Db, revisionId: number) {
-	let id: number | null = revisionId;
-	for (let i = 0; i < 50 && id; i++) {
-		const [r] = await tx.select({ id: revision.id, parent: revision.parentRevisionId, uploaderId: revision.uploaderId, source: revision.source }).from(revision).where(eq(revision.id, id)).limit(1);
-		if (!r) return null;
-		if (r.source !== 'repair' || !r.parent) return r;
-		id = r.parent;
-	}
-	return null;
 }

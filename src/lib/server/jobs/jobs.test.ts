@@ -10,7 +10,8 @@ import { useFreshDatabase } from '../testing/db';
 import { fixture, seededUsers, uploadBytes } from '../testing/fixtures';
 import { processCheckJob } from './check';
 import { claimJob } from './queue';
-import { loadRevisionForUser, recheck } from '../revisions';
+import { recheck } from '../decisions';
+import { loadRevisionForUser } from '../revisions';
 
 let drop: () => Promise<void>;
 let users: Awaited<ReturnType<typeof seededUsers>>;

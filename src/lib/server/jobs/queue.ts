@@ -7,6 +7,8 @@ import type { Db } from '../db';
 import { job, revision } from '../db/schema';
 import { audit } from '../audit';
 import { withoutPaths } from '../reasons';
+import { applyEvent } from '../revision-events';
+import { DomainError } from '../../domain-error';
 
 export const LEASE_MS = 30_000;
 
@@ -45,9 +47,17 @@ export async function claimJob(db: Db, workerId: string, leaseMs = LEASE_MS): Pr
 				.set({ status: 'running', attempts: row.attempts + 1, workerId, leaseUntil, heartbeatAt: now, stage: 'queued for engine', percent: 0 })
 				.where(eq(job.id, row.id));
 			const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, row.revisionId)).limit(1);
+			// A retry finds the revision checking already: one check-started per check, not per attempt.
 			if (row.kind === 'check' && rev && rev.status !== 'checking') {
-				await tx.update(revision).set({ status: 'checking', updatedAt: now }).where(eq(revision.id, row.revisionId));
-				await audit(tx, null, 'revision', row.revisionId, 'check-started', rev.status, 'checking', { job: row.id, attempt: row.attempts + 1, workerId });
+				try {
+					await applyEvent(tx as unknown as Db, row.revisionId, 'check-started', { actor: null, detail: { job: row.id, attempt: row.attempts + 1, workerId } });
+				} catch (e) {
+					if (!(e instanceof DomainError && (e.kind === 'conflict' || e.kind === 'not-found'))) throw e;
+					// The revision moved on (or is gone) since the job was queued: the check no longer applies.
+					// Closing the job keeps it from blocking the queue; the revision stays as it is.
+					await tx.update(job).set({ status: 'failed', finishedAt: now, lastError: withoutPaths(e.message).slice(0, 1000) }).where(eq(job.id, row.id));
+					return { kind: 'closed' as const };
+				}
 			}
 			return { kind: 'claimed' as const, job: { ...row, status: 'running' as const, attempts: row.attempts + 1, workerId, leaseUntil } };
 		});
@@ -108,25 +118,31 @@ export async function failAttempt(db: Db, jobId: number, workerId: string, messa
  */
 async function closeFailed(tx: Db, row: ClaimedJob, reason: string, why: 'unreadable' | 'incomplete'): Promise<void> {
 	if (row.kind === 'check') {
-		if (why === 'unreadable') await markUnreadable(tx, row.revisionId, reason, null);
+		if (why === 'unreadable') await markUnreadable(tx, row.revisionId, reason, row.id);
 		else await markCheckIncomplete(tx, row.revisionId, reason, row.id);
 	} else await audit(tx, null, 'revision', row.revisionId, 'repair-failed', null, null, { job: row.id, reason: withoutPaths(reason) });
 }
 
-export async function markUnreadable(tx: Db, revisionId: number, rawReason: string, actorId: string | null): Promise<void> {
-	const reason = withoutPaths(rawReason);
-	const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, revisionId)).limit(1);
-	await tx.update(revision).set({ status: 'unreadable', statusReason: reason.slice(0, 1000), updatedAt: new Date() }).where(eq(revision.id, revisionId));
-	await audit(tx, actorId, 'revision', revisionId, 'unreadable', rev?.status ?? null, 'unreadable', { reason });
+export async function markUnreadable(tx: Db, revisionId: number, rawReason: string, jobId: number | null): Promise<void> {
+	await systemEvent(tx, revisionId, 'file-unreadable', rawReason, jobId);
 }
 
 /** The check could not finish (time limit, worker crash, stored file missing): retryable by a re-check. */
 export async function markCheckIncomplete(tx: Db, revisionId: number, rawReason: string, jobId: number): Promise<void> {
+	await systemEvent(tx, revisionId, 'check-incomplete', rawReason, jobId);
+}
+
+/**
+ * A failure event from the worker. The job is closed whatever happens here, so a revision that is
+ * gone, or was moved on meanwhile, is left as it is rather than failing the job's transaction.
+ */
+async function systemEvent(tx: Db, revisionId: number, event: 'file-unreadable' | 'check-incomplete', rawReason: string, jobId: number | null): Promise<void> {
 	const reason = withoutPaths(rawReason);
-	const [rev] = await tx.select({ status: revision.status }).from(revision).where(eq(revision.id, revisionId)).limit(1);
-	if (!rev) return;
-	await tx.update(revision).set({ status: 'check-incomplete', statusReason: reason.slice(0, 1000), updatedAt: new Date() }).where(eq(revision.id, revisionId));
-	await audit(tx, null, 'revision', revisionId, 'check-incomplete', rev.status, 'check-incomplete', { job: jobId, reason });
+	try {
+		await applyEvent(tx, revisionId, event, { actor: null, reason, detail: { ...(jobId !== null ? { job: jobId } : {}), reason } });
+	} catch (e) {
+		if (!(e instanceof DomainError && (e.kind === 'not-found' || e.kind === 'conflict'))) throw e;
+	}
 }
 
 export async function queueCounts(db: Db): Promise<Record<string, number>> {

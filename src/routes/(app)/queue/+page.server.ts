@@ -6,7 +6,8 @@ import { requireRole } from '$lib/server/auth';
 import { getDb } from '$lib/server/db';
 import { project, user, userRole } from '$lib/server/db/schema';
 import { parseQueueFilter, queryQueue } from '$lib/server/queue-view';
-import { assignRevision, HttpError } from '$lib/server/revisions';
+import { assignRevision } from '$lib/server/assignment';
+import { failFor } from '$lib/server/errors';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, url }) => {
@@ -45,8 +46,7 @@ export const actions: Actions = {
 			const n = await assignRevision(getDb(), me, parsed.data.ids, parsed.data.assignee || null);
 			return { assigned: n };
 		} catch (e) {
-			if (e instanceof HttpError) return fail(e.status, { assignError: e.message });
-			throw e;
+			return failFor(e, 'assignError');
 		}
 	}
 };

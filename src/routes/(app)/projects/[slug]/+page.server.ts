@@ -7,7 +7,7 @@ import { audit } from '$lib/server/audit';
 import { getDb } from '$lib/server/db';
 import { gateProfile, part, project, revision, user } from '$lib/server/db/schema';
 import { projectRecipes, repairBatch } from '$lib/server/repairs';
-import { HttpError } from '$lib/server/revisions';
+import { failFor } from '$lib/server/errors';
 import { recheckStale, staleRevisionIds } from '$lib/server/recheck-stale';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -60,8 +60,7 @@ export const actions: Actions = {
 			const res = await recheckStale(getDb(), me, params.slug);
 			return { staleQueued: res.queued, staleSkipped: res.skipped };
 		} catch (e) {
-			if (e instanceof HttpError) return fail(e.status, { staleError: e.message });
-			throw e;
+			return failFor(e, 'staleError');
 		}
 	},
 	batchRepair: async ({ locals, params, request }) => {
@@ -71,8 +70,7 @@ export const actions: Actions = {
 			const res = await repairBatch(getDb(), me, params.slug, raw && raw !== 'standard' ? Number(raw) : null);
 			return { batchQueued: res.queued, batchSkipped: res.skipped };
 		} catch (e) {
-			if (e instanceof HttpError) return fail(e.status, { batchError: e.message });
-			throw e;
+			return failFor(e, 'batchError');
 		}
 	},
 	profile: async ({ locals, params, request }) => {

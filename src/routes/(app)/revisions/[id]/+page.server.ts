@@ -1,12 +1,15 @@
 import { parseOverride } from '$lib/server/repair-limits';
-import { error, fail, redirect } from '@sveltejs/kit';
+import { error, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { requireRole } from '$lib/server/auth';
 import { addComment, commentSchema } from '$lib/server/comments';
 import { getDb } from '$lib/server/db';
 import { partHistory, revisionDetail } from '$lib/server/revision-detail';
 import { checkRecipe, projectRecipes, proposeRepair, saveRecipe, standardRecipe } from '$lib/server/repairs';
-import { fourEyesConflict, HttpError, loadRevisionForUser, recheck, returnRevision, signOff } from '$lib/server/revisions';
+import { DomainError } from '$lib/domain-error';
+import { fourEyesConflict, recheck, returnRevision, signOff } from '$lib/server/decisions';
+import { actionResult, raiseForPage } from '$lib/server/errors';
+import { loadRevisionForUser } from '$lib/server/revisions';
 import type { Actions, PageServerLoad } from './$types';
 
 function revId(raw: string): number {
@@ -14,15 +17,7 @@ function revId(raw: string): number {
 	return Number(raw);
 }
 
-async function guarded<T>(fn: () => Promise<T>) {
-	try {
-		return await fn();
-	} catch (e) {
-		if (e instanceof HttpError) return fail(e.status, { actionError: e.message });
-		if (e instanceof z.ZodError) return fail(400, { actionError: e.issues[0].message });
-		throw e;
-	}
-}
+const guarded = <T>(fn: () => Promise<T>) => actionResult(fn);
 
 export const load: PageServerLoad = async ({ locals, params }) => {
 	const me = requireRole(locals);
@@ -38,8 +33,7 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 			standardRecipe: standardRecipe(detail.project.targetCellSize)
 		};
 	} catch (e) {
-		if (e instanceof HttpError) error(e.status, e.message);
-		throw e;
+		raiseForPage(e);
 	}
 };
 
@@ -52,7 +46,7 @@ export const actions: Actions = {
 			try {
 				point = fd.get('point') ? JSON.parse(String(fd.get('point'))) : null;
 			} catch {
-				throw new HttpError(400, 'The comment point must be JSON like [x, y, z].');
+				throw new DomainError('invalid', 'The comment point must be JSON like [x, y, z].');
 			}
 			const face = fd.get('face') ? Number(fd.get('face')) : null;
 			await addComment(getDb(), me, revId(params.id), commentSchema.parse({ body: fd.get('body') ?? '', point, face }));

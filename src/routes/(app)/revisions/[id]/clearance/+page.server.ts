@@ -1,8 +1,8 @@
 import { error } from '@sveltejs/kit';
+import { raiseForPage } from '$lib/server/errors';
 import { requireRole } from '$lib/server/auth';
 import { clearanceRecord } from '$lib/server/clearance';
 import { getDb } from '$lib/server/db';
-import { HttpError } from '$lib/server/revisions';
 import type { PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, params }) => {
@@ -11,7 +11,6 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 	try {
 		return { record: await clearanceRecord(getDb(), me, Number(params.id)) };
 	} catch (e) {
-		if (e instanceof HttpError) error(e.status, e.message);
-		throw e;
+		raiseForPage(e);
 	}
 };

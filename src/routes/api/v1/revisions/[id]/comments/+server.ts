@@ -3,7 +3,7 @@ import { handleApi, parseId } from '$lib/server/api/respond';
 import { requireRole } from '$lib/server/auth';
 import { addComment, commentSchema } from '$lib/server/comments';
 import { getDb } from '$lib/server/db';
-import { HttpError } from '$lib/server/revisions';
+import { DomainError } from '$lib/domain-error';
 import type { RequestHandler } from './$types';
 
 /** Adds a comment, optionally pinned to a point (and face) on the surface. */
@@ -14,7 +14,7 @@ export const POST: RequestHandler = ({ locals, params, request }) =>
 		try {
 			body = await request.json();
 		} catch {
-			throw new HttpError(400, 'Send the comment as JSON: {"body": "...", "point": [x, y, z], "face": 12}.');
+			throw new DomainError('invalid', 'Send the comment as JSON: {"body": "...", "point": [x, y, z], "face": 12}.');
 		}
 		const c = await addComment(getDb(), u, parseId(params.id), commentSchema.parse(body));
 		return json(c, { status: 201 });

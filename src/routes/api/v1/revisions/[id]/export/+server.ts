@@ -3,7 +3,8 @@ import { requireRole } from '$lib/server/auth';
 import { config } from '$lib/server/config';
 import { getDb } from '$lib/server/db';
 import { CheckRefused, runEngine } from '$lib/server/jobs/check';
-import { HttpError, loadRevisionForUser } from '$lib/server/revisions';
+import { DomainError } from '$lib/domain-error';
+import { loadRevisionForUser } from '$lib/server/revisions';
 import { getStore } from '$lib/server/storage';
 import type { RequestHandler } from './$types';
 
@@ -14,14 +15,14 @@ export const GET: RequestHandler = ({ locals, params, url }) =>
 	handleApi(async () => {
 		const u = requireRole(locals);
 		const format = url.searchParams.get('format') ?? 'stl';
-		if (!Object.hasOwn(FORMATS, format)) throw new HttpError(400, `Unknown format "${format.slice(0, 20)}": use stl, ply or obj.`);
+		if (!Object.hasOwn(FORMATS, format)) throw new DomainError('invalid', `Unknown format "${format.slice(0, 20)}": use stl, ply or obj.`);
 		const { rev, part } = await loadRevisionForUser(getDb(), u, parseId(params.id));
 		const bytes = await getStore().read(rev.sha256);
 		let out: Uint8Array;
 		try {
 			out = await runEngine<Uint8Array>({ task: 'export', bytes, fileName: rev.fileName, format: format as 'stl', maxFaces: config.maxFaces }, { timeLimitMs: config.checkTimeLimitMs, memoryLimitMb: config.checkMemoryLimitMb }, () => {});
 		} catch (e) {
-			if (e instanceof CheckRefused) throw new HttpError(422, `This revision's file cannot be read: ${e.message}`);
+			if (e instanceof CheckRefused) throw new DomainError('invalid', `This revision's file cannot be read: ${e.message}`, 'unreadable-file');
 			throw e;
 		}
 		const name = `${part.slug}-rev${rev.number}.${format}`;

@@ -3,7 +3,9 @@ import { handleApi, parseId } from '$lib/server/api/respond';
 import { requireRole } from '$lib/server/auth';
 import { getDb } from '$lib/server/db';
 import { parseOverride } from '$lib/server/repair-limits';
-import { HttpError, loadRevisionForUser, signOff } from '$lib/server/revisions';
+import { DomainError } from '$lib/domain-error';
+import { signOff } from '$lib/server/decisions';
+import { loadRevisionForUser } from '$lib/server/revisions';
 import type { RequestHandler } from './$types';
 
 /**
@@ -19,10 +21,10 @@ export const POST: RequestHandler = ({ locals, params, request }) =>
 			try {
 				body = JSON.parse(text);
 			} catch {
-				throw new HttpError(400, 'Send the sign-off as JSON: {"note": "...", "override": {"reason": "..."}}.');
+				throw new DomainError('invalid', 'Send the sign-off as JSON: {"note": "...", "override": {"reason": "..."}}.');
 			}
 		}
-		if (body.override !== undefined && !parseOverride(body.override)) throw new HttpError(400, 'An override needs a reason: {"override": {"reason": "..."}}.');
+		if (body.override !== undefined && !parseOverride(body.override)) throw new DomainError('invalid', 'An override needs a reason: {"override": {"reason": "..."}}.');
 		const db = getDb();
 		const note = typeof body.note === 'string' ? body.note.slice(0, 1000) : null;
 		const id = await signOff(db, u, await loadRevisionForUser(db, u, parseId(params.id)), note || null, parseOverride(body.override));

@@ -4,8 +4,8 @@ import { requireRole } from '$lib/server/auth';
 import { config } from '$lib/server/config';
 import { getDb } from '$lib/server/db';
 import { ingestRevision, type IngestResult } from '$lib/server/ingest';
-import { HttpError } from '$lib/server/revisions';
-import { receiveMultipart, refusableBody } from '$lib/server/upload';
+import { DomainError } from '$lib/domain-error';
+import { bodyRefusal, receiveMultipart, refusableBody } from '$lib/server/upload';
 import { discard, spool, UploadTooLargeError } from '$lib/server/storage';
 import type { RequestHandler } from './$types';
 
@@ -35,16 +35,15 @@ export const POST: RequestHandler = ({ locals, params, request, url }) =>
 		if (type.startsWith('application/octet-stream')) {
 			// Raw body: the simplest form for pipelines (no multipart, no Origin header needed).
 			const fileName = url.searchParams.get('fileName') ?? request.headers.get('x-file-name') ?? '';
-			if (!fileName) throw new HttpError(400, 'Name the file: add ?fileName=pod.stl to the address (or an X-File-Name header).');
-			if (!request.body) throw new HttpError(400, 'The request has no body.');
+			if (!fileName) throw new DomainError('invalid', 'Name the file: add ?fileName=pod.stl to the address (or an X-File-Name header).');
+			if (!request.body) throw new DomainError('invalid', 'The request has no body.');
 			const declared = Number(request.headers.get('content-length') ?? NaN);
-			if (Number.isFinite(declared) && declared > config.uploadLimitBytes) throw new HttpError(413, new UploadTooLargeError(config.uploadLimitBytes).message);
+			if (Number.isFinite(declared) && declared > config.uploadLimitBytes) throw new DomainError('invalid', new UploadTooLargeError(config.uploadLimitBytes).message, 'too-large');
 			let spooled;
 			try {
 				spooled = await spool(refusableBody(request.body), config.uploadLimitBytes);
 			} catch (e) {
-				if (e instanceof UploadTooLargeError) throw new HttpError(413, e.message);
-				throw new HttpError(400, `The upload was interrupted: ${(e as Error).message}`);
+				throw bodyRefusal(e);
 			}
 			return created(
 				await ingestRevision(getDb(), { user: u, projectSlug: params.project, partSlug: params.part, partName: url.searchParams.get('partName') ?? undefined, fileName, spooled, source: viaApi ? 'api' : 'upload', note: url.searchParams.get('note') })
@@ -54,7 +53,7 @@ export const POST: RequestHandler = ({ locals, params, request, url }) =>
 		const file = body.files.find((f) => f.field === 'file');
 		const extra = body.files.filter((f) => f !== file);
 		await Promise.all(extra.map((f) => discard(f.spooled)));
-		if (!file) throw new HttpError(400, 'No file: send the mesh in a multipart field named "file".');
+		if (!file) throw new DomainError('invalid', 'No file: send the mesh in a multipart field named "file".');
 		const res = await ingestRevision(getDb(), {
 			user: u,
 			projectSlug: params.project,

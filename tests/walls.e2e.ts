@@ -32,6 +32,11 @@ test('two blocks 0.01 mm apart in the 2 mm-cell project are held by the walls-an
 		// The separate-bodies hint counts the blocks; it does not advise removing either.
 		await expect(page.getByText('The mesh is made of 2 separate bodies')).toBeVisible();
 		await page.screenshot({ path: shot('revision-walls-gaps-held'), fullPage: true });
+		// Sharp edges as OBJ lines: each block has its 12 edges at 90°, the face diagonals are flat (0°).
+		const href = await page.getByTestId('feature-edges-download').getAttribute('href');
+		const obj = await (await page.request.get(href!)).text();
+		expect(obj.split('\n').filter((l) => l.startsWith('l ')).length).toBe(24);
+		expect(obj.split('\n').filter((l) => l.startsWith('v ')).length).toBe(16);
 		await signOut(page);
 	} finally {
 		await setWallGap(page, '');

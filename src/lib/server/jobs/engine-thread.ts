@@ -11,6 +11,7 @@ import { applyRecipe, areaAndVolume, meshDeviation, recipeScaleFactor, RepairErr
 import type { InspectOptions } from '../../mesh/report';
 import { MeshReadError } from '../../mesh/types';
 import { writeBinaryStl, writeObj, writePly } from '../../mesh/write';
+import { edgesToObj, sharpEdges } from '../../mesh/thickness';
 
 /** This module's own URL: the TypeScript source under tsx/vitest, its bundled chunk after `vite build`. */
 export const ENGINE_THREAD_URL = import.meta.url;
@@ -21,7 +22,8 @@ export type EngineTask =
 	| { task: 'repair'; bytes: Uint8Array; fileName: string; steps: RepairStep[]; maxFaces: number }
 	| { task: 'export'; bytes: Uint8Array; fileName: string; format: ExportFormat; maxFaces: number };
 
-export type ExportFormat = 'stl' | 'ply' | 'obj';
+/** Mesh formats, plus the sharp feature edges as OBJ line elements (`l`) for a mesher to snap to. */
+export type ExportFormat = 'stl' | 'ply' | 'obj' | 'feature-edges';
 
 export interface RepairOutput {
 	bytes: Uint8Array;
@@ -45,6 +47,10 @@ export type EngineMessage =
 	| { type: 'error'; message: string };
 
 function write(mesh: Parameters<typeof writeBinaryStl>[0], format: ExportFormat): Uint8Array {
+	if (format === 'feature-edges') {
+		const sharp = sharpEdges(mesh);
+		return new TextEncoder().encode(edgesToObj(mesh.positions, sharp.verts, `sharp feature edges, faces meeting at more than ${sharp.angleDeg} degrees`));
+	}
 	return format === 'stl' ? writeBinaryStl(mesh) : format === 'ply' ? writePly(mesh, 'binary-le') : writeObj(mesh);
 }
 

@@ -8,14 +8,14 @@ import { loadRevisionForUser } from '$lib/server/revisions';
 import { getStore } from '$lib/server/storage';
 import type { RequestHandler } from './$types';
 
-const FORMATS = { stl: 'binary STL', ply: 'binary PLY', obj: 'OBJ' } as const;
+const FORMATS = { stl: 'binary STL', ply: 'binary PLY', obj: 'OBJ', 'feature-edges': 'OBJ line elements of the sharp feature edges' } as const;
 
-/** The revision's surface converted to binary STL, binary PLY or OBJ (in a worker thread). */
+/** The revision's surface converted to binary STL, binary PLY or OBJ, or its sharp feature edges as OBJ lines (in a worker thread). */
 export const GET: RequestHandler = ({ locals, params, url }) =>
 	handleApi(async () => {
 		const u = requireRole(locals);
 		const format = url.searchParams.get('format') ?? 'stl';
-		if (!Object.hasOwn(FORMATS, format)) throw new DomainError('invalid', `Unknown format "${format.slice(0, 20)}": use stl, ply or obj.`);
+		if (!Object.hasOwn(FORMATS, format)) throw new DomainError('invalid', `Unknown format "${format.slice(0, 20)}": use stl, ply, obj or feature-edges.`);
 		const { rev, part } = await loadRevisionForUser(getDb(), u, parseId(params.id));
 		const bytes = await getStore().read(rev.sha256);
 		let out: Uint8Array;
@@ -25,7 +25,7 @@ export const GET: RequestHandler = ({ locals, params, url }) =>
 			if (e instanceof CheckRefused) throw new DomainError('invalid', `This revision's file cannot be read: ${e.message}`, 'unreadable-file');
 			throw e;
 		}
-		const name = `${part.slug}-rev${rev.number}.${format}`;
+		const name = format === 'feature-edges' ? `${part.slug}-rev${rev.number}-feature-edges.obj` : `${part.slug}-rev${rev.number}.${format}`;
 		return new Response(out as BodyInit, {
 			headers: { 'content-type': 'application/octet-stream', 'content-disposition': `attachment; filename="${name}"`, 'x-content-type-options': 'nosniff' }
 		});

@@ -42,7 +42,7 @@ import { LineMaterial } from 'three/examples/jsm/lines/LineMaterial.js';
 import { acceleratedRaycast, computeBoundsTree, disposeBoundsTree, MeshBVH } from 'three-mesh-bvh';
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import type { BvhData } from './protocol';
-import { drawMarker, hexRgb, KIND_ORDER, KIND_STYLE, rampColour, SHELL_COLOURS, type MarkerShape, type OverlayKind } from './palette';
+import { BACKGROUND_COLOUR, drawMarker, hexRgb, KIND_ORDER, KIND_STYLE, MESH_COLOUR, rampColour, SHELL_COLOURS, type MarkerShape, type OverlayKind } from './palette';
 
 export type ViewName = '+x' | '-x' | '+y' | '-y' | '+z' | '-z';
 export type SectionAxis = 'x' | 'y' | 'z';
@@ -74,7 +74,6 @@ export interface Focus {
 BufferGeometry.prototype.computeBoundsTree = computeBoundsTree;
 BufferGeometry.prototype.disposeBoundsTree = disposeBoundsTree;
 
-const MESH_COLOUR = '#8e9cab';
 const BACK_COLOUR_SCALE = 'vec3(0.62, 0.5, 0.42)';
 const FLY_MS = 400;
 const INSET_PX = 132;
@@ -316,7 +315,7 @@ export class ViewerScene {
 		this.container = container;
 		this.renderer = new WebGLRenderer({ antialias: false, preserveDrawingBuffer: true, powerPreference: 'high-performance' });
 		this.renderer.setPixelRatio(Math.min(window.devicePixelRatio, 2));
-		this.renderer.setClearColor(new Color('#0c1117'));
+		this.renderer.setClearColor(new Color(BACKGROUND_COLOUR));
 		this.renderer.localClippingEnabled = false;
 		this.renderer.autoClear = false;
 		container.appendChild(this.renderer.domElement);
@@ -492,29 +491,29 @@ export class ViewerScene {
 		if (o.holeSegments.length) {
 			const centres = new Float32Array(3 * o.holes.length);
 			o.holes.forEach((h, i) => centres.set(h.centroid, 3 * i));
-			add('holes', lineObject(o.holeSegments, st.holes.colour, 4.5, true, dash), markerPoints(this.markerTextures, centres, 'ring', st.holes.colour, 26));
+			add('holes', lineObject(o.holeSegments, st.holes.colour, 4.5, true, dash), markerPoints(this.markerTextures, centres, st.holes.marker, st.holes.colour, 26));
 		}
 		if (o.nonManifoldEdgeSegments.length) {
 			const outer = lineObject(o.nonManifoldEdgeSegments, st.nonManifoldEdges.colour, 7, false);
 			const inner = lineObject(o.nonManifoldEdgeSegments, '#0c1117', 2.2, false);
 			inner.renderOrder = 1;
-			add('nonManifoldEdges', outer, inner, markerPoints(this.markerTextures, midpoints(o.nonManifoldEdgeSegments, 5000), 'diamond', st.nonManifoldEdges.colour, 20));
+			add('nonManifoldEdges', outer, inner, markerPoints(this.markerTextures, midpoints(o.nonManifoldEdgeSegments, 5000), st.nonManifoldEdges.marker, st.nonManifoldEdges.colour, 20));
 		}
-		if (o.nonManifoldVertexPoints.length) add('nonManifoldVertices', markerPoints(this.markerTextures, o.nonManifoldVertexPoints, 'double-diamond', st.nonManifoldVertices.colour, 24));
+		if (o.nonManifoldVertexPoints.length) add('nonManifoldVertices', markerPoints(this.markerTextures, o.nonManifoldVertexPoints, st.nonManifoldVertices.marker, st.nonManifoldVertices.colour, 24));
 		if (o.selfIntersectionPoints.length) {
 			add(
 				'selfIntersections',
 				this.faceSubset(o.selfIntersectionFaces, patternMaterial(st.selfIntersections.colour, 1, 0.9, 7)),
-				markerPoints(this.markerTextures, o.selfIntersectionPoints, 'cross', st.selfIntersections.colour, 22)
+				markerPoints(this.markerTextures, o.selfIntersectionPoints, st.selfIntersections.marker, st.selfIntersections.colour, 22)
 			);
 		}
 		if (o.shortEdgeSegments.length) {
 			const drawn = sampleSegments(o.shortEdgeSegments, LINE_SEGMENT_CAP);
 			if (drawn !== o.shortEdgeSegments) this.sampled.shortEdges = { drawn: drawn.length / 6, total: o.shortEdgeSegments.length / 6 };
-			add('shortEdges', lineObject(drawn, st.shortEdges.colour, 5, false), markerPoints(this.markerTextures, midpoints(sampleSegments(o.shortEdgeSegments, 20000), 20000), 'tick', st.shortEdges.colour, 12));
+			add('shortEdges', lineObject(drawn, st.shortEdges.colour, 5, false), markerPoints(this.markerTextures, midpoints(sampleSegments(o.shortEdgeSegments, 20000), 20000), st.shortEdges.marker, st.shortEdges.colour, 12));
 		}
 		if (o.degenerateFaces.length) {
-			add('degenerateFaces', markerPoints(this.markerTextures, this.faceCentres(o.degenerateFaces, 20000), 'hatched-square', st.degenerateFaces.colour, 20));
+			add('degenerateFaces', markerPoints(this.markerTextures, this.faceCentres(o.degenerateFaces, 20000), st.degenerateFaces.marker, st.degenerateFaces.colour, 20));
 		}
 		if (o.flippedFaces.length) add('flippedFaces', this.faceSubset(o.flippedFaces, patternMaterial(st.flippedFaces.colour, 0, 0.85, 6)));
 		if (o.floatingShells.length) {
@@ -528,7 +527,7 @@ export class ViewerScene {
 				'floatingShells',
 				this.faceSubset(o.floatingFaces, patternMaterial(st.floatingShells.colour, 2, 0.35, 1)),
 				lineObject(Float32Array.from(box), st.floatingShells.colour, 2.5, true, dash * 0.25),
-				markerPoints(this.markerTextures, centres, 'dotted-circle', st.floatingShells.colour, 26)
+				markerPoints(this.markerTextures, centres, st.floatingShells.marker, st.floatingShells.colour, 26)
 			);
 		}
 		if (this.colourMode === 'shells') this.applyColours();

@@ -8,6 +8,7 @@ import { defectSampler } from '../src/lib/components/viewer/sample-defects';
 import { writeBinaryStl } from '../src/lib/mesh/write';
 import { inspectBytes } from '../src/lib/mesh/inspect';
 
+const KINDS = ['holes', 'nonManifoldEdges', 'nonManifoldVertices', 'selfIntersections', 'shortEdges', 'degenerateFaces', 'flippedFaces', 'floatingShells'];
 const CELL = Number(process.env.BENCH_CELL ?? 0.0062);
 const MIN_EDGE = 1e6;
 
@@ -51,6 +52,20 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 		return { triangles: h.triangles, html: nav.responseEnd, timings: h.timings, still, orbit };
 	});
 	const sampled = await page.locator('[data-testid^="legend-sampled-"]').allTextContents();
+	// The same orbit with every overlay switched off, to tell the overlays' share from the mesh's.
+	for (const k of KINDS) await page.getByTestId(`overlay-toggle-${k}`).uncheck();
+	const bare = await page.evaluate(() => {
+		const h = (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer;
+		return { still: h.benchmark(5, false), orbit: h.benchmark(60, true) };
+	});
+	// Each overlay alone: which one the moving frames pay for.
+	const alone: string[] = [];
+	for (const k of KINDS) {
+		await page.getByTestId(`overlay-toggle-${k}`).check();
+		const o = await page.evaluate(() => (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer.benchmark(20, true));
+		alone.push(`${k} ${o.meanMs.toFixed(0)} ms`);
+		await page.getByTestId(`overlay-toggle-${k}`).uncheck();
+	}
 	// Responsiveness while the overlays arrive: the longest main-thread task the page saw.
 	const longest = await page.evaluate(() => (window as unknown as { __benchLongestTask?: number }).__benchLongestTask ?? -1);
 	expect(r.triangles).toBe(report.faces);
@@ -64,7 +79,9 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 			`longest main-thread task until the overlays were ready: ${longest.toFixed(0)} ms`,
 			`page to overlays ready, wall clock: ${s(wall)}`,
 			`still frame: mean ${r.still.meanMs.toFixed(0)} ms`,
-			`orbit, 60 steps, every overlay on: mean ${r.orbit.meanMs.toFixed(0)} ms, p95 ${r.orbit.p95Ms.toFixed(0)} ms, max ${r.orbit.maxMs.toFixed(0)} ms, ${(1000 / r.orbit.meanMs).toFixed(1)} fps (goal 15)`
+			`orbit, 60 steps, every overlay on: mean ${r.orbit.meanMs.toFixed(0)} ms, p95 ${r.orbit.p95Ms.toFixed(0)} ms, max ${r.orbit.maxMs.toFixed(0)} ms, ${(1000 / r.orbit.meanMs).toFixed(1)} fps (goal 15)`,
+			`every overlay off: still frame ${bare.still.meanMs.toFixed(0)} ms; orbit mean ${bare.orbit.meanMs.toFixed(0)} ms, p95 ${bare.orbit.p95Ms.toFixed(0)} ms, ${(1000 / bare.orbit.meanMs).toFixed(1)} fps`,
+			`orbit (20 steps) with one overlay on: ${alone.join(', ')}`
 		].join('\n')
 	);
 });

@@ -1,7 +1,8 @@
 /**
- * The viewer's three.js scene: mesh, defect overlays, comment pins, section plane, axis inset with
- * the flow arrow, compare modes, BVH picking and animated camera moves. Renders on demand (camera
- * moves, toggles), never in an idle loop, so a large mesh costs nothing while nobody touches it.
+ * The viewer's three.js scene: mesh, defect overlays, section plane, compare modes, BVH picking and
+ * animated camera moves; the axis inset with the flow arrow and the comment pins are layers of
+ * their own (layers/). Renders on demand (camera moves, toggles), never in an idle loop, so a large
+ * mesh costs nothing while nobody touches it.
  */
 import {
 	AmbientLight,

@@ -7,7 +7,8 @@ test('a designer pins a comment to a spot on the shape and it is stored with its
 	// The demo data's CTD probe pod (held: clipped by the sampling box).
 	await page.goto('/queue?status=all&project=sensor-pods');
 	await page.getByRole('link', { name: /CTD probe pod/ }).first().click();
-	await page.waitForFunction(() => (window as unknown as { __shellgateViewer?: { status: string } }).__shellgateViewer?.status === 'ready', null, { timeout: 60_000 });
+	// The viewer's own readiness attribute: the revision page has no test hook.
+	await expect(page.getByTestId('mesh-viewer')).toHaveAttribute('data-status', 'ready', { timeout: 60_000 });
 	const box = (await page.getByTestId('viewer-canvas').boundingBox())!;
 	await page.mouse.click(box.x + box.width / 2, box.y + box.height / 2);
 	await expect(page.getByTestId('pin-pending')).toContainText(/Pinned to face \d+/);

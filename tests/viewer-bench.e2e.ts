@@ -8,6 +8,7 @@ import { defectSampler } from '../src/lib/components/viewer/sample-defects';
 import { writeBinaryStl } from '../src/lib/mesh/write';
 import { inspectBytes } from '../src/lib/mesh/inspect';
 
+const KINDS = ['holes', 'nonManifoldEdges', 'nonManifoldVertices', 'selfIntersections', 'shortEdges', 'degenerateFaces', 'flippedFaces', 'floatingShells'];
 const CELL = Number(process.env.BENCH_CELL ?? 0.0062);
 const MIN_EDGE = 1e6;
 
@@ -19,6 +20,8 @@ type Hook = {
 	timings: Record<string, number>;
 	benchmark: (frames: number, moving: boolean) => Stats;
 };
+// Goals from the viewer's issue, on this part in headless software WebGL: mesh < 2 s and overlays
+// < 3 s after the HTML, orbit ≥ 15 fps with every overlay on. Printed beside the figures, not asserted.
 
 test('viewer bench: a million-triangle part with every edge short', async ({ page }) => {
 	test.skip(!process.env.VIEWER_BENCH, 'bench: npm run bench:viewer');
@@ -29,6 +32,14 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 	console.log(`part: ${report.faces} triangles, ${report.shortEdges} short edges, generated and checked in ${((performance.now() - t) / 1000).toFixed(1)} s`);
 	await page.route('**/bench/part.stl', (r) => r.fulfill({ body: Buffer.from(bytes), contentType: 'application/octet-stream' }));
 	await page.route('**/bench/report.json', (r) => r.fulfill({ body: JSON.stringify(report), contentType: 'application/json' }));
+	// Long tasks (main thread busy over 50 ms) from the first script on, for the responsiveness figure.
+	await page.addInitScript(() => {
+		const w = window as unknown as { __benchLongestTask?: number };
+		w.__benchLongestTask = 0;
+		new PerformanceObserver((list) => {
+			for (const e of list.getEntries()) w.__benchLongestTask = Math.max(w.__benchLongestTask ?? 0, e.duration);
+		}).observe({ type: 'longtask', buffered: true });
+	});
 	t = performance.now();
 	await page.goto(`/dev/viewer?url=/bench/part.stl&name=bench-part.stl&reportUrl=/bench/report.json&minEdge=${MIN_EDGE}`);
 	await page.waitForFunction(() => (window as unknown as { __shellgateViewer?: Hook }).__shellgateViewer?.overlaysReady === true, null, { timeout: 600_000, polling: 500 });
@@ -40,16 +51,37 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 		const orbit = h.benchmark(60, true);
 		return { triangles: h.triangles, html: nav.responseEnd, timings: h.timings, still, orbit };
 	});
+	const sampled = await page.locator('[data-testid^="legend-sampled-"]').allTextContents();
+	// The same orbit with every overlay switched off, to tell the overlays' share from the mesh's.
+	for (const k of KINDS) await page.getByTestId(`overlay-toggle-${k}`).uncheck();
+	const bare = await page.evaluate(() => {
+		const h = (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer;
+		return { still: h.benchmark(5, false), orbit: h.benchmark(60, true) };
+	});
+	// Each overlay alone: which one the moving frames pay for.
+	const alone: string[] = [];
+	for (const k of KINDS) {
+		await page.getByTestId(`overlay-toggle-${k}`).check();
+		const o = await page.evaluate(() => (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer.benchmark(20, true));
+		alone.push(`${k} ${o.meanMs.toFixed(0)} ms`);
+		await page.getByTestId(`overlay-toggle-${k}`).uncheck();
+	}
+	// Responsiveness while the overlays arrive: the longest main-thread task the page saw.
+	const longest = await page.evaluate(() => (window as unknown as { __benchLongestTask?: number }).__benchLongestTask ?? -1);
 	expect(r.triangles).toBe(report.faces);
 	expect(r.orbit.frames).toBeGreaterThanOrEqual(60);
 	const s = (ms: number) => `${(ms / 1000).toFixed(2)} s`;
 	console.log(
 		[
-			`first mesh frame after the HTML: ${s(r.timings.meshAt + r.timings.setMeshMs - r.html)} (fetch ${r.timings.fetchMs?.toFixed(0)} ms, parse ${r.timings.parseMs?.toFixed(0)} ms, picking tree ${r.timings.bvhMs?.toFixed(0)} ms)`,
-			`overlays drawn after the HTML: ${s(r.timings.overlaysAt + r.timings.setOverlaysMs - r.html)} (worker ${r.timings.overlaysMs?.toFixed(0)} ms, upload ${r.timings.setOverlaysMs?.toFixed(0)} ms)`,
+			`first mesh frame after the HTML: ${s(r.timings.meshShownAt - r.html)} (mesh handed to the page at ${s(r.timings.meshAt - r.html)}; fetch ${r.timings.fetchMs?.toFixed(0)} ms, parse ${r.timings.parseMs?.toFixed(0)} ms, picking tree ${r.timings.bvhMs?.toFixed(0)} ms)`,
+			`overlays drawn after the HTML: ${s(r.timings.overlaysAt + r.timings.setOverlaysMs - r.html)} (worker: overlays ${r.timings.overlaysMs?.toFixed(0)} ms, draw buffers ${r.timings.overlayDrawMs?.toFixed(0)} ms; page: geometries ${r.timings.setOverlaysMs?.toFixed(0)} ms)`,
+			`drawn as samples: ${sampled.join('; ') || 'none'}`,
+			`longest main-thread task until the overlays were ready: ${longest.toFixed(0)} ms`,
 			`page to overlays ready, wall clock: ${s(wall)}`,
 			`still frame: mean ${r.still.meanMs.toFixed(0)} ms`,
-			`orbit, 60 steps, every overlay on: mean ${r.orbit.meanMs.toFixed(0)} ms, p95 ${r.orbit.p95Ms.toFixed(0)} ms, max ${r.orbit.maxMs.toFixed(0)} ms, ${(1000 / r.orbit.meanMs).toFixed(1)} fps`
+			`orbit, 60 steps, every overlay on: mean ${r.orbit.meanMs.toFixed(0)} ms, p95 ${r.orbit.p95Ms.toFixed(0)} ms, max ${r.orbit.maxMs.toFixed(0)} ms, ${(1000 / r.orbit.meanMs).toFixed(1)} fps (goal 15)`,
+			`every overlay off: still frame ${bare.still.meanMs.toFixed(0)} ms; orbit mean ${bare.orbit.meanMs.toFixed(0)} ms, p95 ${bare.orbit.p95Ms.toFixed(0)} ms, ${(1000 / bare.orbit.meanMs).toFixed(1)} fps`,
+			`orbit (20 steps) with one overlay on: ${alone.join(', ')}`
 		].join('\n')
 	);
 });

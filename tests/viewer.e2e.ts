@@ -26,9 +26,19 @@ function sampleReport() {
 
 const hook = (page: Page) => page.evaluate(() => (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer);
 
-async function openSampler(page: Page) {
-	await page.goto('/dev/viewer?mesh=sampler');
-	await page.waitForFunction(() => (window as unknown as { __shellgateViewer?: Hook }).__shellgateViewer?.overlaysReady === true, null, { timeout: 60_000 });
+/**
+ * Waits until viewer i has drawn its overlays or given up on them, then requires the former: a
+ * failure shows at once with its message instead of as a time-out.
+ */
+async function overlaysDrawn(page: Page, i = 0) {
+	const viewer = page.getByTestId('mesh-viewer').nth(i);
+	await expect(viewer).toHaveAttribute('data-overlays', /^(ready|failed)$/, { timeout: 60_000 });
+	if ((await viewer.getAttribute('data-overlays')) !== 'ready') throw new Error(`viewer ${i}: overlays failed: ${await viewer.innerText()}`);
+}
+
+async function openSampler(page: Page, query = '') {
+	await page.goto(`/dev/viewer?mesh=sampler${query}`);
+	await overlaysDrawn(page);
 }
 
 test('the harness draws the sampler mesh: canvas pixels are not blank', async ({ page }) => {
@@ -144,3 +154,64 @@ test('the section plane position is shown in model units and can be typed in', a
 	await page.screenshot({ path: shot('viewer-section-typed'), fullPage: true });
 });
 
+test('compare can be pointed at another revision and switched off; deviation shows the value under the pointer', async ({ page }) => {
+	await openSampler(page, '&compare=1');
+	const viewer = page.getByTestId('mesh-viewer');
+	const pick = page.getByTestId('viewer-compare-with');
+	await expect(pick.locator('option:checked')).toHaveText('rev 2');
+	await expect(viewer).toHaveAttribute('data-compare', 'ready', { timeout: 60_000 });
+	await page.screenshot({ path: shot('viewer-compare-side'), fullPage: true });
+	await pick.selectOption({ label: 'rev 3' });
+	await expect(page.getByTestId('viewer-compare-mode')).toBeVisible();
+	await expect(viewer).toHaveAttribute('data-compare', 'ready', { timeout: 60_000 });
+	await page.getByTestId('viewer-compare-mode').selectOption('deviation');
+	await expect(page.getByTestId('viewer-deviation')).toContainText('max', { timeout: 60_000 });
+	const ticks = await page.getByTestId('viewer-deviation-ticks').locator('span').allTextContents();
+	expect(ticks).toHaveLength(3);
+	for (const t of ticks) expect(t).toMatch(/\d/);
+	const box = (await page.getByTestId('viewer-canvas').boundingBox())!;
+	await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+	await page.mouse.move(box.x + box.width / 2 + 3, box.y + box.height / 2 + 2);
+	await expect(page.getByTestId('viewer-hover-deviation')).toContainText(/deviation \d/);
+	await page.screenshot({ path: shot('viewer-deviation-hover'), fullPage: true });
+	await pick.selectOption({ label: 'nothing (off)' });
+	await expect(page.getByTestId('viewer-compare-mode')).toHaveCount(0);
+	await expect(page.getByTestId('viewer-deviation')).toHaveCount(0);
+	await expect(viewer).toHaveAttribute('data-compare', 'idle');
+	await page.screenshot({ path: shot('viewer-compare-off'), fullPage: true });
+});
+
+test('opening and closing a second viewer, and flow changes, leave every renderer holding what it held before', async ({ page }) => {
+	type W = { __shellgateViewers: (Hook | undefined)[]; __shellgateViewerLeft?: { geometries: number; textures: number }[] };
+	const memory = (i: number) =>
+		page.evaluate((k) => {
+			const h = (window as unknown as W).__shellgateViewers[k]!;
+			h.render();
+			return h.gpuMemory();
+		}, i);
+	const left = () => page.evaluate(() => (window as unknown as W).__shellgateViewerLeft ?? []);
+	await openSampler(page, '&second=1');
+	await overlaysDrawn(page, 1);
+	// One flow change first, so the inset's arrow and label have been uploaded once at the new size.
+	await page.evaluate(() => (window as unknown as W).__shellgateViewers[0]!.setFlowDirection([0, 1, 0]));
+	const first = await memory(0);
+	expect(first.textures).toBeGreaterThan(0);
+	expect((await memory(1)).geometries).toBeGreaterThan(0);
+	const toggle = page.getByTestId('harness-toggle-second');
+	for (let round = 1; round <= 2; round++) {
+		await toggle.click();
+		await expect(page.getByTestId('mesh-viewer')).toHaveCount(1);
+		// The closed viewer's renderer held nothing when it was disposed.
+		await expect.poll(async () => (await left()).length).toBe(round);
+		expect((await left())[round - 1]).toEqual({ geometries: 0, textures: 0 });
+		// The first viewer kept its own textures and buffers.
+		expect(await memory(0)).toEqual(first);
+		await toggle.click();
+		await overlaysDrawn(page, 1);
+	}
+	for (const f of [[1, 0, 0], [0, 0, 1], [0, -1, 0], [1, 1, 0], [0, 1, 0]] as [number, number, number][]) {
+		await page.evaluate((d) => (window as unknown as W).__shellgateViewers[0]!.setFlowDirection(d), f);
+	}
+	expect(await memory(0)).toEqual(first);
+	await page.screenshot({ path: shot('viewer-two-viewers'), fullPage: true });
+});

@@ -143,6 +143,11 @@ describe('computeOverlays', () => {
 		expect(o.shortEdgeCount).toBe(12);
 		expect(o.shortEdgeSegments.length).toBe(30);
 		expect(o.truncated).toBe(true);
+		// An even sample of the twelve edges, not the first five.
+		const all = computeOverlays(cube, null, { minEdgeLength: 1.2 }).shortEdgeSegments;
+		const picked = [];
+		for (let s = 0; s < 5; s++) picked.push(all.findIndex((_, i) => i % 6 === 0 && o.shortEdgeSegments.subarray(6 * s, 6 * s + 6).every((x, k) => all[i + k] === x)) / 6);
+		expect(picked).toEqual([2, 4, 7, 9, 11]);
 	});
 
 	it('hands over each buffer once for transfer', () => {

@@ -15,7 +15,7 @@ import { smallShellIds } from './hints';
 export interface OverlayOptions {
 	/** Edges strictly shorter than this are listed as short (same rule as the report's shortEdges). 0 lists none. */
 	minEdgeLength?: number;
-	/** Most items drawn per kind; counts stay exact. Default 200 000. */
+	/** Most items drawn per kind; counts stay exact. Above it, edges are an even sample over the edge table. Default 200 000. */
 	maxItems?: number;
 }
 
@@ -125,12 +125,21 @@ export function computeOverlays(mesh: MeshBuffers, report: InspectionReport | nu
 	const nmSegments = new Float32Array(6 * Math.min(nmCount, maxItems));
 	const shortSegments = new Float32Array(6 * Math.min(shortCount, maxItems));
 	if (nmCount > maxItems || shortCount > maxItems) truncated = true;
-	for (let e = 0, i = 0, j = 0; e < edgeCount; e++) {
-		if (edgeStart[e + 1] - edgeStart[e] >= 3 && i < maxItems) putSeg(nmSegments, i++, edgeLo[e], edgeHi[e]);
-		if (minLen > 0 && j < maxItems) {
+	// Above the cap, the k-th of n items is drawn when it starts a new slot of n / cap items: an even
+	// sample spread over the whole part, not the first cap items of one region.
+	const keep = (k: number, n: number) => n <= maxItems || Math.floor(((k + 1) * maxItems) / n) > Math.floor((k * maxItems) / n);
+	for (let e = 0, i = 0, j = 0, nk = 0, sk = 0; e < edgeCount; e++) {
+		if (edgeStart[e + 1] - edgeStart[e] >= 3) {
+			if (keep(nk, nmCount) && i < maxItems) putSeg(nmSegments, i++, edgeLo[e], edgeHi[e]);
+			nk++;
+		}
+		if (minLen > 0) {
 			const a3 = 3 * edgeLo[e], b3 = 3 * edgeHi[e];
 			const dx = p[b3] - p[a3], dy = p[b3 + 1] - p[a3 + 1], dz = p[b3 + 2] - p[a3 + 2];
-			if (Math.sqrt(dx * dx + dy * dy + dz * dz) < minLen) putSeg(shortSegments, j++, edgeLo[e], edgeHi[e]);
+			if (Math.sqrt(dx * dx + dy * dy + dz * dz) < minLen) {
+				if (keep(sk, shortCount) && j < maxItems) putSeg(shortSegments, j++, edgeLo[e], edgeHi[e]);
+				sk++;
+			}
 		}
 	}
 

@@ -1,14 +1,28 @@
 /**
- * Defect palette and marker shapes of the viewer. Each kind pairs a colour with a distinct line
- * pattern and marker shape, so no kind is told apart by hue alone.
+ * Defect palette and marker shapes of the viewer. Each kind pairs a colour with a second cue that
+ * no other kind shares: its own marker shape, and where it draws lines or fills faces, its own line
+ * style (dashed, cased, solid, dotted) or face pattern (diagonal hatch, checker, tint).
  *
- * Colour choice: hues spread around the wheel and, more importantly, apart in lightness (CIE L*
- * in the table), following the separation advice of Okabe & Ito, "Color Universal Design" (2002):
- * under deuteranopia and protanopia the red–green axis collapses, so the pairs that would merge
- * (amber/rose, lime/sky) differ in L* by 15 or more and by shape. Blue–yellow contrast survives
- * both conditions. L* values are approximate (computed by hand from sRGB, D65; from memory of the
- * formula, not a tool). All colours are picked to read on the dark ink background and against the
- * neutral grey-blue mesh.
+ * Colour choice, checked by palette.test.ts: under normal vision and under simulated protanopia,
+ * deuteranopia and tritanopia (Machado, Oliveira & Fernandes 2009, severity 1.0, colour-vision.ts),
+ * every two finding colours, and each finding colour against the mesh grey and the background,
+ * differ by CIE76 ΔE*ab ≥ 20 and in lightness by ΔL* ≥ 5. The two dichromat-safe directions are
+ * used: magenta/violet against green/lime (kept apart in red–green by tritans and in blue–yellow by
+ * protans and deutans), and blue against amber. Within a direction, lightness keeps them apart
+ * (L* in the table, normal vision, D65).
+ *
+ * Pairs at risk, closest first (ΔE76 at the time of writing; the test prints the current figures):
+ * - protanopia: non-manifold vertices (green) / short edges (lime), 25.5; degenerate faces
+ *   (violet) / flipped faces (indigo), 28.2, which also differ by face pattern versus marker only.
+ * - deuteranopia: non-manifold vertices / short edges, 26.5; self-intersections (sky) / degenerate
+ *   faces (violet), 27.9 — the pair that merged in the previous palette.
+ * - tritanopia: non-manifold vertices / self-intersections, 24.5 (ΔL* only 6); short edges (lime)
+ *   / floating shells (warm white), 24.7; holes (sand) / floating shells, 24.7.
+ * - against the mesh grey: self-intersections (24.7 for tritans); degenerate faces differ from it
+ *   in lightness by only 5.6 for tritans.
+ * - closest in lightness: holes / short edges, ΔL* 5.0 for deutans; holes / self-intersections,
+ *   5.1 for protans (they stay far apart in ΔE).
+ * Hue alone never tells two kinds apart: the marker shapes and line styles do.
  */
 
 export type OverlayKind =
@@ -21,14 +35,22 @@ export type OverlayKind =
 	| 'flippedFaces'
 	| 'floatingShells';
 
-export type MarkerShape = 'ring' | 'diamond' | 'double-diamond' | 'cross' | 'tick' | 'hatched-square' | 'checker-square' | 'dotted-circle' | 'reticle';
+export type MarkerShape = 'ring' | 'diamond' | 'bowtie' | 'cross' | 'tick' | 'triangle' | 'checker-square' | 'corner-box' | 'reticle';
+
+/** Line drawn along the finding, if any. */
+export type LineStyle = 'dashed' | 'cased' | 'solid' | 'dotted';
+/** Pattern on the finding's faces, if any. */
+export type FacePattern = 'diagonal-hatch' | 'checker' | 'tint';
 
 export interface KindStyle {
 	label: string;
 	colour: string;
-	/** Approximate CIE L* of the colour. */
+	/** CIE L* of the colour (normal vision, D65), rounded; the test checks it. */
 	lightness: number;
+	/** Legend wording for the line and face cues. */
 	line: string;
+	stroke: LineStyle | null;
+	pattern: FacePattern | null;
 	marker: MarkerShape;
 }
 
@@ -44,15 +66,19 @@ export const KIND_ORDER: OverlayKind[] = [
 ];
 
 export const KIND_STYLE: Record<OverlayKind, KindStyle> = {
-	holes: { label: 'Holes', colour: '#f5a524', lightness: 74, line: 'thick dashed loop', marker: 'ring' },
-	nonManifoldEdges: { label: 'Non-manifold edges', colour: '#e0457b', lightness: 53, line: 'double line (cased)', marker: 'diamond' },
-	nonManifoldVertices: { label: 'Non-manifold vertices', colour: '#ff8fb8', lightness: 72, line: 'none', marker: 'double-diamond' },
-	selfIntersections: { label: 'Self-intersections', colour: '#4cc3ff', lightness: 74, line: 'diagonal hatch on both faces', marker: 'cross' },
-	shortEdges: { label: 'Short edges', colour: '#e4f05a', lightness: 92, line: 'thick solid', marker: 'tick' },
-	degenerateFaces: { label: 'Degenerate faces', colour: '#b48cff', lightness: 65, line: 'none (zero area)', marker: 'hatched-square' },
-	flippedFaces: { label: 'Flipped faces', colour: '#2f6bff', lightness: 48, line: 'checker tint', marker: 'checker-square' },
-	floatingShells: { label: 'Floating shells', colour: '#f2efe6', lightness: 95, line: 'dotted box outline + light tint', marker: 'dotted-circle' }
+	holes: { label: 'Holes', colour: '#f1d19c', lightness: 85, line: 'thick dashed loop, ring at the centre', stroke: 'dashed', pattern: null, marker: 'ring' },
+	nonManifoldEdges: { label: 'Non-manifold edges', colour: '#d2294a', lightness: 47, line: 'double line (cased), diamond at the middle', stroke: 'cased', pattern: null, marker: 'diamond' },
+	nonManifoldVertices: { label: 'Non-manifold vertices', colour: '#00c900', lightness: 71, line: 'bow-tie marker only', stroke: null, pattern: null, marker: 'bowtie' },
+	selfIntersections: { label: 'Self-intersections', colour: '#92bfff', lightness: 76, line: 'diagonal hatch on both faces, cross at the crossing', stroke: null, pattern: 'diagonal-hatch', marker: 'cross' },
+	shortEdges: { label: 'Short edges', colour: '#b7ff31', lightness: 92, line: 'thick solid line, I-beam at the middle', stroke: 'solid', pattern: null, marker: 'tick' },
+	degenerateFaces: { label: 'Degenerate faces', colour: '#bc5bf7', lightness: 57, line: 'triangle marker only (zero area)', stroke: null, pattern: null, marker: 'triangle' },
+	flippedFaces: { label: 'Flipped faces', colour: '#6c1dff', lightness: 40, line: 'checker tint', stroke: null, pattern: 'checker', marker: 'checker-square' },
+	floatingShells: { label: 'Floating shells', colour: '#fffdf8', lightness: 99, line: 'dotted box outline + light tint, corner brackets', stroke: 'dotted', pattern: 'tint', marker: 'corner-box' }
 };
+
+/** Mesh colour (front faces, plain mode) and the view background, for the palette checks. */
+export const MESH_COLOUR = '#8e9cab';
+export const BACKGROUND_COLOUR = '#0c1117';
 
 /** Qualitative shell colours: alternate light and dark so neighbours differ in lightness. */
 export const SHELL_COLOURS = ['#9fb3c8', '#c99a6b', '#6e8fb0', '#d7c58a', '#8a7fb8', '#b7d1a6', '#a06f7f', '#7fb8b0'];
@@ -116,9 +142,13 @@ export function drawMarker(ctx: CanvasRenderingContext2D, shape: MarkerShape, s:
 			ctx.arc(c, c, s * 0.07, 0, Math.PI * 2);
 			ctx.fill();
 			break;
-		case 'double-diamond':
-			both(() => (ctx.beginPath(), ctx.moveTo(c, c - r), ctx.lineTo(c + r, c), ctx.lineTo(c, c + r), ctx.lineTo(c - r, c), ctx.closePath()), w * 0.8);
-			both(() => (ctx.beginPath(), ctx.moveTo(c, c - r * 0.5), ctx.lineTo(c + r * 0.5, c), ctx.lineTo(c, c + r * 0.5), ctx.lineTo(c - r * 0.5, c), ctx.closePath()), w * 0.8);
+		case 'bowtie':
+			// Two triangles meeting at one point: two sheets sharing only a vertex.
+			both(() => (ctx.beginPath(), ctx.moveTo(c, c), ctx.lineTo(c - r, c - r * 0.75), ctx.lineTo(c - r, c + r * 0.75), ctx.closePath(), ctx.moveTo(c, c), ctx.lineTo(c + r, c - r * 0.75), ctx.lineTo(c + r, c + r * 0.75), ctx.closePath()), w, true);
+			ctx.fillStyle = '#ffffff';
+			ctx.beginPath();
+			ctx.arc(c, c, s * 0.08, 0, Math.PI * 2);
+			ctx.fill();
 			break;
 		case 'cross':
 			both(() => (ctx.beginPath(), ctx.moveTo(c - r, c - r), ctx.lineTo(c + r, c + r), ctx.moveTo(c + r, c - r), ctx.lineTo(c - r, c + r)), w * 1.4);
@@ -127,21 +157,9 @@ export function drawMarker(ctx: CanvasRenderingContext2D, shape: MarkerShape, s:
 			// An I-beam: a short bar with end ticks, like a dimension mark for a length.
 			both(() => (ctx.beginPath(), ctx.moveTo(c, c - r), ctx.lineTo(c, c + r), ctx.moveTo(c - r * 0.6, c - r), ctx.lineTo(c + r * 0.6, c - r), ctx.moveTo(c - r * 0.6, c + r), ctx.lineTo(c + r * 0.6, c + r)), w * 1.2);
 			break;
-		case 'hatched-square':
-			both(() => (ctx.beginPath(), ctx.rect(c - r, c - r, 2 * r, 2 * r)), w);
-			ctx.save();
-			ctx.beginPath();
-			ctx.rect(c - r, c - r, 2 * r, 2 * r);
-			ctx.clip();
-			ctx.strokeStyle = '#ffffff';
-			ctx.lineWidth = w * 0.6;
-			for (let k = -2; k <= 2; k++) {
-				ctx.beginPath();
-				ctx.moveTo(c - r + k * r * 0.6, c + r);
-				ctx.lineTo(c + r + k * r * 0.6, c - r);
-				ctx.stroke();
-			}
-			ctx.restore();
+		case 'triangle':
+			// A hollow triangle, flattened: a face with (almost) no area.
+			both(() => (ctx.beginPath(), ctx.moveTo(c - r, c + r * 0.55), ctx.lineTo(c + r, c + r * 0.55), ctx.lineTo(c + r * 0.15, c - r * 0.75), ctx.closePath()), w);
 			break;
 		case 'checker-square': {
 			both(() => (ctx.beginPath(), ctx.rect(c - r, c - r, 2 * r, 2 * r)), w);
@@ -150,11 +168,19 @@ export function drawMarker(ctx: CanvasRenderingContext2D, shape: MarkerShape, s:
 			for (let i = 0; i < 4; i++) for (let j = 0; j < 4; j++) if ((i + j) % 2 === 0) ctx.fillRect(c - r + i * q, c - r + j * q, q, q);
 			break;
 		}
-		case 'dotted-circle':
-			ctx.setLineDash([s * 0.04, s * 0.09]);
-			both(() => (ctx.beginPath(), ctx.arc(c, c, r, 0, Math.PI * 2)), w * 1.2);
-			ctx.setLineDash([]);
+		case 'corner-box': {
+			// Four corner brackets, like the dotted box drawn round a floating shell.
+			const k = r * 0.55;
+			both(() => {
+				ctx.beginPath();
+				for (const [sx, sy] of [[-1, -1], [1, -1], [1, 1], [-1, 1]]) {
+					ctx.moveTo(c + sx * r, c + sy * (r - k));
+					ctx.lineTo(c + sx * r, c + sy * r);
+					ctx.lineTo(c + sx * (r - k), c + sy * r);
+				}
+			}, w * 1.2);
 			break;
+		}
 		case 'reticle':
 			both(() => (ctx.beginPath(), ctx.arc(c, c, s * 0.42, 0, Math.PI * 2)), w * 0.7);
 			both(

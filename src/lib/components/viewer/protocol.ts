@@ -1,6 +1,7 @@
 /** Messages between the viewer and its workers. Every typed array in a reply is transferred, not copied. */
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import type { InspectionReport } from '$lib/mesh/report';
+import type { OverlayDraw } from './overlay-draw';
 
 /** Largest mesh the browser view loads; the report still shows above this. */
 export const VIEWER_MAX_FACES = 6_000_000;
@@ -44,7 +45,7 @@ export type LoadReply =
 			bvhMs: number;
 			bytes: number;
 	  }
-	| { type: 'overlays'; overlays: MeshOverlays; ms: number }
+	| { type: 'overlays'; overlays: MeshOverlays; draw: OverlayDraw; ms: number; drawMs: number }
 	| { type: 'error'; kind: LoadFailure; message: string };
 
 export interface DeviationRequest {

@@ -1,11 +1,11 @@
 /**
- * The viewer's three.js scene: mesh, defect overlays, comment pins, section plane, axis inset with
- * the flow arrow, compare modes, BVH picking and animated camera moves. Renders on demand (camera
- * moves, toggles), never in an idle loop, so a large mesh costs nothing while nobody touches it.
+ * The viewer's three.js scene: mesh, defect overlays, section plane, compare modes, BVH picking and
+ * animated camera moves; the axis inset with the flow arrow and the comment pins are layers of
+ * their own (layers/). Renders on demand (camera moves, toggles), never in an idle loop, so a large
+ * mesh costs nothing while nobody touches it.
  */
 import {
 	AmbientLight,
-	ArrowHelper,
 	BufferAttribute,
 	BufferGeometry,
 	CanvasTexture,
@@ -14,6 +14,8 @@ import {
 	DoubleSide,
 	Float32BufferAttribute,
 	Group,
+	LineBasicMaterial,
+	LineSegments,
 	Mesh,
 	MeshBasicMaterial,
 	MeshLambertMaterial,
@@ -25,8 +27,6 @@ import {
 	Scene,
 	ShaderMaterial,
 	Sphere,
-	Sprite,
-	SpriteMaterial,
 	Vector2,
 	Triangle,
 	Vector3,
@@ -42,7 +42,12 @@ import { LineMaterial } from 'three/examples/jsm/lines/LineMaterial.js';
 import { acceleratedRaycast, computeBoundsTree, disposeBoundsTree, MeshBVH } from 'three-mesh-bvh';
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import type { BvhData } from './protocol';
-import { drawMarker, hexRgb, KIND_ORDER, KIND_STYLE, rampColour, SHELL_COLOURS, type MarkerShape, type OverlayKind } from './palette';
+import { AxisInset } from './layers/axis-inset';
+import { PinLayer, type PinInput } from './layers/pin-layer';
+
+export type { PinInput };
+import { faceIndex, type OverlayDraw } from './overlay-draw';
+import { BACKGROUND_COLOUR, drawMarker, hexRgb, KIND_ORDER, KIND_STYLE, MESH_COLOUR, rampColour, SHELL_COLOURS, type MarkerShape, type OverlayKind } from './palette';
 
 export type ViewName = '+x' | '-x' | '+y' | '-y' | '+z' | '-z';
 export type SectionAxis = 'x' | 'y' | 'z';
@@ -57,12 +62,6 @@ export interface PickResult {
 	deviation?: number;
 }
 
-export interface PinInput {
-	id: string;
-	point: [number, number, number];
-	number: number;
-}
-
 /** What to emphasise: a point with a radius to frame, optional segments and faces. */
 export interface Focus {
 	center: [number, number, number];
@@ -74,10 +73,8 @@ export interface Focus {
 BufferGeometry.prototype.computeBoundsTree = computeBoundsTree;
 BufferGeometry.prototype.disposeBoundsTree = disposeBoundsTree;
 
-const MESH_COLOUR = '#8e9cab';
 const BACK_COLOUR_SCALE = 'vec3(0.62, 0.5, 0.42)';
 const FLY_MS = 400;
-const INSET_PX = 132;
 
 const PATTERN_VERTEX = /* glsl */ `
 #include <common>
@@ -150,62 +147,6 @@ class MarkerTextures {
 	}
 }
 
-function textSprite(text: string, colour: string, px = 48): Sprite {
-	const canvas = document.createElement('canvas');
-	const ctx = canvas.getContext('2d')!;
-	ctx.font = `600 ${px}px 'Source Sans 3', sans-serif`;
-	const w = Math.ceil(ctx.measureText(text).width) + 16;
-	canvas.width = w;
-	canvas.height = px + 16;
-	ctx.font = `600 ${px}px 'Source Sans 3', sans-serif`;
-	ctx.textBaseline = 'middle';
-	ctx.lineWidth = 8;
-	ctx.strokeStyle = 'rgba(8,12,16,0.9)';
-	ctx.strokeText(text, 8, canvas.height / 2);
-	ctx.fillStyle = colour;
-	ctx.fillText(text, 8, canvas.height / 2);
-	const sprite = new Sprite(new SpriteMaterial({ map: new CanvasTexture(canvas), depthTest: false, transparent: true }));
-	sprite.scale.set(w / canvas.height, 1, 1);
-	return sprite;
-}
-
-function pinSprite(n: number): Sprite {
-	const s = 64;
-	const canvas = document.createElement('canvas');
-	canvas.width = canvas.height = s;
-	const ctx = canvas.getContext('2d')!;
-	ctx.fillStyle = '#0c1117';
-	ctx.beginPath();
-	ctx.arc(s / 2, s / 2, s * 0.46, 0, Math.PI * 2);
-	ctx.fill();
-	ctx.fillStyle = '#5ccfb2';
-	ctx.beginPath();
-	ctx.arc(s / 2, s / 2, s * 0.38, 0, Math.PI * 2);
-	ctx.fill();
-	ctx.fillStyle = '#0c1117';
-	ctx.font = `700 ${n > 99 ? 22 : 30}px 'Source Sans 3', sans-serif`;
-	ctx.textAlign = 'center';
-	ctx.textBaseline = 'middle';
-	ctx.fillText(String(n), s / 2, s / 2 + 1);
-	const sprite = new Sprite(new SpriteMaterial({ map: new CanvasTexture(canvas), depthTest: false, transparent: true, sizeAttenuation: false }));
-	sprite.scale.set(0.045, 0.045, 1);
-	sprite.renderOrder = 20;
-	return sprite;
-}
-
-/** Most segments one line overlay draws; above it an even sample is drawn and the rest are counted only. */
-export const LINE_SEGMENT_CAP = 200_000;
-
-/** Every k-th segment so that at most `max` remain (6 floats a segment). */
-function sampleSegments(segments: Float32Array, max: number): Float32Array {
-	const n = segments.length / 6;
-	if (n <= max) return segments;
-	const out = new Float32Array(6 * max);
-	const step = n / max;
-	for (let i = 0; i < max; i++) out.set(segments.subarray(6 * Math.floor(i * step), 6 * Math.floor(i * step) + 6), 6 * i);
-	return out;
-}
-
 function lineObject(segments: Float32Array, colour: string, width: number, dashed: boolean, dash = 1): LineSegments2 {
 	const geom = new LineSegmentsGeometry();
 	geom.setPositions(segments);
@@ -213,6 +154,15 @@ function lineObject(segments: Float32Array, colour: string, width: number, dashe
 	mat.clipping = true;
 	const line = new LineSegments2(geom, mat);
 	if (dashed) line.computeLineDistances();
+	return line;
+}
+
+/** 1-pixel GL lines: two vertices a segment and the simplest shader, for segments past the thick-line cap. */
+function thinLines(segments: Float32Array, colour: string): LineSegments {
+	const geom = new BufferGeometry();
+	geom.setAttribute('position', new BufferAttribute(segments, 3));
+	const line = new LineSegments(geom, new LineBasicMaterial({ color: new Color(colour) }));
+	line.raycast = () => {};
 	return line;
 }
 
@@ -232,28 +182,27 @@ function markerPoints(textures: MarkerTextures, points: Float32Array, shape: Mar
 	return g;
 }
 
-function midpoints(segments: Float32Array, max: number): Float32Array {
-	const n = Math.min(segments.length / 6, max);
-	const out = new Float32Array(3 * n);
-	for (let s = 0; s < n; s++) {
-		const o = 6 * s;
-		out[3 * s] = 0.5 * (segments[o] + segments[o + 3]);
-		out[3 * s + 1] = 0.5 * (segments[o + 1] + segments[o + 4]);
-		out[3 * s + 2] = 0.5 * (segments[o + 2] + segments[o + 5]);
-	}
-	return out;
+/** GPU objects one renderer holds (renderer.info.memory). */
+export interface GpuMemory {
+	geometries: number;
+	textures: number;
 }
 
-function boxSegments(b: Float32Array, o: number): number[] {
-	const [x0, y0, z0, x1, y1, z1] = [b[o], b[o + 1], b[o + 2], b[o + 3], b[o + 4], b[o + 5]];
-	const c = [
-		[x0, y0, z0], [x1, y0, z0], [x1, y1, z0], [x0, y1, z0],
-		[x0, y0, z1], [x1, y0, z1], [x1, y1, z1], [x0, y1, z1]
-	];
-	const e = [0, 1, 1, 2, 2, 3, 3, 0, 4, 5, 5, 6, 6, 7, 7, 4, 0, 4, 1, 5, 2, 6, 3, 7];
-	const out: number[] = [];
-	for (let i = 0; i < e.length; i += 2) out.push(...c[e[i]], ...c[e[i + 1]]);
-	return out;
+/** Handle the dev harness installs for tests and the viewer bench. */
+export interface ViewerDebug {
+	readonly status: string;
+	readonly triangles: number;
+	readonly camera: { position: [number, number, number]; target: [number, number, number]; animating: boolean };
+	readonly timings: Record<string, number>;
+	readonly overlaysReady: boolean;
+	readonly overlayState: 'pending' | 'ready' | 'failed';
+	readonly compareStatus: string;
+	readonly deviation: { max: number; mean: number; ms: number } | null;
+	frameStats(): FrameStats;
+	gpuMemory(): GpuMemory;
+	setFlowDirection(f: [number, number, number]): void;
+	benchmark(frames?: number, moving?: boolean): FrameStats;
+	render(): number;
 }
 
 /** Frame-time statistics in milliseconds over the last renders. */
@@ -271,8 +220,7 @@ export class ViewerScene {
 	readonly controls: OrbitControls;
 	private scene = new Scene();
 	private compareScene = new Scene();
-	private inset = new Scene();
-	private insetCamera = new PerspectiveCamera(40, 1, 0.1, 100);
+	private inset: AxisInset;
 	private container: HTMLElement;
 	private mesh: Mesh | null = null;
 	/** Coarse stand-in shown instead of the mesh while the camera moves. */
@@ -283,8 +231,10 @@ export class ViewerScene {
 	private wire: Mesh | null = null;
 	private compareMesh: Mesh | null = null;
 	private overlayGroups = new Map<OverlayKind, Group>();
+	/** Line overlays with a sampled stand-in: the stand-in is drawn while the camera moves. */
+	private lod: { fine: Object3D; coarse: Object3D }[] = [];
 	private highlightGroup = new Group();
-	private pinGroup = new Group();
+	private pinLayer = new PinLayer();
 	private faceShell: Int32Array | null = null;
 	private triCount = 0;
 	private bounds = new Sphere(new Vector3(), 1);
@@ -306,17 +256,14 @@ export class ViewerScene {
 	private compareMode: CompareMode | null = null;
 	private colourMode: ColourMode = 'plain';
 	private deviation: { distances: Float32Array; max: number } | null = null;
-	private pins: { id: string; sprite: Sprite; point: Vector3 }[] = [];
 	private shellColours: Float32Array | null = null;
-	private flowArrow: ArrowHelper | null = null;
-	private flowLabel: Sprite | null = null;
 	private visible: Record<OverlayKind, boolean> = Object.fromEntries(KIND_ORDER.map((k) => [k, true])) as Record<OverlayKind, boolean>;
 
 	constructor(container: HTMLElement, flowDirection: [number, number, number]) {
 		this.container = container;
 		this.renderer = new WebGLRenderer({ antialias: false, preserveDrawingBuffer: true, powerPreference: 'high-performance' });
 		this.renderer.setPixelRatio(Math.min(window.devicePixelRatio, 2));
-		this.renderer.setClearColor(new Color('#0c1117'));
+		this.renderer.setClearColor(new Color(BACKGROUND_COLOUR));
 		this.renderer.localClippingEnabled = false;
 		this.renderer.autoClear = false;
 		container.appendChild(this.renderer.domElement);
@@ -342,51 +289,15 @@ export class ViewerScene {
 			fill.position.set(-1.5, 1, -0.6);
 			s.add(fill);
 		}
-		this.scene.add(this.highlightGroup, this.pinGroup);
-		this.buildInset(flowDirection);
+		this.scene.add(this.highlightGroup, this.pinLayer.group);
+		this.inset = new AxisInset(flowDirection);
 		this.resizeObserver = new ResizeObserver(() => this.resize());
 		this.resizeObserver.observe(container);
 		this.resize();
 	}
 
-	private buildInset(flow: [number, number, number]): void {
-		this.insetCamera.up.set(0, 0, 1);
-		const axes: [Vector3, string, string][] = [
-			[new Vector3(1, 0, 0), 'X', '#e8a7a0'],
-			[new Vector3(0, 1, 0), 'Y', '#b9dca3'],
-			[new Vector3(0, 0, 1), 'Z', '#a3bfe8']
-		];
-		for (const [dir, name, colour] of axes) {
-			const arrow = new ArrowHelper(dir, new Vector3(), 1, new Color(colour).getHex(), 0.22, 0.1);
-			this.inset.add(arrow);
-			const label = textSprite(name, colour);
-			label.position.copy(dir).multiplyScalar(1.3);
-			label.scale.multiplyScalar(0.42);
-			this.inset.add(label);
-		}
-		this.setFlowDirection(flow);
-	}
-
 	setFlowDirection(flow: [number, number, number]): void {
-		if (this.flowArrow) {
-			this.inset.remove(this.flowArrow);
-			this.flowArrow.dispose();
-		}
-		if (this.flowLabel) {
-			this.inset.remove(this.flowLabel);
-			this.flowLabel.material.map?.dispose();
-			this.flowLabel.material.dispose();
-		}
-		const d = new Vector3(...flow);
-		if (d.lengthSq() === 0) d.set(1, 0, 0);
-		d.normalize();
-		// The flow arrow comes in towards the origin along the flow direction, like the oncoming stream.
-		this.flowArrow = new ArrowHelper(d, d.clone().multiplyScalar(-1.15), 1.0, 0x5ccfb2, 0.3, 0.16);
-		this.inset.add(this.flowArrow);
-		this.flowLabel = textSprite('flow', '#8fe3cf');
-		this.flowLabel.position.copy(d).multiplyScalar(-1.35).add(new Vector3(0, 0, -0.25));
-		this.flowLabel.scale.multiplyScalar(0.36);
-		this.inset.add(this.flowLabel);
+		this.inset.setFlowDirection(flow);
 		this.requestRender();
 	}
 
@@ -473,10 +384,12 @@ export class ViewerScene {
 		this.shellColours = null;
 	}
 
-	setOverlays(o: MeshOverlays): void {
+	/** Draws the overlays from buffers the parse worker finished (overlay-draw.ts): no per-item work here. */
+	setOverlays(o: MeshOverlays, d: OverlayDraw): void {
 		for (const g of this.overlayGroups.values()) this.disposeGroup(g);
 		this.overlayGroups.clear();
-		this.sampled = {};
+		this.lod = [];
+		this.sampled = { ...d.sampled };
 		this.faceShell = o.faceShell;
 		if (!this.mesh) return;
 		const diag = this.bboxMax.distanceTo(this.bboxMin) || 1;
@@ -489,67 +402,73 @@ export class ViewerScene {
 			this.scene.add(g);
 		};
 		const st = KIND_STYLE;
-		if (o.holeSegments.length) {
-			const centres = new Float32Array(3 * o.holes.length);
-			o.holes.forEach((h, i) => centres.set(h.centroid, 3 * i));
-			add('holes', lineObject(o.holeSegments, st.holes.colour, 4.5, true, dash), markerPoints(this.markerTextures, centres, 'ring', st.holes.colour, 26));
-		}
+		const tex = this.markerTextures;
+		// Level of detail for large overlays. At rest: every segment, the first THICK_SEGMENT_CAP (an
+		// even sample) thick and the rest as 1-pixel lines; while the camera moves: a thick sample of
+		// MOVING_SEGMENT_CAP segments and MOVING_MARKER_CAP markers only (overlay-draw.ts).
+		const lod = (fine: Object3D, moving: Object3D | null): Object3D[] => {
+			if (!moving) return [fine];
+			moving.visible = false;
+			this.lod.push({ fine, coarse: moving });
+			return [fine, moving];
+		};
+		const lines = (full: Float32Array, thick: Float32Array, moving: Float32Array, colour: string, make: (segments: Float32Array) => Object3D): Object3D[] => {
+			let fine: Object3D = make(full);
+			if (thick.length) {
+				const g = new Group();
+				g.add(thinLines(full, colour), make(thick));
+				fine = g;
+			}
+			return lod(fine, moving.length ? make(moving) : null);
+		};
+		const markers = (all: Float32Array, moving: Float32Array, shape: MarkerShape, colour: string, size: number): Object3D[] =>
+			lod(markerPoints(tex, all, shape, colour, size), moving.length ? markerPoints(tex, moving, shape, colour, size) : null);
+		const none = new Float32Array(0);
+		if (o.holeSegments.length) add('holes', ...lines(o.holeSegments, none, d.holeSegmentsMoving, st.holes.colour, (seg) => lineObject(seg, st.holes.colour, 4.5, true, dash)), markerPoints(tex, d.holeCentres, st.holes.marker, st.holes.colour, 26));
 		if (o.nonManifoldEdgeSegments.length) {
-			const outer = lineObject(o.nonManifoldEdgeSegments, st.nonManifoldEdges.colour, 7, false);
-			const inner = lineObject(o.nonManifoldEdgeSegments, '#0c1117', 2.2, false);
-			inner.renderOrder = 1;
-			add('nonManifoldEdges', outer, inner, markerPoints(this.markerTextures, midpoints(o.nonManifoldEdgeSegments, 5000), 'diamond', st.nonManifoldEdges.colour, 20));
+			const cased = (seg: Float32Array) => {
+				const g = new Group();
+				const inner = lineObject(seg, BACKGROUND_COLOUR, 2.2, false);
+				inner.renderOrder = 1;
+				g.add(lineObject(seg, st.nonManifoldEdges.colour, 7, false), inner);
+				return g;
+			};
+			add(
+				'nonManifoldEdges',
+				...lines(o.nonManifoldEdgeSegments, d.nonManifoldEdgeSegmentsThick, d.nonManifoldEdgeSegmentsMoving, st.nonManifoldEdges.colour, cased),
+				...markers(d.nonManifoldEdgeMidpoints, d.nonManifoldEdgeMidpointsMoving, st.nonManifoldEdges.marker, st.nonManifoldEdges.colour, 20)
+			);
 		}
-		if (o.nonManifoldVertexPoints.length) add('nonManifoldVertices', markerPoints(this.markerTextures, o.nonManifoldVertexPoints, 'double-diamond', st.nonManifoldVertices.colour, 24));
+		if (o.nonManifoldVertexPoints.length) add('nonManifoldVertices', markerPoints(tex, o.nonManifoldVertexPoints, st.nonManifoldVertices.marker, st.nonManifoldVertices.colour, 24));
 		if (o.selfIntersectionPoints.length) {
 			add(
 				'selfIntersections',
-				this.faceSubset(o.selfIntersectionFaces, patternMaterial(st.selfIntersections.colour, 1, 0.9, 7)),
-				markerPoints(this.markerTextures, o.selfIntersectionPoints, 'cross', st.selfIntersections.colour, 22)
+				this.faceSubset(d.selfIntersectionIndex, patternMaterial(st.selfIntersections.colour, 1, 0.9, 7)),
+				markerPoints(tex, o.selfIntersectionPoints, st.selfIntersections.marker, st.selfIntersections.colour, 22)
 			);
 		}
 		if (o.shortEdgeSegments.length) {
-			const drawn = sampleSegments(o.shortEdgeSegments, LINE_SEGMENT_CAP);
-			if (drawn !== o.shortEdgeSegments) this.sampled.shortEdges = { drawn: drawn.length / 6, total: o.shortEdgeSegments.length / 6 };
-			add('shortEdges', lineObject(drawn, st.shortEdges.colour, 5, false), markerPoints(this.markerTextures, midpoints(sampleSegments(o.shortEdgeSegments, 20000), 20000), 'tick', st.shortEdges.colour, 12));
+			add(
+				'shortEdges',
+				...lines(o.shortEdgeSegments, d.shortEdgeSegmentsThick, d.shortEdgeSegmentsMoving, st.shortEdges.colour, (seg) => lineObject(seg, st.shortEdges.colour, 5, false)),
+				...markers(d.shortEdgeMidpoints, d.shortEdgeMidpointsMoving, st.shortEdges.marker, st.shortEdges.colour, 12)
+			);
 		}
-		if (o.degenerateFaces.length) {
-			add('degenerateFaces', markerPoints(this.markerTextures, this.faceCentres(o.degenerateFaces, 20000), 'hatched-square', st.degenerateFaces.colour, 20));
-		}
-		if (o.flippedFaces.length) add('flippedFaces', this.faceSubset(o.flippedFaces, patternMaterial(st.flippedFaces.colour, 0, 0.85, 6)));
+		if (o.degenerateFaces.length) add('degenerateFaces', ...markers(d.degenerateCentres, d.degenerateCentresMoving, st.degenerateFaces.marker, st.degenerateFaces.colour, 20));
+		if (o.flippedFaces.length) add('flippedFaces', this.faceSubset(d.flippedIndex, patternMaterial(st.flippedFaces.colour, 0, 0.85, 6)));
 		if (o.floatingShells.length) {
-			const box: number[] = [];
-			const centres = new Float32Array(3 * o.floatingShells.length);
-			for (let i = 0; i < o.floatingShells.length; i++) {
-				box.push(...boxSegments(o.floatingBoxes, 6 * i));
-				for (let a = 0; a < 3; a++) centres[3 * i + a] = 0.5 * (o.floatingBoxes[6 * i + a] + o.floatingBoxes[6 * i + 3 + a]);
-			}
 			add(
 				'floatingShells',
-				this.faceSubset(o.floatingFaces, patternMaterial(st.floatingShells.colour, 2, 0.35, 1)),
-				lineObject(Float32Array.from(box), st.floatingShells.colour, 2.5, true, dash * 0.25),
-				markerPoints(this.markerTextures, centres, 'dotted-circle', st.floatingShells.colour, 26)
+				this.faceSubset(d.floatingIndex, patternMaterial(st.floatingShells.colour, 2, 0.35, 1)),
+				lineObject(d.floatingBoxSegments, st.floatingShells.colour, 2.5, true, dash * 0.25),
+				markerPoints(tex, d.floatingCentres, st.floatingShells.marker, st.floatingShells.colour, 26)
 			);
 		}
 		if (this.colourMode === 'shells') this.applyColours();
 		this.requestRender();
 	}
 
-	/** Centre of each listed face, 3 floats per face. */
-	faceCentres(faces: Uint32Array, max = Infinity): Float32Array {
-		const n = Math.min(faces.length, max);
-		const out = new Float32Array(3 * n);
-		if (!this.mesh) return out;
-		const p = this.mesh.geometry.getAttribute('position').array as Float32Array;
-		const idx = this.mesh.geometry.getIndex()!.array as Uint32Array;
-		for (let i = 0; i < n; i++) {
-			const t3 = 3 * faces[i];
-			for (let a = 0; a < 3; a++) out[3 * i + a] = (p[3 * idx[t3] + a] + p[3 * idx[t3 + 1] + a] + p[3 * idx[t3 + 2] + a]) / 3;
-		}
-		return out;
-	}
-
-	/** Centre and circumradius-ish size of the listed faces. */
+	/** Centre and size of the listed faces, for flying to them. */
 	faceFocus(faces: Uint32Array): Focus {
 		const min = [Infinity, Infinity, Infinity], max = [-Infinity, -Infinity, -Infinity];
 		const p = this.mesh!.geometry.getAttribute('position').array as Float32Array;
@@ -567,25 +486,22 @@ export class ViewerScene {
 		return { center, radius: 0.5 * Math.hypot(max[0] - min[0], max[1] - min[1], max[2] - min[2]), faces };
 	}
 
-	private faceSubset(faces: Uint32Array, mat: Material): Mesh {
-		const src = this.mesh!.geometry;
-		const idx = src.getIndex()!.array as Uint32Array;
-		const sub = new Uint32Array(3 * faces.length);
-		for (let i = 0; i < faces.length; i++) {
-			const t3 = 3 * faces[i];
-			sub[3 * i] = idx[t3];
-			sub[3 * i + 1] = idx[t3 + 1];
-			sub[3 * i + 2] = idx[t3 + 2];
-		}
+	/** A mesh of some faces of the loaded mesh, from an index buffer into its vertices. */
+	private faceSubset(index: Uint32Array, mat: Material): Mesh {
 		const geom = new BufferGeometry();
 		// Shares the mesh's position attribute: one upload, no copy.
-		geom.setAttribute('position', src.getAttribute('position'));
-		geom.setIndex(new BufferAttribute(sub, 1));
+		geom.setAttribute('position', this.mesh!.geometry.getAttribute('position'));
+		geom.setIndex(new BufferAttribute(index, 1));
 		geom.userData.sharesPosition = true;
 		const m = new Mesh(geom, mat);
 		m.renderOrder = 2;
 		m.raycast = () => {};
 		return m;
+	}
+
+	/** Index buffer (3 per face) of the listed face ids of the loaded mesh. */
+	faceIndexOf(faces: Uint32Array): Uint32Array {
+		return faceIndex(this.mesh!.geometry.getIndex()!.array as Uint32Array, faces);
 	}
 
 	setOverlayVisible(kind: OverlayKind, on: boolean): void {
@@ -726,17 +642,7 @@ export class ViewerScene {
 	}
 
 	setPins(pins: PinInput[]): void {
-		for (const p of this.pins) {
-			this.pinGroup.remove(p.sprite);
-			p.sprite.material.map?.dispose();
-			p.sprite.material.dispose();
-		}
-		this.pins = pins.map((p) => {
-			const sprite = pinSprite(p.number);
-			sprite.position.set(...p.point);
-			this.pinGroup.add(sprite);
-			return { id: p.id, sprite, point: new Vector3(...p.point) };
-		});
+		this.pinLayer.setPins(pins);
 		this.requestRender();
 	}
 
@@ -794,7 +700,7 @@ export class ViewerScene {
 		this.disposeGroup(this.highlightGroup, false);
 		if (focus) {
 			if (focus.segments && focus.segments.length) this.highlightGroup.add(lineObject(focus.segments, '#ffffff', 3, false));
-			if (focus.faces && focus.faces.length) this.highlightGroup.add(this.faceSubset(focus.faces, patternMaterial('#ffffff', 2, 0.55, 1)));
+			if (focus.faces && focus.faces.length) this.highlightGroup.add(this.faceSubset(this.faceIndexOf(focus.faces), patternMaterial('#ffffff', 2, 0.55, 1)));
 			const pt = markerPoints(this.markerTextures, Float32Array.from(focus.center), 'reticle', '#ffffff', 44);
 			pt.children.forEach((c) => (c.renderOrder += 6));
 			this.highlightGroup.add(pt);
@@ -850,18 +756,7 @@ export class ViewerScene {
 
 	/** Comment pin within 14 px of a client-space point. */
 	pickPin(clientX: number, clientY: number): string | null {
-		const rect = this.renderer.domElement.getBoundingClientRect();
-		let best: string | null = null, bestD = 14;
-		const v = new Vector3();
-		for (const p of this.pins) {
-			v.copy(p.point).project(this.camera);
-			if (v.z > 1) continue;
-			const x = rect.left + ((v.x + 1) / 2) * rect.width * (this.compareMode === 'side' ? 0.5 : 1);
-			const y = rect.top + ((1 - v.y) / 2) * rect.height;
-			const d = Math.hypot(x - clientX, y - clientY);
-			if (d < bestD) (bestD = d), (best = p.id);
-		}
-		return best;
+		return this.pinLayer.pick(this.camera, this.renderer.domElement.getBoundingClientRect(), clientX, clientY, this.compareMode === 'side' ? 0.5 : 1);
 	}
 
 	private toNdc(clientX: number, clientY: number, rect: DOMRect): Vector2 | null {
@@ -902,6 +797,11 @@ export class ViewerScene {
 			this.mesh.visible = !coarse;
 			// Colour modes are per vertex of the full mesh; the stand-in shows plain while moving.
 		}
+		const movingNow = this.moving || this.anim !== null;
+		for (const l of this.lod) {
+			l.fine.visible = !movingNow;
+			l.coarse.visible = movingNow;
+		}
 		r.setScissorTest(false);
 		r.setViewport(0, 0, w, h);
 		r.clear();
@@ -925,17 +825,7 @@ export class ViewerScene {
 			r.render(this.scene, this.camera);
 		}
 		// Axis inset, bottom left: rotates with the main camera.
-		const planes = r.clippingPlanes;
-		r.clippingPlanes = [];
-		const dir = this.camera.position.clone().sub(this.controls.target).normalize();
-		this.insetCamera.position.copy(dir.multiplyScalar(4.6));
-		this.insetCamera.up.copy(this.camera.up);
-		this.insetCamera.lookAt(0, 0, 0);
-		r.setViewport(4, 4, INSET_PX, INSET_PX);
-		r.setScissor(4, 4, INSET_PX, INSET_PX);
-		r.clearDepth();
-		r.render(this.inset, this.insetCamera);
-		r.clippingPlanes = planes;
+		this.inset.render(r, this.camera, this.controls.target);
 		r.setScissorTest(false);
 		if (finish) {
 			const gl = r.getContext();
@@ -980,7 +870,7 @@ export class ViewerScene {
 	}
 
 	/** GPU objects this viewer's renderer holds (for the leak check in the dev harness tests). */
-	gpuMemory(): { geometries: number; textures: number } {
+	gpuMemory(): GpuMemory {
 		const m = this.renderer.info.memory;
 		return { geometries: m.geometries, textures: m.textures };
 	}
@@ -1014,25 +904,22 @@ export class ViewerScene {
 		if (removeFromScene) g.parent?.remove(g);
 	}
 
-	dispose(): void {
+	/** Frees everything; returns the GPU objects the renderer still held just before it was disposed (0 and 0 when nothing leaked). */
+	dispose(): GpuMemory {
 		this.disposed = true;
 		this.resizeObserver.disconnect();
 		this.controls.dispose();
 		for (const g of this.overlayGroups.values()) this.disposeGroup(g);
 		this.disposeGroup(this.highlightGroup);
-		this.setPins([]);
+		this.pinLayer.dispose();
 		this.setCompare(null, null, null);
 		this.clearMesh();
-		this.inset.traverse((o) => {
-			const m = o as Mesh;
-			m.geometry?.dispose();
-			const mat = m.material as (Material & { map?: Texture | null }) | undefined;
-			mat?.map?.dispose();
-			mat?.dispose();
-		});
+		this.inset.dispose();
 		this.markerTextures.dispose();
+		const left = this.gpuMemory();
 		this.renderer.dispose();
 		this.renderer.forceContextLoss();
 		this.renderer.domElement.remove();
+		return left;
 	}
 }

@@ -1,0 +1,185 @@
+/**
+ * The viewer's state, one instance per viewer: loading and overlays, toggles, section, compare and
+ * deviation, selection and hover. It drives the three workers (mesh, compare revision, deviation)
+ * through runWorker and hands their results to the scene; MeshViewer.svelte only lays it out.
+ * Each load method returns the function that stops its worker, for an effect's cleanup.
+ */
+import type { InspectionReport } from '$lib/mesh/report';
+import type { MeshOverlays } from '$lib/mesh/overlays';
+import { KIND_ORDER, type OverlayKind } from './palette';
+import type { OverlayDraw } from './overlay-draw';
+import type { DeviationReply, DeviationRequest, LoadReply, LoadRequest } from './protocol';
+import type { CompareMode, PickResult, SectionAxis, ViewerScene } from './scene';
+import { runWorker } from './worker-task';
+
+export type ViewerStatus = 'loading' | 'parsing' | 'ready' | 'error';
+export type OverlayState = 'pending' | 'ready' | 'failed';
+
+const parseWorker = () => new Worker(new URL('./parse-worker.ts', import.meta.url), { type: 'module' });
+const deviationWorker = () => new Worker(new URL('./deviation-worker.ts', import.meta.url), { type: 'module' });
+
+export class ViewerState {
+	status = $state<ViewerStatus>('loading');
+	progress = $state<{ loaded: number; total: number | null }>({ loaded: 0, total: null });
+	errorMessage = $state('');
+	overlays = $state.raw<MeshOverlays | null>(null);
+	/** Whether the overlays are drawn: the one readiness signal for tests (also on the element as data-overlays). */
+	overlayState = $state<OverlayState>('pending');
+	timings = $state.raw<Record<string, number>>({});
+	triCount = $state(0);
+	sampled = $state.raw<ViewerScene['sampled']>({});
+
+	visible = $state<Record<OverlayKind, boolean>>(Object.fromEntries(KIND_ORDER.map((k) => [k, true])) as Record<OverlayKind, boolean>);
+	expanded = $state<Record<string, boolean>>({});
+	wireframe = $state(false);
+	shellColours = $state(false);
+	helpOpen = $state(false);
+
+	sectionOn = $state(false);
+	sectionAxis = $state<SectionAxis>('x');
+	sectionT = $state(0.5);
+	sectionFlip = $state(false);
+
+	hover = $state<(PickResult & { x: number; y: number }) | null>(null);
+	selectedKey = $state<string | null>(null);
+
+	/** The chosen compare revision's url; '' is compare off, null the one the page opened with. */
+	compareUrl = $state<string | null>(null);
+	compareMode = $state<CompareMode>('side');
+	compareStatus = $state<'idle' | 'loading' | 'ready' | 'error'>('idle');
+	compareError = $state('');
+	deviation = $state.raw<{ max: number; mean: number; ms: number } | null>(null);
+	deviationProgress = $state<number | null>(null);
+
+	private draw: OverlayDraw | null = null;
+
+	get progressShare(): number | null {
+		return this.progress.total ? Math.min(1, this.progress.loaded / this.progress.total) : null;
+	}
+
+	/** Fetches, parses and draws the mesh, then its overlays. */
+	loadMesh(s: ViewerScene, req: LoadRequest): () => void {
+		this.status = 'loading';
+		this.progress = { loaded: 0, total: null };
+		this.overlays = null;
+		this.draw = null;
+		this.overlayState = 'pending';
+		this.errorMessage = '';
+		const started = performance.now();
+		return runWorker<LoadRequest, LoadReply>(
+			parseWorker,
+			req,
+			[],
+			(m, done) => {
+				if (m.type === 'progress') this.progress = { loaded: m.loaded, total: m.total };
+				else if (m.type === 'parsing') this.status = 'parsing';
+				else if (m.type === 'mesh') {
+					const tMesh = performance.now();
+					s.setMesh(m.positions, m.indices, m.bvh, m.proxy);
+					this.triCount = m.indices.length / 3;
+					this.timings = { fetchMs: m.fetchMs, parseMs: m.parseMs, bvhMs: m.bvhMs, proxyMs: m.proxyMs, proxyTriangles: m.proxy ? m.proxy.indices.length / 3 : 0, bytes: m.bytes, toDrawnMs: performance.now() - started, meshAt: tMesh, setMeshMs: performance.now() - tMesh };
+					this.status = 'ready';
+				} else if (m.type === 'overlays') {
+					const tOv = performance.now();
+					this.overlays = m.overlays;
+					this.draw = m.draw;
+					s.setOverlays(m.overlays, m.draw);
+					this.sampled = { ...s.sampled };
+					this.timings = { ...this.timings, overlaysMs: m.ms, overlayDrawMs: m.drawMs, overlaysAt: tOv, setOverlaysMs: performance.now() - tOv };
+					this.overlayState = 'ready';
+					done();
+				} else if (m.type === 'error') {
+					if (this.status !== 'ready') this.status = 'error';
+					this.errorMessage = m.message;
+					this.overlayState = 'failed';
+					done();
+				}
+			},
+			(message) => {
+				if (this.status !== 'ready') this.status = 'error';
+				this.errorMessage = `The mesh loader stopped: ${message}.`;
+				this.overlayState = 'failed';
+			}
+		);
+	}
+
+	/** A report that arrives after the mesh (or is replaced) brings its own self-intersection sample. */
+	applyReportSample(s: ViewerScene, r: InspectionReport): void {
+		const o = this.overlays;
+		if (!o || !this.draw) return;
+		const sample = r.selfIntersectionSample;
+		if (o.selfIntersectionFaces.length === 2 * sample.length && sample.every((x, i) => o.selfIntersectionFaces[2 * i] === x.a && o.selfIntersectionFaces[2 * i + 1] === x.b)) return;
+		const points = new Float32Array(3 * sample.length), faces = new Uint32Array(2 * sample.length);
+		sample.forEach((x, i) => {
+			points.set(x.point, 3 * i);
+			faces[2 * i] = x.a;
+			faces[2 * i + 1] = x.b;
+		});
+		this.overlays = { ...o, selfIntersectionPoints: points, selfIntersectionFaces: faces };
+		// A sample of at most a few thousand pairs: its index buffer is cheap to make here.
+		this.draw = { ...this.draw, selfIntersectionIndex: s.faceIndexOf(faces) };
+		s.setOverlays(this.overlays, this.draw);
+		this.sampled = { ...s.sampled };
+	}
+
+	/** Loads a compare revision (mesh only) and draws it in the current compare mode. */
+	loadCompare(s: ViewerScene, req: LoadRequest): () => void {
+		this.compareStatus = 'loading';
+		this.deviation = null;
+		const stop = runWorker<LoadRequest, LoadReply>(
+			parseWorker,
+			{ ...req, overlays: false },
+			[],
+			(m, done) => {
+				if (m.type === 'mesh') {
+					s.setCompare(m.positions, m.indices, this.compareMode);
+					this.compareStatus = 'ready';
+					done();
+				} else if (m.type === 'error') {
+					this.compareStatus = 'error';
+					this.compareError = m.message;
+					done();
+				}
+			},
+			(message) => {
+				this.compareStatus = 'error';
+				this.compareError = `The compare loader stopped: ${message}.`;
+			}
+		);
+		return () => {
+			stop();
+			s.setCompare(null, null, null);
+		};
+	}
+
+	/** Distance of each vertex to the compare revision, computed once per pair when first asked for. */
+	measureDeviation(s: ViewerScene): (() => void) | undefined {
+		const a = s.meshPositions(), b = s.compareBuffers();
+		if (!a || !b) return;
+		this.deviationProgress = 0;
+		// Copies: the page keeps its buffers for drawing and picking.
+		const pa = a.slice(), pb = b.positions.slice(), ib = b.indices.slice();
+		return runWorker<DeviationRequest, DeviationReply>(
+			deviationWorker,
+			{ type: 'deviation', positions: pa, targetPositions: pb, targetIndices: ib },
+			[pa.buffer, pb.buffer, ib.buffer],
+			(m, done) => {
+				if (m.type === 'progress') this.deviationProgress = m.done / m.total;
+				else if (m.type === 'result') {
+					s.setDeviation(m.distances, m.max);
+					this.deviation = { max: m.max, mean: m.mean, ms: m.ms };
+					this.deviationProgress = null;
+					done();
+				} else {
+					this.compareError = m.message;
+					this.deviationProgress = null;
+					done();
+				}
+			},
+			(message) => {
+				this.compareError = `The deviation worker stopped: ${message}.`;
+				this.deviationProgress = null;
+			}
+		);
+	}
+}

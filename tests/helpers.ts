@@ -21,3 +21,12 @@ export async function signOut(page: Page) {
 }
 
 export const shot = (name: string) => `test-results/screens/${name}.png`;
+
+/** Uploads one fixture as a new part through the upload page and opens the revision it made. */
+export async function uploadAndOpen(page: Page, opts: { project: string; part: string; file: string }) {
+	await page.goto(`/upload?project=${opts.project}`);
+	await page.getByLabel('Part').fill(opts.part);
+	await page.getByLabel('Files').setInputFiles(opts.file);
+	await page.getByRole('button', { name: 'Upload' }).click();
+	await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+}

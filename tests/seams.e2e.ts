@@ -1,16 +1,12 @@
 import { expect, test } from '@playwright/test';
-import { shot, signInAs, signOut } from './helpers';
+import { shot, signInAs, signOut, uploadAndOpen } from './helpers';
 
 const PART = `ring-seams-${Date.now().toString(36)}`;
 
 test('an OBJ with unwelded seams is held, says so before the rules with what a weld would give, and the one-click weld makes a closed revision', async ({ page }) => {
 	test.setTimeout(150_000);
 	await signInAs(page, 'designer');
-	await page.goto('/upload?project=sensor-pods');
-	await page.getByLabel('Part').fill(PART);
-	await page.getByLabel('Files').setInputFiles('fixtures/ring-housing-unwelded-seams.obj');
-	await page.getByRole('button', { name: 'Upload' }).click();
-	await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+	await uploadAndOpen(page, { project: 'sensor-pods', part: PART, file: 'fixtures/ring-housing-unwelded-seams.obj' });
 	await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
 	const seams = page.getByTestId('unwelded-seams');
 	// 324 coincident vertices; welded: 0 boundary edges (now 96), 1 shell (now 4), genus 1 (fixture: scripts/make-fixtures.ts).

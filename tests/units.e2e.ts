@@ -1,5 +1,5 @@
 import { expect, test, type Page } from '@playwright/test';
-import { shot, signInAs, signOut } from './helpers';
+import { shot, signInAs, signOut, uploadAndOpen } from './helpers';
 
 const PART = `pod-units-${Date.now().toString(36)}`;
 
@@ -17,11 +17,7 @@ test('a pod written in metres into the millimetre project is held with the likel
 	await setSizeCheck(page, 'cells');
 	try {
 		await signInAs(page, 'designer');
-		await page.goto('/upload?project=sensor-pods');
-		await page.getByLabel('Part').fill(PART);
-		await page.getByLabel('Files').setInputFiles('fixtures/pod-written-in-metres.stl');
-		await page.getByRole('button', { name: 'Upload' }).click();
-		await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+		await uploadAndOpen(page, { project: 'sensor-pods', part: PART, file: 'fixtures/pod-written-in-metres.stl' });
 		await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
 		const size = page.locator('[data-rule="expected-size"]');
 		await expect(size).toHaveAttribute('data-passed', 'false');

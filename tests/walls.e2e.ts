@@ -1,5 +1,5 @@
 import { expect, test, type Page } from '@playwright/test';
-import { shot, signInAs, signOut } from './helpers';
+import { shot, signInAs, signOut, uploadAndOpen } from './helpers';
 
 const PART = `blocks-gap-${Date.now().toString(36)}`;
 
@@ -17,11 +17,7 @@ test('two blocks 0.01 mm apart in the 2 mm-cell project are held by the walls-an
 	await setWallGap(page, '2');
 	try {
 		await signInAs(page, 'designer');
-		await page.goto('/upload?project=sensor-pods');
-		await page.getByLabel('Part').fill(PART);
-		await page.getByLabel('Files').setInputFiles('fixtures/blocks-0.01-apart.stl');
-		await page.getByRole('button', { name: 'Upload' }).click();
-		await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+		await uploadAndOpen(page, { project: 'sensor-pods', part: PART, file: 'fixtures/blocks-0.01-apart.stl' });
 		await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
 		const rule = page.locator('[data-rule="walls-and-gaps"]');
 		await expect(rule).toHaveAttribute('data-passed', 'false');

@@ -108,24 +108,8 @@ export function silhouetteArea(
 		if (r0 < 0) r0 = 0;
 		if (r1 > ny - 1) r1 = ny - 1;
 		for (let r = r0; r <= r1; r++) {
-			// x-extent of the triangle on the row's centre line.
-			let xl = Infinity, xr = -Infinity;
-			if ((ay - r) * (by - r) <= 0 && ay !== by) {
-				const x = ax + ((r - ay) * (bx - ax)) / (by - ay);
-				if (x < xl) xl = x;
-				if (x > xr) xr = x;
-			}
-			if ((by - r) * (cy - r) <= 0 && by !== cy) {
-				const x = bx + ((r - by) * (cx - bx)) / (cy - by);
-				if (x < xl) xl = x;
-				if (x > xr) xr = x;
-			}
-			if ((cy - r) * (ay - r) <= 0 && cy !== ay) {
-				const x = cx + ((r - cy) * (ax - cx)) / (ay - cy);
-				if (x < xl) xl = x;
-				if (x > xr) xr = x;
-			}
-			let c0 = Math.ceil(xl), c1 = Math.floor(xr);
+			rowSpan(ax, ay, bx, by, cx, cy, r, SPAN);
+			let c0 = Math.ceil(SPAN[0]), c1 = Math.floor(SPAN[1]);
 			if (c0 < 0) c0 = 0;
 			if (c1 > nx - 1) c1 = nx - 1;
 			const row = r * nx;
@@ -204,23 +188,8 @@ export function silhouetteArea(
 			const cr = (R / k) | 0;
 			const lo = rowStart[cr], hi = rowStart[cr + 1];
 			if (lo === hi) continue;
-			let xl = Infinity, xr = -Infinity;
-			if ((ay - R) * (by - R) <= 0 && ay !== by) {
-				const x = ax + ((R - ay) * (bx - ax)) / (by - ay);
-				if (x < xl) xl = x;
-				if (x > xr) xr = x;
-			}
-			if ((by - R) * (cy - R) <= 0 && by !== cy) {
-				const x = bx + ((R - by) * (cx - bx)) / (cy - by);
-				if (x < xl) xl = x;
-				if (x > xr) xr = x;
-			}
-			if ((cy - R) * (ay - R) <= 0 && cy !== ay) {
-				const x = cx + ((R - cy) * (ax - cx)) / (ay - cy);
-				if (x < xl) xl = x;
-				if (x > xr) xr = x;
-			}
-			const C0 = Math.max(0, Math.ceil(xl)), C1 = Math.min(k * nx - 1, Math.floor(xr));
+			rowSpan(ax, ay, bx, by, cx, cy, R, SPAN);
+			const C0 = Math.max(0, Math.ceil(SPAN[0])), C1 = Math.min(k * nx - 1, Math.floor(SPAN[1]));
 			if (C1 < C0) continue;
 			const cc0 = (C0 / k) | 0, cc1 = (C1 / k) | 0;
 			// First marked column ≥ cc0 in this row (binary search).
@@ -267,6 +236,34 @@ export function silhouetteArea(
 
 /** Sub-cells per side in a refined cell, and the cap on refined samples (bytes, twice over). */
 export const REFINE = 32;
+
+/** Scratch for rowSpan's two results (the raster loops are synchronous, so one is enough). */
+const SPAN = new Float64Array(2);
+
+/**
+ * x-extent of triangle a, b, c on the horizontal line y = r (grid units): out[0] = left,
+ * out[1] = right; left > right (Infinity, −Infinity) when the line misses the triangle.
+ */
+function rowSpan(ax: number, ay: number, bx: number, by: number, cx: number, cy: number, r: number, out: Float64Array): void {
+	let xl = Infinity, xr = -Infinity;
+	if ((ay - r) * (by - r) <= 0 && ay !== by) {
+		const x = ax + ((r - ay) * (bx - ax)) / (by - ay);
+		if (x < xl) xl = x;
+		if (x > xr) xr = x;
+	}
+	if ((by - r) * (cy - r) <= 0 && by !== cy) {
+		const x = bx + ((r - by) * (cx - bx)) / (cy - by);
+		if (x < xl) xl = x;
+		if (x > xr) xr = x;
+	}
+	if ((cy - r) * (ay - r) <= 0 && cy !== ay) {
+		const x = cx + ((r - cy) * (ax - cx)) / (ay - cy);
+		if (x < xl) xl = x;
+		if (x > xr) xr = x;
+	}
+	out[0] = xl;
+	out[1] = xr;
+}
 const REFINE_SAMPLE_CAP = 32 * 1024 * 1024;
 
 function countMarkedCovered(grid: Uint8Array, mark: Uint8Array, need: number): number {

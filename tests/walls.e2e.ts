@@ -28,6 +28,16 @@ test('two blocks 0.01 mm apart in the 2 mm-cell project are held by the walls-an
 		// The separate-bodies hint counts the blocks; it does not advise removing either.
 		await expect(page.getByText('The mesh is made of 2 separate bodies')).toBeVisible();
 		await page.screenshot({ path: shot('revision-walls-gaps-held'), fullPage: true });
+		// The viewer colours by gap width in cells (measured in a worker) and reads the value under the pointer.
+		await expect(page.getByTestId('mesh-viewer')).toHaveAttribute('data-status', 'ready', { timeout: 30_000 });
+		await page.getByTestId('viewer-cell-colour').selectOption('gap');
+		await expect(page.getByTestId('viewer-cells')).toHaveAttribute('data-cells', 'ready', { timeout: 30_000 });
+		await expect(page.getByTestId('viewer-cells')).toContainText('gap width in cells of 2 mm');
+		const canvas = page.getByTestId('mesh-viewer').locator('canvas').first();
+		const box = (await canvas.boundingBox())!;
+		await page.mouse.move(box.x + box.width / 2, box.y + box.height / 2);
+		await expect(page.getByTestId('viewer-hover-cells')).toContainText('gap');
+		await page.getByTestId('mesh-viewer').screenshot({ path: shot('viewer-gap-cells') });
 		// Sharp edges as OBJ lines: each block has its 12 edges at 90°, the face diagonals are flat (0°).
 		const href = await page.getByTestId('feature-edges-download').getAttribute('href');
 		const obj = await (await page.request.get(href!)).text();

@@ -61,3 +61,17 @@ export type DeviationReply =
 	| { type: 'progress'; done: number; total: number }
 	| { type: 'result'; distances: Float32Array; max: number; mean: number; ms: number }
 	| { type: 'error'; message: string };
+
+/** Wall thickness and gap width per vertex in target cells (thickness.ts rays, run in a worker). */
+export interface CellFieldRequest {
+	type: 'cell-field';
+	positions: Float32Array;
+	indices: Uint32Array;
+	cellSize: number;
+	/** Rays stop here (model units); a vertex with nothing within reads maxDistance / cellSize. */
+	maxDistance: number;
+}
+
+export type CellFieldReply =
+	| { type: 'result'; wall: Float32Array; gap: Float32Array; maxCells: number; ms: number }
+	| { type: 'error'; message: string };

@@ -52,7 +52,8 @@ import { BACKGROUND_COLOUR, drawMarker, hexRgb, KIND_ORDER, KIND_STYLE, MESH_COL
 export type ViewName = '+x' | '-x' | '+y' | '-y' | '+z' | '-z';
 export type SectionAxis = 'x' | 'y' | 'z';
 export type CompareMode = 'side' | 'overlay' | 'deviation';
-export type ColourMode = 'plain' | 'shells' | 'deviation';
+/** wall, gap: thickness or gap width in target cells (cellField). */
+export type ColourMode = 'plain' | 'shells' | 'deviation' | 'wall' | 'gap';
 
 export interface PickResult {
 	point: [number, number, number];
@@ -60,6 +61,8 @@ export interface PickResult {
 	shell: number;
 	/** Deviation at the point (interpolated from the face's vertices) while the deviation colouring is shown. */
 	deviation?: number;
+	/** Wall thickness or gap width at the point, in cells, while that colouring is shown. */
+	cells?: number;
 }
 
 /** What to emphasise: a point with a radius to frame, optional segments and faces. */
@@ -256,6 +259,8 @@ export class ViewerScene {
 	private compareMode: CompareMode | null = null;
 	private colourMode: ColourMode = 'plain';
 	private deviation: { distances: Float32Array; max: number } | null = null;
+	/** Per-vertex wall and gap in cells, and the top of the colour scale (cells). */
+	private cellField: { wall: Float32Array; gap: Float32Array; scaleCells: number } | null = null;
 	private shellColours: Float32Array | null = null;
 	private visible: Record<OverlayKind, boolean> = Object.fromEntries(KIND_ORDER.map((k) => [k, true])) as Record<OverlayKind, boolean>;
 
@@ -551,6 +556,12 @@ export class ViewerScene {
 			colours = new Float32Array(3 * vertCount);
 			const inv = this.deviation.max > 0 ? 1 / this.deviation.max : 0;
 			for (let v = 0; v < vertCount; v++) rampColour(this.deviation.distances[v] * inv, colours, 3 * v);
+		} else if ((this.colourMode === 'wall' || this.colourMode === 'gap') && this.cellField && this.cellField.wall.length === vertCount) {
+			// Thin (dark end of the ramp) to wide enough (bright end) at scaleCells and above.
+			const f = this.colourMode === 'wall' ? this.cellField.wall : this.cellField.gap;
+			const inv = 1 / this.cellField.scaleCells;
+			colours = new Float32Array(3 * vertCount);
+			for (let v = 0; v < vertCount; v++) rampColour(f[v] * inv, colours, 3 * v);
 		}
 		if (colours) {
 			geom.setAttribute('color', new Float32BufferAttribute(colours, 3));
@@ -625,6 +636,19 @@ export class ViewerScene {
 		if (mode === 'deviation' && this.deviation) this.setColourMode('deviation');
 		else if (this.colourMode === 'deviation') this.setColourMode('plain');
 		this.requestRender();
+	}
+
+	/** Wall and gap per vertex in cells; scaleCells is the value drawn at the bright end of the ramp. */
+	setCellField(field: { wall: Float32Array; gap: Float32Array; scaleCells: number } | null): void {
+		this.cellField = field;
+		if (this.colourMode === 'wall' || this.colourMode === 'gap') this.applyColours();
+	}
+
+	/** Positions and indices of the loaded mesh: the live arrays behind the GPU buffers; callers copy before transferring. */
+	meshBuffers(): { positions: Float32Array; indices: Uint32Array } | null {
+		if (!this.mesh) return null;
+		const g = this.mesh.geometry;
+		return { positions: g.getAttribute('position').array as Float32Array, indices: g.getIndex()!.array as Uint32Array };
 	}
 
 	setDeviation(distances: Float32Array | null, max: number): void {
@@ -733,17 +757,20 @@ export class ViewerScene {
 			if (this.sectionOn && this.section.distanceToPoint(h.point) < 0) continue;
 			const face = h.faceIndex ?? -1;
 			const hit: PickResult = { point: [h.point.x, h.point.y, h.point.z], face, shell: this.faceShell && face >= 0 ? this.faceShell[face] : -1 };
-			if (this.colourMode === 'deviation' && this.deviation && h.face) hit.deviation = this.deviationAt(h.point, h.face.a, h.face.b, h.face.c);
+			if (this.colourMode === 'deviation' && this.deviation && h.face) hit.deviation = this.fieldAt(this.deviation.distances, h.point, h.face.a, h.face.b, h.face.c);
+			if ((this.colourMode === 'wall' || this.colourMode === 'gap') && this.cellField && h.face) {
+				hit.cells = this.fieldAt(this.colourMode === 'wall' ? this.cellField.wall : this.cellField.gap, h.point, h.face.a, h.face.b, h.face.c);
+			}
 			return hit;
 		}
 		return null;
 	}
 
-	private deviationAt(p: Vector3, a: number, b: number, c: number): number {
+	/** A per-vertex field at a point of face a, b, c (barycentric). */
+	private fieldAt(d: Float32Array, p: Vector3, a: number, b: number, c: number): number {
 		const pos = this.mesh!.geometry.getAttribute('position');
 		const va = new Vector3().fromBufferAttribute(pos, a), vb = new Vector3().fromBufferAttribute(pos, b), vc = new Vector3().fromBufferAttribute(pos, c);
 		const w = Triangle.getBarycoord(p, va, vb, vc, new Vector3());
-		const d = this.deviation!.distances;
 		if (!w) return (d[a] + d[b] + d[c]) / 3;
 		return w.x * d[a] + w.y * d[b] + w.z * d[c];
 	}

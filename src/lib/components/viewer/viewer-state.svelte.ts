@@ -8,7 +8,7 @@ import type { InspectionReport } from '$lib/mesh/report';
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import { KIND_ORDER, type OverlayKind } from './palette';
 import type { OverlayDraw } from './overlay-draw';
-import type { DeviationReply, DeviationRequest, LoadReply, LoadRequest } from './protocol';
+import type { CellFieldReply, CellFieldRequest, DeviationReply, DeviationRequest, LoadReply, LoadRequest } from './protocol';
 import type { CompareMode, PickResult, SectionAxis, ViewerScene } from './scene';
 import { runWorker } from './worker-task';
 
@@ -17,6 +17,7 @@ export type OverlayState = 'pending' | 'ready' | 'failed';
 
 const parseWorker = () => new Worker(new URL('./parse-worker.ts', import.meta.url), { type: 'module' });
 const deviationWorker = () => new Worker(new URL('./deviation-worker.ts', import.meta.url), { type: 'module' });
+const cellFieldWorker = () => new Worker(new URL('./cell-field-worker.ts', import.meta.url), { type: 'module' });
 
 export class ViewerState {
 	status = $state<ViewerStatus>('loading');
@@ -50,6 +51,11 @@ export class ViewerState {
 	compareError = $state('');
 	deviation = $state.raw<{ max: number; mean: number; ms: number } | null>(null);
 	deviationProgress = $state<number | null>(null);
+
+	/** Colouring by wall thickness or gap width in cells ('off' keeps the other colourings). */
+	cellColour = $state<'off' | 'wall' | 'gap'>('off');
+	cellFieldStatus = $state<'idle' | 'measuring' | 'ready' | 'error'>('idle');
+	cellFieldError = $state('');
 
 	private draw: OverlayDraw | null = null;
 
@@ -179,6 +185,35 @@ export class ViewerState {
 			(message) => {
 				this.compareError = `The deviation worker stopped: ${message}.`;
 				this.deviationProgress = null;
+			}
+		);
+	}
+
+	/** Wall and gap per vertex in cells, measured once per mesh in a worker when first asked for. */
+	measureCellField(s: ViewerScene, cellSize: number, scaleCells: number): (() => void) | undefined {
+		const b = s.meshBuffers();
+		if (!b || !(cellSize > 0)) return;
+		this.cellFieldStatus = 'measuring';
+		const positions = b.positions.slice(), indices = b.indices.slice();
+		// The report's range: 8 cells (thickness.ts cellSizeMaxDistance's default).
+		const maxDistance = 8 * cellSize;
+		return runWorker<CellFieldRequest, CellFieldReply>(
+			cellFieldWorker,
+			{ type: 'cell-field', positions, indices, cellSize, maxDistance },
+			[positions.buffer, indices.buffer],
+			(m, done) => {
+				if (m.type === 'result') {
+					s.setCellField({ wall: m.wall, gap: m.gap, scaleCells });
+					this.cellFieldStatus = 'ready';
+				} else {
+					this.cellFieldError = m.message;
+					this.cellFieldStatus = 'error';
+				}
+				done();
+			},
+			(message) => {
+				this.cellFieldError = `The wall and gap worker stopped: ${message}.`;
+				this.cellFieldStatus = 'error';
 			}
 		);
 	}

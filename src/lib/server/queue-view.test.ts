@@ -5,10 +5,12 @@ import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { getDb } from './db';
 import { checkRun, revision } from './db/schema';
-import { processCheckJob } from './jobs/check';
+import { inspectBytes } from '../mesh/inspect';
+import type { InspectionReport } from '../mesh/report';
+import { loadCheckSetup, processCheckJob, writeCheckResult } from './jobs/check';
 import { claimJob } from './jobs/queue';
 import { processRepairJob } from './jobs/repair';
-import { parseQueueFilter, queryQueue } from './queue-view';
+import { parseQueueFilter, queryQueue, thinnestOf } from './queue-view';
 import { proposeRepair, standardRecipe } from './repairs';
 import { recheck } from './decisions';
 import { loadRevisionForUser } from './revisions';
@@ -103,5 +105,58 @@ describe('the queue on the real MariaDB', () => {
 		const done = await queueRow(up.revisionId);
 		expect(done?.status).toBe('clear');
 		expect(done?.progress).toBeNull();
+	});
+
+	it('shows the smaller of thinnest wall and narrowest gap in cells, sorts on it and filters under N cells', async () => {
+		const db = getDb();
+		let n = 0;
+		async function checkWith(edit: (r: InspectionReport) => void) {
+			const r = structuredClone(inspectBytes(fixture('cube-closed.stl'), 'cube-closed.stl', { cellSize: 2 }));
+			edit(r);
+			const bytes = new TextEncoder().encode(new TextDecoder().decode(fixture('cube-closed-ascii.stl')) + '\n'.repeat(++n));
+			const up = await uploadBytes(db, users.designer, bytes, `pod-thin-${n}.stl`, 'sensor-pods', `thin-row-${n}`);
+			const j = await claimJob(db, 'queue-test');
+			expect(j?.revisionId).toBe(up.revisionId);
+			expect(await writeCheckResult(db, j!, 'queue-test', (await loadCheckSetup(db, j!.revisionId))!, r)).toBe(true);
+			return up.revisionId;
+		}
+		const finding = (cells: number) => ({ value: cells * 2, cells, face: 0, otherFace: 1, from: [0, 0, 0] as [number, number, number], to: [cells * 2, 0, 0] as [number, number, number] });
+		// A: a narrow gap under a comfortable wall; B: a thin wall and no gap within range; C: not measured.
+		const a = await checkWith((r) => Object.assign(r.cellSizeChecks!, { thinnestWall: finding(3), narrowestGap: finding(0.5) }));
+		const b = await checkWith((r) => Object.assign(r.cellSizeChecks!, { thinnestWall: finding(1.25), narrowestGap: null }));
+		const c = await checkWith((r) => Object.assign(r, { cellSizeChecks: null }));
+
+		const [runA] = await db.select({ wall: checkRun.thinnestWallCells, gap: checkRun.narrowestGapCells }).from(checkRun).where(eq(checkRun.revisionId, a));
+		expect(runA).toEqual({ wall: 3, gap: 0.5 });
+		expect((await queueRow(a))?.thin).toEqual({ cells: 0.5, which: 'gap' });
+		expect((await queueRow(b))?.thin).toEqual({ cells: 1.25, which: 'wall' });
+		expect((await queueRow(c))?.thin).toBeNull();
+
+		const order = async (query: string) => {
+			const q = await queryQueue(db, users.engineer, parseQueueFilter(new URLSearchParams(`status=all&pageSize=200&project=sensor-pods&${query}`)));
+			return q.rows.map((r) => r.id).filter((id) => [a, b, c].includes(id));
+		};
+		expect(await order('sort=thin&dir=asc')).toEqual([a, b, c]);
+		// Rows without a figure stay last when the order turns.
+		expect(await order('sort=thin&dir=desc')).toEqual([b, a, c]);
+
+		const under = await queryQueue(db, users.engineer, parseQueueFilter(new URLSearchParams('status=all&pageSize=200&thinUnder=2&sort=thin&dir=asc')));
+		const ids = under.rows.map((r) => r.id);
+		expect(ids).toContain(a);
+		expect(ids).toContain(b);
+		expect(ids).not.toContain(c);
+		expect(under.rows.every((r) => r.thin !== null && r.thin.cells < 2)).toBe(true);
+		// The counts take the same filter as the rows.
+		expect(under.total).toBe(under.rows.length);
+		const underOne = await order('thinUnder=1');
+		expect(underOne).toEqual([a]);
+		expect(() => parseQueueFilter(new URLSearchParams('thinUnder=-1'))).toThrow();
+	});
+
+	it('picks the smaller of wall and gap, and which', () => {
+		expect(thinnestOf(null, null)).toBeNull();
+		expect(thinnestOf(2, null)).toEqual({ cells: 2, which: 'wall' });
+		expect(thinnestOf(null, 0.4)).toEqual({ cells: 0.4, which: 'gap' });
+		expect(thinnestOf(1, 1)).toEqual({ cells: 1, which: 'wall' });
 	});
 });

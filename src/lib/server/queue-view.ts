@@ -1,5 +1,5 @@
 // The triage queue: one query behind the queue page and GET /api/v1/queue, filtered, sorted and
-// paged in MariaDB on the indexed summary columns.
+// paged in MariaDB on the indexed summary columns and the check run's figures (never its report).
 import { and, asc, desc, eq, inArray, isNull, like, sql, type SQL } from 'drizzle-orm';
 import { alias } from 'drizzle-orm/mysql-core';
 import { z } from 'zod';
@@ -24,7 +24,9 @@ export const queueFilterSchema = z.object({
 	status: z.enum([...REVISION_STATES, 'needs-action', 'all']).default('needs-action'),
 	assignee: z.string().max(32).optional(),
 	rule: z.enum(RULE_IDS).optional(),
-	sort: z.enum(['age', 'severity', 'size']).default('age'),
+	/** Only revisions whose latest check found a wall or gap thinner than this many cells. */
+	thinUnder: z.coerce.number().positive().max(1_000_000).optional(),
+	sort: z.enum(['age', 'severity', 'size', 'thin']).default('age'),
 	dir: z.enum(['asc', 'desc']).default('desc'),
 	page: z.coerce.number().int().min(1).max(100_000).default(1),
 	pageSize: z.coerce.number().int().min(1).max(200).default(50)
@@ -35,6 +37,19 @@ export function parseQueueFilter(params: URLSearchParams): QueueFilter {
 	const raw: Record<string, string> = {};
 	for (const [k, v] of params) if (v !== '') raw[k] = v;
 	return queueFilterSchema.parse(raw);
+}
+
+/**
+ * The smaller of the latest check's thinnest wall and narrowest gap, in cells; null when neither was
+ * found (or there is no check). Both columns are read from the joined check_run row, never the report.
+ */
+const THIN_CELLS = sql<number | null>`least(coalesce(${checkRun.thinnestWallCells}, ${checkRun.narrowestGapCells}), coalesce(${checkRun.narrowestGapCells}, ${checkRun.thinnestWallCells}))`;
+
+/** The queue's wall/gap figure for one row: the smaller of the two and which it is. */
+export function thinnestOf(wall: number | null, gap: number | null): { cells: number; which: 'wall' | 'gap' } | null {
+	if (wall === null && gap === null) return null;
+	if (gap === null || (wall !== null && wall <= gap)) return { cells: wall!, which: 'wall' };
+	return { cells: gap, which: 'gap' };
 }
 
 /** Job states whose stage and percent the queue shows as live progress. */
@@ -57,6 +72,8 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 	else if (f.assignee === 'none') base.push(isNull(revision.assigneeId));
 	else if (f.assignee) base.push(eq(revision.assigneeId, f.assignee));
 	if (f.rule) base.push(like(checkRun.failedRules, `%,${f.rule},%`));
+	if (f.thinUnder !== undefined) base.push(sql`${THIN_CELLS} < ${f.thinUnder}`);
+	const countNeedsCheck = !!f.rule || f.thinUnder !== undefined;
 	const statusCond =
 		f.status === 'all' ? undefined : f.status === 'needs-action' ? inArray(revision.status, [...NEEDS_ACTION]) : eq(revision.status, f.status);
 	const where = and(...base, statusCond);
@@ -66,7 +83,10 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 			? [f.dir === 'asc' ? asc(sql`coalesce(${checkRun.severity}, -1)`) : desc(sql`coalesce(${checkRun.severity}, -1)`), desc(revision.id)]
 			: f.sort === 'size'
 				? [f.dir === 'asc' ? asc(revision.size) : desc(revision.size), desc(revision.id)]
-				: [f.dir === 'asc' ? desc(revision.createdAt) : asc(revision.createdAt), asc(revision.id)];
+				: f.sort === 'thin'
+					? // Rows with no wall or gap figure go last either way.
+						[asc(sql`${THIN_CELLS} is null`), f.dir === 'asc' ? asc(THIN_CELLS) : desc(THIN_CELLS), desc(revision.id)]
+					: [f.dir === 'asc' ? desc(revision.createdAt) : asc(revision.createdAt), asc(revision.id)];
 
 	const live = sql`${revision.status} in ('checking', 'awaiting-check')`;
 	const activeJob = <T>(col: SQL) =>
@@ -74,7 +94,7 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 
 	// Deferred join: the page's ids are sorted and cut on the narrow revision/part/project join
 	// (check_run only when the sort or filter needs it); names and figures are joined for those rows only.
-	const needsCheck = f.sort === 'severity' || !!f.rule;
+	const needsCheck = f.sort === 'severity' || f.sort === 'thin' || countNeedsCheck;
 	const idsBase = db.select({ id: revision.id }).from(revision).innerJoin(part, eq(part.id, revision.partId)).innerJoin(project, eq(project.id, part.projectId));
 	const pageIds = (needsCheck ? idsBase.leftJoin(checkRun, eq(checkRun.id, revision.latestCheckId)) : idsBase)
 		.where(where)
@@ -107,6 +127,8 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 			selfIntersectingPairs: checkRun.selfIntersectingPairs,
 			shells: checkRun.shells,
 			genus: checkRun.genus,
+			thinnestWallCells: checkRun.thinnestWallCells,
+			narrowestGapCells: checkRun.narrowestGapCells,
 			// A verdict given under an older gate profile than the project's newest is marked stale.
 			profileVersion: sql<number | null>`(select ${gateProfile.version} from ${gateProfile} where ${gateProfile.id} = ${checkRun.gateProfileId})`,
 			currentProfileVersion: sql<number | null>`(select max(${gateProfile.version}) from ${gateProfile} where ${gateProfile.projectId} = ${project.id})`,
@@ -127,7 +149,7 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 		.from(revision)
 		.innerJoin(part, eq(part.id, revision.partId))
 		.innerJoin(project, eq(project.id, part.projectId));
-	const countQuery = (f.rule ? countBase.leftJoin(checkRun, eq(checkRun.id, revision.latestCheckId)) : countBase).where(and(...base)).groupBy(revision.status);
+	const countQuery = (countNeedsCheck ? countBase.leftJoin(checkRun, eq(checkRun.id, revision.latestCheckId)) : countBase).where(and(...base)).groupBy(revision.status);
 
 	const [rows, countRows] = await Promise.all([rowsQuery, countQuery]);
 	const counts = Object.fromEntries(REVISION_STATES.map((s) => [s, 0])) as Record<(typeof REVISION_STATES)[number], number>;
@@ -146,6 +168,7 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 				...r,
 				failedRules,
 				summary: failedRulesSummary(failedRules),
+				thin: thinnestOf(r.thinnestWallCells, r.narrowestGapCells),
 				profileVersion: r.profileVersion === null ? null : Number(r.profileVersion),
 				currentProfileVersion: r.currentProfileVersion === null ? null : Number(r.currentProfileVersion),
 				staleProfile: r.profileVersion !== null && r.currentProfileVersion !== null && Number(r.profileVersion) !== Number(r.currentProfileVersion) && !['signed-off', 'returned'].includes(r.status),

@@ -255,6 +255,15 @@ export const checkRun = mysqlTable(
 		severity: int('severity').notNull(),
 		/** Comma-separated failed rule ids, e.g. ",closed,min-edge-length," for LIKE filters. */
 		failedRules: varchar('failed_rules', { length: 300 }).notNull(),
+		/**
+		 * The report's thinnest wall and narrowest gap in target cells, as measured against the
+		 * project's cell size at check time (report.cellSizeChecks.*.cells); null when none was found
+		 * within range or the check did not measure them. The queue shows, sorts and filters on the
+		 * smaller (least() of the two, after the join from revision), which an index on either column
+		 * would not serve, so neither has one.
+		 */
+		thinnestWallCells: double('thinnest_wall_cells'),
+		narrowestGapCells: double('narrowest_gap_cells'),
 		durationMs: int('duration_ms').notNull(),
 		createdAt: createdAt()
 	},

@@ -116,6 +116,8 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 	return (await writeCheckResult(db, j, workerId, setup, report)) ? 'done' : 'lost';
 }
 
+const finiteOrNull = (x: number | undefined) => (x !== undefined && Number.isFinite(x) ? x : null);
+
 /**
  * Evaluates the gate on a finished report and writes the check run, its rule results and the
  * revision's new status in one transaction. False when the job's lease was lost meanwhile.
@@ -151,6 +153,10 @@ export async function writeCheckResult(db: Db, j: ClaimedJob, workerId: string, 
 				watertight: report.watertight,
 				severity: severityScore(outcomes),
 				failedRules: failed.length ? `,${failed.map((o) => o.rule).join(',')},` : '',
+				// In cells of the project's target cell size as it was at check time (the report's own
+				// figure), so the queue agrees with the report; a later cell-size change shows after a re-check.
+				thinnestWallCells: finiteOrNull(report.cellSizeChecks?.thinnestWall?.cells),
+				narrowestGapCells: finiteOrNull(report.cellSizeChecks?.narrowestGap?.cells),
 				durationMs: Math.round(report.timings.total ?? Object.values(report.timings).reduce((a, b) => a + b, 0))
 			})
 			.$returningId();

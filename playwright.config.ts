@@ -35,6 +35,8 @@ for (const name of PASS_THROUGH) {
 export default defineConfig({
 	testDir: 'tests',
 	testMatch: '**/*.e2e.ts',
+	// The viewer bench is a measurement, not a test: only `npm run bench:viewer` (VIEWER_BENCH=1) runs it.
+	testIgnore: process.env.VIEWER_BENCH ? [] : ['**/viewer-bench.e2e.ts'],
 	workers: 1,
 	retries: 0,
 	forbidOnly: !!process.env.CI,

@@ -30,3 +30,13 @@ export async function uploadAndOpen(page: Page, opts: { project: string; part: s
 	await page.getByRole('button', { name: 'Upload' }).click();
 	await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
 }
+
+/** As admin, sets one gate field of a project's profile and saves it as the next version. */
+export async function setProfileField(page: Page, project: string, set: (page: Page) => Promise<void>) {
+	await signInAs(page, 'admin');
+	await page.goto(`/projects/${project}`);
+	await set(page);
+	await page.getByRole('button', { name: /Save as version/ }).click();
+	await expect(page.getByText(/Saved as version/)).toBeVisible();
+	await signOut(page);
+}

@@ -1,5 +1,5 @@
 import { expect, test, type Page } from '@playwright/test';
-import { shot, signInAs, signOut } from './helpers';
+import { shot, signInAs, signOut, uploadAndOpen } from './helpers';
 
 const PART = `tow-repair-${Date.now().toString(36)}`;
 
@@ -21,11 +21,7 @@ test('an engineer repairs a held revision, cannot sign off their own repair, and
 	await setEngineerAlsoReviewer(page, true);
 	try {
 		await signInAs(page, 'designer');
-		await page.goto('/upload?project=tow-bodies');
-		await page.getByLabel('Part').fill(PART);
-		await page.getByLabel('Files').setInputFiles('fixtures/tow-body-hole.obj');
-		await page.getByRole('button', { name: 'Upload' }).click();
-		await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+		await uploadAndOpen(page, { project: 'tow-bodies', part: PART, file: 'fixtures/tow-body-hole.obj' });
 		await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
 		const heldUrl = page.url();
 		await signOut(page);
@@ -86,11 +82,7 @@ test('an engineer repairs a held revision, cannot sign off their own repair, and
 test('a repair outside its limits is held, shows the limits table, and the reviewer signs off only with an override', async ({ page }) => {
 	test.setTimeout(150_000);
 	await signInAs(page, 'designer');
-	await page.goto('/upload?project=sensor-pods');
-	await page.getByLabel('Part').fill(`${PART}-open-cube`);
-	await page.getByLabel('Files').setInputFiles('fixtures/cube-one-face-missing.stl');
-	await page.getByRole('button', { name: 'Upload' }).click();
-	await page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' }).click();
+	await uploadAndOpen(page, { project: 'sensor-pods', part: `${PART}-open-cube`, file: 'fixtures/cube-one-face-missing.stl' });
 	await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
 	const heldUrl = page.url();
 	await signOut(page);

@@ -1,16 +1,10 @@
 import { expect, test, type Page } from '@playwright/test';
-import { shot, signInAs, signOut, uploadAndOpen } from './helpers';
+import { setProfileField, shot, signInAs, signOut, uploadAndOpen } from './helpers';
 
 const PART = `pod-units-${Date.now().toString(36)}`;
 
-async function setSizeCheck(page: Page, mode: 'cells' | 'off') {
-	await signInAs(page, 'admin');
-	await page.goto('/projects/sensor-pods');
-	await page.getByLabel('size check mode').selectOption(mode);
-	await page.getByRole('button', { name: /Save as version/ }).click();
-	await expect(page.getByText(/Saved as version/)).toBeVisible();
-	await signOut(page);
-}
+const setSizeCheck = (page: Page, mode: 'cells' | 'off') =>
+	setProfileField(page, 'sensor-pods', (p) => p.getByLabel('size check mode').selectOption(mode).then(() => {}));
 
 test('a pod written in metres into the millimetre project is held with the likely factor, and the one-click rescale makes a revision that passes', async ({ page }) => {
 	test.setTimeout(150_000);

@@ -1,16 +1,9 @@
 import { expect, test, type Page } from '@playwright/test';
-import { shot, signInAs, signOut, uploadAndOpen } from './helpers';
+import { setProfileField, shot, signInAs, signOut, uploadAndOpen } from './helpers';
 
 const PART = `blocks-gap-${Date.now().toString(36)}`;
 
-async function setWallGap(page: Page, cells: string) {
-	await signInAs(page, 'admin');
-	await page.goto('/projects/sensor-pods');
-	await page.getByLabel('minimum wall and gap in cells').fill(cells);
-	await page.getByRole('button', { name: /Save as version/ }).click();
-	await expect(page.getByText(/Saved as version/)).toBeVisible();
-	await signOut(page);
-}
+const setWallGap = (page: Page, cells: string) => setProfileField(page, 'sensor-pods', (p) => p.getByLabel('minimum wall and gap in cells').fill(cells));
 
 test('two blocks 0.01 mm apart in the 2 mm-cell project are held by the walls-and-gaps rule, with the gap and where it is', async ({ page }) => {
 	test.setTimeout(120_000);

@@ -51,6 +51,10 @@ export interface IngestInput {
 	recipe?: unknown;
 	repairLog?: unknown;
 	note?: string | null;
+	/** The generator run the file belongs to (runs.ts finds or creates it), its iteration there and the generator's metadata. */
+	runId?: number | null;
+	iteration?: number | null;
+	meta?: unknown;
 }
 
 export interface IngestResult {
@@ -179,9 +183,14 @@ async function ingestLocked(db: Db, input: IngestInput, proj: { id: number; slug
 							parentRevisionId: input.parentRevisionId ?? null,
 							recipe: input.recipe ?? null,
 							repairLog: input.repairLog ?? null,
-							note: input.note?.slice(0, 500) ?? null
+							note: input.note?.slice(0, 500) ?? null,
+							runId: input.runId ?? null,
+							iteration: input.iteration ?? null,
+							meta: input.meta ?? null
 						})
 						.$returningId();
+					// The part row is locked above, so the newest number is also the newest revision here.
+					await tx.update(part).set({ latestRevisionId: r.id }).where(eq(part.id, pa.id));
 					await enqueueCheck(tx, r.id, config.checkAttempts);
 					await audit(tx, u.id, 'revision', r.id, input.source === 'repair' ? 'repair-created' : 'uploaded', null, 'awaiting-check', { sha256: spooled.sha256, size: spooled.size, parent: input.parentRevisionId ?? null });
 					return { revisionId: r.id, number: Number(next), status: 'awaiting-check' as const, duplicateOf: null, projectSlug: proj.slug, partSlug: pa.slug };

@@ -176,9 +176,41 @@ export const part = mysqlTable(
 			.references(() => project.id),
 		slug: varchar('slug', { length: 64 }).notNull(),
 		name: varchar('name', { length: 120 }).notNull(),
+		/**
+		 * The part's newest revision (highest number), set in the transaction that inserts it. The queue
+		 * shows only these by default: an older revision is superseded by it and leaves "Needs action".
+		 */
+		latestRevisionId: int('latest_revision_id').references((): AnyMySqlColumn => revision.id),
 		createdAt: createdAt()
 	},
 	(t) => [uniqueIndex('part_slug').on(t.projectId, t.slug)]
+);
+
+/**
+ * A generator run: a named batch of uploads from one optimiser or network run. `samples`: each file is
+ * a part of its own (samples of a family); `iterations`: each file is the next revision of one part,
+ * in iteration order (iterations of one design). The name is unique in the project, so a pipeline
+ * can name the run on every request and the first request creates it.
+ */
+export const RUN_KINDS = ['samples', 'iterations'] as const;
+export type RunKind = (typeof RUN_KINDS)[number];
+export const run = mysqlTable(
+	'run',
+	{
+		id: int('id').autoincrement().primaryKey(),
+		projectId: int('project_id')
+			.notNull()
+			.references(() => project.id),
+		name: varchar('name', { length: 120 }).notNull(),
+		kind: mysqlEnum('kind', RUN_KINDS).notNull().default('samples'),
+		createdBy: varchar('created_by', { length: 32 })
+			.notNull()
+			.references(() => user.id),
+		/** The newest revision id the last digest mail covered; the next digest covers the ones after it. */
+		digestThroughRevisionId: int('digest_through_revision_id'),
+		createdAt: createdAt()
+	},
+	(t) => [uniqueIndex('run_name').on(t.projectId, t.name)]
 );
 
 /** Content-addressed stored bytes; one row per distinct sha256 whatever the backend. */
@@ -213,6 +245,10 @@ export const revision = mysqlTable(
 		recipe: json('recipe'),
 		repairLog: json('repair_log'),
 		note: varchar('note', { length: 500 }),
+		/** The generator run the file came in with, its iteration number there, and the generator's own per-file metadata. */
+		runId: int('run_id').references((): AnyMySqlColumn => run.id),
+		iteration: int('iteration'),
+		meta: json('meta'),
 		status: mysqlEnum('status', REVISION_STATES).notNull().default('awaiting-check'),
 		statusReason: varchar('status_reason', { length: 1000 }),
 		assigneeId: varchar('assignee_id', { length: 32 }).references(() => user.id),
@@ -225,7 +261,8 @@ export const revision = mysqlTable(
 		uniqueIndex('revision_number').on(t.partId, t.number),
 		index('revision_status').on(t.status, t.createdAt),
 		index('revision_assignee').on(t.assigneeId),
-		index('revision_sha').on(t.partId, t.sha256)
+		index('revision_sha').on(t.partId, t.sha256),
+		index('revision_run').on(t.runId, t.id)
 	]
 );
 

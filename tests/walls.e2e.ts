@@ -23,7 +23,16 @@ test('two blocks 0.01 mm apart in the 2 mm-cell project are held by the walls-an
 		await page.screenshot({ path: shot('revision-walls-gaps-held'), fullPage: true });
 		// The viewer colours by gap width in cells (measured in a worker) and reads the value under the pointer.
 		await expect(page.getByTestId('mesh-viewer')).toHaveAttribute('data-status', 'ready', { timeout: 30_000 });
-		await page.getByTestId('viewer-cell-colour').selectOption('gap');
+		// The findings list has the gap and its two regions (one face each side): clicking the
+		// narrowest gap flies there and colours the part by gap width in cells.
+		await expect(page.getByTestId('finding-count-cells-gap')).toHaveText('2');
+		await expect(page.getByTestId('finding-count-cells-wall')).toHaveText('0');
+		const worst = page.getByTestId('finding-item-gap:min');
+		await expect(worst).toContainText('narrowest gap: 0.01 mm (0.005 cells)');
+		await expect(page.getByTestId('viewer-cell-findings').getByRole('button', { name: /^gap region/ })).toHaveCount(2);
+		await worst.click();
+		await expect(worst).toHaveAttribute('aria-current', 'true');
+		await expect(page.getByTestId('viewer-cell-colour')).toHaveValue('gap');
 		await expect(page.getByTestId('viewer-cells')).toHaveAttribute('data-cells', 'ready', { timeout: 30_000 });
 		await expect(page.getByTestId('viewer-cells')).toContainText(/gap width in cells of 2(\.0+)? mm/);
 		const canvas = page.getByTestId('mesh-viewer').locator('canvas').first();

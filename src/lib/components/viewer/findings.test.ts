@@ -1,5 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { buildFindings } from './findings';
+import { readFileSync } from 'node:fs';
+import { buildCellFindings, buildFindings, type FindingTarget } from './findings';
+import { inspectBytes } from '../../mesh/inspect';
 import { computeOverlays } from '../../mesh/overlays';
 import { inspectMesh } from '../../mesh/inspect';
 import { asParsed, unitCube, withoutFaces } from '../../mesh/test-meshes';
@@ -25,5 +27,36 @@ describe('buildFindings', () => {
 		const groups = buildFindings(null, computeOverlays(mesh, null), 'mm');
 		expect(groups.find((g) => g.kind === 'holes')!.count).toBe(1);
 		expect(groups.find((g) => g.kind === 'holes')!.note).toBe('viewer');
+	});
+});
+
+describe('buildCellFindings', () => {
+	// Two 20 × 10 × 10 mm blocks 0.01 mm apart along x (scripts/make-fixtures.ts), cells of 2 mm.
+	// Analytic: the gap is 0.01 mm = 0.005 cells, between the faces at x = 20 and x = 20.01.
+	const r = inspectBytes(new Uint8Array(readFileSync('fixtures/blocks-0.01-apart.stl')), 'blocks-0.01-apart.stl', { cellSize: 2 });
+
+	it('lists the narrowest gap with the ray across it, then each gap region, flying to where they are', () => {
+		const [walls, gaps] = buildCellFindings(r, 'mm');
+		expect(walls.which).toBe('wall');
+		expect(walls.count).toBe(0);
+		expect(gaps.count).toBe(2);
+		expect(gaps.note).toBe(`under ${r.cellSizeChecks!.thinCells} cells`);
+		const [worst, ...regions] = gaps.items;
+		expect(worst.label).toMatch(/^narrowest gap: 0\.01 mm \(0\.005 cells\)/);
+		const t = worst.target as FindingTarget;
+		// The ray runs from one block's face to the other's: its two ends lie on x = 20 and x = 20.01.
+		expect([t.segments![0], t.segments![3]].map((x) => Math.round(x * 100) / 100).sort()).toEqual([20, 20.01]);
+		expect(t.center[0]).toBeCloseTo(20.005, 4);
+		expect(regions).toHaveLength(2);
+		for (const g of regions) {
+			const tg = g.target as FindingTarget;
+			expect(Math.abs(tg.center[0] - 20.005)).toBeLessThan(0.01);
+			expect(tg.radius).toBeGreaterThanOrEqual(4);
+			expect(g.label).toMatch(/^gap region \d: 0\.01 mm \(0\.005 cells\) at least, 2 faces, 100 mm²$/);
+		}
+	});
+
+	it('is empty when the check had no cell size', () => {
+		expect(buildCellFindings(inspectBytes(new Uint8Array(readFileSync('fixtures/blocks-0.01-apart.stl')), 'b.stl'), 'mm')).toEqual([]);
 	});
 });

@@ -2,6 +2,7 @@
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import { loopForHole } from '$lib/mesh/overlays';
 import type { InspectionReport } from '$lib/mesh/report';
+import { fmtMeasure } from '$lib/format';
 import { KIND_ORDER, KIND_STYLE, type OverlayKind } from './palette';
 
 /** Where a finding sits: a point, a radius to frame, and what to highlight. */
@@ -182,4 +183,65 @@ export function buildFindings(report: InspectionReport | null, o: MeshOverlays |
 		groups.push({ kind, label, count, note, items, more: Math.max(0, total - items.length) });
 	}
 	return groups;
+}
+
+/** Walls and gaps thinner than the gate's cells, from the report's cell-size checks (not an overlay kind: the colouring by cells across shows them). */
+export interface CellFindingGroup {
+	which: 'wall' | 'gap';
+	label: string;
+	/** Regions under the threshold (before the report's cap). */
+	count: number;
+	note: string;
+	items: FindingItem[];
+	/** Regions the report left out (it keeps the largest 20 of each). */
+	more: number;
+}
+
+/**
+ * The thinnest wall and the narrowest gap (with the ray across them as a line) and each region of
+ * faces under the threshold, largest first, as the report lists them. Empty when the check ran
+ * without a cell size.
+ */
+export function buildCellFindings(report: InspectionReport | null, units: string): CellFindingGroup[] {
+	const c = report?.cellSizeChecks;
+	if (!c) return [];
+	const cellsText = (x: number) => `${x.toLocaleString('en-US', { maximumSignificantDigits: 2 })} cells`;
+	const out: CellFindingGroup[] = [];
+	for (const which of ['wall', 'gap'] as const) {
+		const worst = which === 'wall' ? c.thinnestWall : c.narrowestGap;
+		const regions = which === 'wall' ? c.wallRegions : c.gapRegions;
+		const regionCount = which === 'wall' ? c.wallRegionCount : c.gapRegionCount;
+		const noun = which === 'wall' ? 'wall' : 'gap';
+		const items: FindingItem[] = [];
+		if (worst) {
+			const seg = Float32Array.of(...worst.from, ...worst.to);
+			items.push({
+				key: `${which}:min`,
+				label: `${which === 'wall' ? 'thinnest wall' : 'narrowest gap'}: ${fmtMeasure(worst.value, units, 1)} (${cellsText(worst.cells)}), faces ${worst.face} and ${worst.otherFace}`,
+				target: {
+					center: [0.5 * (worst.from[0] + worst.to[0]), 0.5 * (worst.from[1] + worst.to[1]), 0.5 * (worst.from[2] + worst.to[2])],
+					radius: Math.max(worst.value, 3 * c.cellSize),
+					segments: seg,
+					faces: Uint32Array.of(worst.face, worst.otherFace)
+				}
+			});
+		}
+		regions.forEach((g, i) => {
+			items.push({
+				key: `${which}:region:${i}`,
+				label: `${noun} region ${i + 1}: ${fmtMeasure(g.min, units, 1)} (${cellsText(g.minCells)}) at least, ${g.faces.toLocaleString('en')} faces, ${fmtMeasure(g.area, units, 2)}`,
+				// The region's size from its area: a disc of that area, at least a few cells across.
+				target: { center: [g.centroid[0], g.centroid[1], g.centroid[2]], radius: Math.max(Math.sqrt(g.area / Math.PI), 2 * c.cellSize), faces: Uint32Array.of(g.minFace) }
+			});
+		});
+		out.push({
+			which,
+			label: which === 'wall' ? 'Thin walls' : 'Narrow gaps',
+			count: regionCount,
+			note: `under ${c.thinCells} cells`,
+			items,
+			more: Math.max(0, regionCount - regions.length)
+		});
+	}
+	return out;
 }

@@ -14,8 +14,8 @@ import { createRequire } from 'node:module';
 import { availableParallelism, loadavg } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { towBody, type ImplicitShape } from '../src/lib/mesh/implicit-shapes';
-import { gridFor, marchingCubes } from '../src/lib/mesh/marching-cubes';
+import { towBody, type ImplicitShape } from '../src/lib/mesh/testing/implicit-shapes';
+import { gridFor, marchingCubes } from '../src/lib/mesh/testing/marching-cubes';
 import { writeBinaryStl } from '../src/lib/mesh/write';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');

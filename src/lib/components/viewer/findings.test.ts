@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { buildFindings } from './findings';
 import { computeOverlays } from '../../mesh/overlays';
 import { inspectMesh } from '../../mesh/inspect';
-import { asParsed, unitCube, withoutFaces } from '../../mesh/test-meshes';
+import { asParsed, unitCube, withoutFaces } from '../../mesh/testing/test-meshes';
 
 describe('buildFindings', () => {
 	it('takes counts from the report and lists each hole with its perimeter', () => {

@@ -8,12 +8,12 @@
  */
 import os from 'node:os';
 import { pathToFileURL } from 'node:url';
-import { towBody } from '../src/lib/mesh/implicit-shapes';
-import { gridFor, marchingCubes } from '../src/lib/mesh/marching-cubes';
+import { towBody } from '../src/lib/mesh/testing/implicit-shapes';
+import { gridFor, marchingCubes } from '../src/lib/mesh/testing/marching-cubes';
 import { applyStep, meshDeviation, STANDARD_RECIPE } from '../src/lib/mesh/repair';
-import { defectiveMesh } from '../src/lib/mesh/repair/test-support';
+import { defectiveMesh } from '../src/lib/mesh/testing/repair-support';
 import { inspectMesh } from '../src/lib/mesh/inspect';
-import { asParsed } from '../src/lib/mesh/test-meshes';
+import { asParsed } from '../src/lib/mesh/testing/test-meshes';
 
 export interface RepairBenchRow {
 	step: string;

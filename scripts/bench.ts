@@ -1,11 +1,11 @@
 /**
- * `npm run bench`: marching-cubes tow bodies (fixed seed) at about 100 k, 1 M and 2 M triangles,
+ * `npm run bench`: marching-cubes tow bodies (fixed seed) at about 35 k, 90 k, 200 k, 1 M and 2 M triangles,
  * written as binary STL into bench-out/ (kept between runs), then every bench case run on every
  * size, each in its own child process (scripts/bench-one.ts) so peak memory does not mix.
  *
  * Then the reader and repair benchmarks (scripts/bench-readers.ts, scripts/bench-repair.ts).
  *
- * Env: BENCH_SIZES=100k,1m (subset of sizes), BENCH_CASES=report,repair (subset of cases), BENCH_REGEN=1.
+ * Env: BENCH_SIZES=35k,1m (subset of sizes: 35k, 90k, 100k, 200k, 1m, 2m; default all but 100k), BENCH_CASES=report,repair (subset of cases), BENCH_REGEN=1.
  * To add a row kind, add a case in scripts/bench-one.ts and its name to CASE_ORDER below.
  */
 import { spawnSync } from 'node:child_process';
@@ -14,8 +14,8 @@ import { createRequire } from 'node:module';
 import { availableParallelism, loadavg } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { towBody, type ImplicitShape } from '../src/lib/mesh/implicit-shapes';
-import { gridFor, marchingCubes } from '../src/lib/mesh/marching-cubes';
+import { towBody, type ImplicitShape } from '../src/lib/mesh/testing/implicit-shapes';
+import { gridFor, marchingCubes } from '../src/lib/mesh/testing/marching-cubes';
 import { writeBinaryStl } from '../src/lib/mesh/write';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
@@ -28,12 +28,18 @@ interface SizeSpec {
 }
 
 const SIZES: SizeSpec[] = [
+	{ id: '35k', targetTris: 35_000, shape: () => towBody(1) },
+	{ id: '90k', targetTris: 90_000, shape: () => towBody(1) },
 	{ id: '100k', targetTris: 100_000, shape: () => towBody(1) },
+	{ id: '200k', targetTris: 200_000, shape: () => towBody(1) },
 	{ id: '1m', targetTris: 1_000_000, shape: () => towBody(1) },
 	{ id: '2m', targetTris: 2_000_000, shape: () => towBody(1) }
 ];
 
-const CASE_ORDER = ['report', 'report-warm', 'self-intersect-1t', 'self-intersect-2w'];
+/** 100k stays available (BENCH_SIZES=100k) for the figures quoted beside the cell-size checks. */
+const DEFAULT_SIZES = ['35k', '90k', '200k', '1m', '2m'];
+
+const CASE_ORDER = ['cli', 'report', 'report-warm', 'self-intersect-1t', 'self-intersect-2w'];
 
 /** Bump when the generator or shapes change, so cached meshes in bench-out/ are rebuilt. */
 const GEN_VERSION = 2;
@@ -82,7 +88,43 @@ const MALLOC_ENV = {
 	MALLOC_TRIM_THRESHOLD_: process.env.MALLOC_TRIM_THRESHOLD_ ?? '1073741824'
 };
 
+/**
+ * The command line as a user runs it: a fresh process from start to exit, `--json`. Wall time of
+ * the whole process; peak RSS and CPU time from /usr/bin/time; stages from the report's timings.
+ */
+function runCli(file: string): Omit<Row, 'size' | 'tris' | 'load'> {
+	const { cmd, label } = cliCommand();
+	const t0 = performance.now();
+	const res = spawnSync('/usr/bin/time', ['-f', 'BENCH-TIME %M %U %S', ...cmd, file, '--json'], {
+		env: { ...process.env, ...MALLOC_ENV },
+		encoding: 'utf8',
+		maxBuffer: 1 << 26
+	});
+	const wallMs = performance.now() - t0;
+	if (res.status !== 0) throw new Error(`command line on ${file} failed:\n${res.stderr}`);
+	const m = /BENCH-TIME (\d+) ([\d.]+) ([\d.]+)/.exec(res.stderr);
+	if (!m) throw new Error(`no /usr/bin/time figures in:\n${res.stderr}`);
+	const report = JSON.parse(res.stdout) as { timings: Record<string, number>; selfIntersectingPairs: number | null };
+	return {
+		case: 'cli',
+		wallMs,
+		cpuMs: (Number(m[2]) + Number(m[3])) * 1000,
+		stages: report.timings,
+		extra: { pairs: report.selfIntersectingPairs ?? -1, path: label },
+		maxRssMB: Number(m[1]) / 1024
+	};
+}
+
+/** The built command line (npm run build:cli) when there is one, else the TypeScript source under tsx. */
+function cliCommand(): { cmd: string[]; label: string } {
+	const built = join(root, 'dist-cli/cli.js');
+	if (existsSync(built)) return { cmd: [process.execPath, built], label: 'node dist-cli/cli.js' };
+	const tsxCli = createRequire(import.meta.url).resolve('tsx/cli');
+	return { cmd: [process.execPath, tsxCli, join(root, 'src/lib/mesh/cli.ts')], label: 'tsx src/lib/mesh/cli.ts' };
+}
+
 function runCase(caseName: string, file: string): Omit<Row, 'size' | 'tris' | 'load'> {
+	if (caseName === 'cli') return runCli(file);
 	const tsxCli = createRequire(import.meta.url).resolve('tsx/cli');
 	const res = spawnSync(process.execPath, [tsxCli, join(root, 'scripts/bench-one.ts'), caseName, file], {
 		env: { ...process.env, ...MALLOC_ENV },
@@ -100,7 +142,7 @@ function main(): void {
 	mkdirSync(outDir, { recursive: true });
 	const sizeFilter = process.env.BENCH_SIZES?.split(',');
 	const caseFilter = process.env.BENCH_CASES?.split(',');
-	const sizes = SIZES.filter((s) => !sizeFilter || sizeFilter.includes(s.id));
+	const sizes = SIZES.filter((s) => (sizeFilter ? sizeFilter.includes(s.id) : DEFAULT_SIZES.includes(s.id)));
 	const cases = CASE_ORDER.filter((c) => !caseFilter || caseFilter.includes(c));
 	const rows: Row[] = [];
 	for (const size of sizes) {

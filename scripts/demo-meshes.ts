@@ -1,7 +1,7 @@
 // Demo meshes for `npm start`: marching-cubes surfaces of the team's parts, some with the defects
 // implicit-surface generators typically leave. Deterministic (fixed seeds), a few thousand faces each.
-import { marchingCubes, gridFor } from '../src/lib/mesh/marching-cubes';
-import { keelBulb, sensorPod, sphere, torus, towBody, type ImplicitShape } from '../src/lib/mesh/implicit-shapes';
+import { marchingCubes, gridFor } from '../src/lib/mesh/testing/marching-cubes';
+import { keelBulb, sensorPod, sphere, torus, towBody, type ImplicitShape } from '../src/lib/mesh/testing/implicit-shapes';
 import type { MeshBuffers } from '../src/lib/mesh/types';
 import { writeBinaryStl, writeObj, writePly } from '../src/lib/mesh/write';
 

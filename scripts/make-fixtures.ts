@@ -5,7 +5,7 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { writeAsciiStl, writeBinaryStl, writeObj, writePly } from '../src/lib/mesh/write';
-import { torus } from '../src/lib/mesh/test-meshes';
+import { torus } from '../src/lib/mesh/testing/test-meshes';
 
 const dir = join(import.meta.dirname, '..', 'fixtures');
 mkdirSync(dir, { recursive: true });

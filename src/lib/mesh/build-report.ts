@@ -1,5 +1,7 @@
 /** Assembles the InspectionReport from topology, measures, projections and hints. */
-import { DEFAULT_MAX_FACES, MeshReadError, type ParsedMesh } from './types';
+import { DEFAULT_MAX_FACES, type ParsedMesh } from './types';
+import { validateMesh } from './validate';
+import { indexedBounds } from './bounds';
 import { analyseTopology, collapsedFaces, type TopologyResult } from './topology';
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
 import { REFINE, silhouetteArea, type SilhouetteScratch } from './projection';
@@ -17,7 +19,7 @@ import {
 	type Tolerances,
 	type VolumeUndefinedReason,
 	type Vec3
-} from './report';
+} from './report-types';
 
 const PLANES: BboxPlane[] = ['x-min', 'y-min', 'z-min', 'x-max', 'y-max', 'z-max'];
 
@@ -37,10 +39,11 @@ function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, t
 	const eps = tol.planeRel * diag;
 	const holes: HoleInfo[] = [];
 	const COS_CORNER = Math.cos((10 * Math.PI) / 180), COS_STRAIGHT = Math.cos((0.5 * Math.PI) / 180);
+	const box = new Float64Array(6);
 	for (let l = 0; l < loopCount; l++) {
 		let per = 0, per2 = 0, sx = 0, sy = 0, sz = 0, corners = 0, straight = 0;
-		let x0 = Infinity, y0 = Infinity, z0 = Infinity, x1 = -Infinity, y1 = -Infinity, z1 = -Infinity;
 		const s = loopStart[l], n = loopStart[l + 1] - s;
+		const [x0, y0, z0, x1, y1, z1] = indexedBounds(p, loopVerts, s, s + n, box);
 		for (let i = s; i < s + n; i++) {
 			const e = loopEdges[i];
 			const a3 = 3 * edgeLo[e], b3 = 3 * edgeHi[e];
@@ -56,16 +59,9 @@ function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, t
 			const cos = il > 0 && ol > 0 ? (ix * ox + iy * oy + iz * oz) / (il * ol) : 1;
 			if (cos < COS_CORNER) corners++;
 			else if (cos > COS_STRAIGHT) straight++;
-			const x = p[v3], y = p[v3 + 1], z = p[v3 + 2];
-			sx += x;
-			sy += y;
-			sz += z;
-			if (x < x0) x0 = x;
-			if (x > x1) x1 = x;
-			if (y < y0) y0 = y;
-			if (y > y1) y1 = y;
-			if (z < z0) z0 = z;
-			if (z > z1) z1 = z;
+			sx += p[v3];
+			sy += p[v3 + 1];
+			sz += p[v3 + 2];
 		}
 		const lmin = [x0, y0, z0], lmax = [x1, y1, z1];
 		let onPlane: BboxPlane | null = null;
@@ -118,25 +114,13 @@ export function exactWeldPreview(parsed: ParsedMesh): ExactWeldPreview | null {
 	};
 }
 
-/** Refuse what cannot be measured, before any stage starts: too many faces, non-finite coordinates. */
-export function validateMesh(parsed: { positions: Float64Array; indices: Uint32Array }, maxFaces = DEFAULT_MAX_FACES): void {
-	const triCount = (parsed.indices.length / 3) | 0;
-	if (triCount > maxFaces) throw new MeshReadError(`mesh has ${triCount} triangles, more than the limit of ${maxFaces}`);
-	const pos = parsed.positions;
-	for (let i = 0; i < pos.length; i++) {
-		if (!Number.isFinite(pos[i])) {
-			throw new MeshReadError(`vertex ${(i / 3) | 0} has a coordinate that is not a finite number (${pos[i]}); the mesh cannot be measured`);
-		}
-	}
-}
-
 /** Build the full report (self-intersections come in through opts.selfIntersections). */
 export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): InspectionReport {
 	const timings: Record<string, number> = { ...(opts.timings ?? {}) };
 	const triCount = (parsed.indices.length / 3) | 0;
 	const vertCount = (parsed.positions.length / 3) | 0;
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
-	validateMesh(parsed, maxFaces);
+	validateMesh(parsed, { maxFaces });
 	const flow = normaliseDirection(opts.flowDirection);
 	const progress = (stage: string, percent: number) => opts.onProgress?.(stage, percent);
 	const tol: Tolerances = {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { buildBvh, f32Down, f32Up, sortByCode, sortByCodeInto } from './bvh';
 import { sortLiveFaces, sortLiveFacesInto } from './self-intersect';
-import { mulberry32 } from './implicit-shapes';
+import { mulberry32 } from './testing/implicit-shapes';
 
 describe('flat BVH', () => {
 	it('rounds to float32 outward: f32Down(x) ≤ x ≤ f32Up(x), both float32 (seed 5)', () => {

@@ -5,7 +5,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { writeBinaryStl } from './write';
-import { concat, unitCube, withoutFaces } from './test-meshes';
+import { concat, unitCube, withoutFaces } from './testing/test-meshes';
 
 const cli = fileURLToPath(new URL('./cli.ts', import.meta.url));
 const tsx = fileURLToPath(new URL('../../../node_modules/.bin/tsx', import.meta.url));

@@ -5,7 +5,7 @@
  */
 import { readFileSync, writeSync } from 'node:fs';
 import { inspectFileNode, type InspectNodeOptions } from './inspect-node';
-import { volumeReasonText, type InspectionReport, type Vec3 } from './report';
+import { volumeReasonText, type InspectionReport, type Vec3 } from './report-types';
 
 const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--no-self-intersections]';
 

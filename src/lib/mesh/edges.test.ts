@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { buildEdges, OPP_BOUNDARY, OPP_NON_MANIFOLD } from './edges';
 import { analyseTopology, collapsedFaces } from './topology';
-import { mulberry32 } from './implicit-shapes';
+import { mulberry32 } from './testing/implicit-shapes';
 
 /** Brute-force oracle: string-keyed map of undirected vertex pairs → halfedges. */
 function oracle(indices: Uint32Array, skip?: Uint8Array): Map<string, number[]> {

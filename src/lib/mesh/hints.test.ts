@@ -7,11 +7,11 @@
 import { describe, expect, it } from 'vitest';
 import { buildReport } from './build-report';
 import { inspectBytes } from './inspect';
-import { marchingCubes } from './marching-cubes';
-import { sphere } from './implicit-shapes';
-import { asParsed, concat, icosphere, torus, unitCube, voxelSurface, withoutFaces } from './test-meshes';
+import { marchingCubes } from './testing/marching-cubes';
+import { sphere } from './testing/implicit-shapes';
+import { asParsed, concat, icosphere, torus, unitCube, voxelSurface, withoutFaces } from './testing/test-meshes';
 import { writeObj, writePly } from './write';
-import type { HintKind, InspectionReport } from './report';
+import type { HintKind, InspectionReport } from './report-types';
 import type { MeshBuffers } from './types';
 
 const kinds = (r: InspectionReport) => r.hints.map((h) => h.kind);

@@ -3,7 +3,7 @@
  * named only where the measures point to it (see looksCut).
  */
 import type { EdgeTable } from './edges';
-import type { Bbox, ExactWeldPreview, Hint, HoleInfo, ShellInfo, Tolerances } from './report';
+import type { Bbox, ExactWeldPreview, Hint, HoleInfo, ShellInfo, Tolerances } from './report-types';
 
 export interface HintInput {
 	shells: ShellInfo[];

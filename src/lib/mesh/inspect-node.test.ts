@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { inspectFileNode } from './inspect-node';
 import { inspectBytes } from './inspect';
 import { writeBinaryStl } from './write';
-import { concat, icosphere, unitCube } from './test-meshes';
+import { concat, icosphere, unitCube } from './testing/test-meshes';
 
 describe('inspectFileNode', () => {
 	it('gives the same report as the one-thread inspection, timings and sample choice aside', async () => {

@@ -6,7 +6,7 @@
 import { availableParallelism } from 'node:os';
 import { readMesh } from './read';
 import { startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
-import { validateMesh } from './build-report';
+import { validateMesh } from './validate';
 import { buildReport, type InspectionReport } from './report';
 import type { InspectRunOptions } from './inspect';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
@@ -35,7 +35,7 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
 	const parsed = readMesh(bytes, fileName, { maxFaces });
 	const timings: Record<string, number> = { ...(opts.timings ?? {}), read: performance.now() - t0 };
-	validateMesh(parsed, maxFaces);
+	validateMesh(parsed, { maxFaces });
 	// Started before the synchronous analysis below so the workers run alongside it. A rejection
 	// is caught here and rethrown at the await, so it never goes unhandled meanwhile.
 	const siRun = opts.skipSelfIntersections ? null : startSelfIntersections(parsed, { sampleLimit: opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT, threads, signal: opts.signal });

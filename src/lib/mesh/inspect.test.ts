@@ -3,9 +3,9 @@ import { inspectBytes, inspectMesh } from './inspect';
 import { MeshReadError } from './types';
 import { writeAsciiStl, writeBinaryStl, writeObj, writePly } from './write';
 import type { MeshBuffers } from './types';
-import type { InspectionReport } from './report';
-import { asParsed, concat, flipFaces, mobiusStrip, unitCube, weldExact, withoutFaces } from './test-meshes';
-import { expectClose } from './test-close';
+import type { InspectionReport } from './report-types';
+import { asParsed, concat, flipFaces, mobiusStrip, unitCube, weldExact, withoutFaces } from './testing/test-meshes';
+import { expectClose } from './testing/test-close';
 
 // Every defect is written in every format and read back, so readers, weld and analysis agree.
 const FORMATS: [string, (m: MeshBuffers) => Uint8Array][] = [

@@ -1,7 +1,7 @@
 /** Synchronous inspection entry points: bytes or a parsed mesh in, InspectionReport out. */
 import { readMesh } from './read';
 import { findSelfIntersections } from './self-intersect';
-import { validateMesh } from './build-report';
+import { validateMesh } from './validate';
 import { buildReport, type InspectionReport, type InspectOptions } from './report';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
 import { analyseCellSize, cellSizeChecksOf, DEFAULT_THIN_CELLS } from './thickness';
@@ -16,7 +16,7 @@ export interface InspectRunOptions extends InspectOptions {
 export function inspectMesh(parsed: ParsedMesh, opts: InspectRunOptions = {}): InspectionReport {
 	const t0 = performance.now();
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
-	validateMesh(parsed, maxFaces);
+	validateMesh(parsed, { maxFaces });
 	const si = opts.skipSelfIntersections ? null : findSelfIntersections(parsed, { sampleLimit: opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT });
 	const report = buildReport(parsed, { ...opts, selfIntersections: si });
 	if (opts.cellSize !== undefined && report.faces > 0) {

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { computeOverlays, loopForHole, overlayTransferables } from './overlays';
 import { inspectMesh } from './inspect';
-import { asParsed, concat, flipFaces, icosphere, unitCube, weldExact, withoutFaces } from './test-meshes';
-import { expectClose } from './test-close';
+import { asParsed, concat, flipFaces, icosphere, unitCube, weldExact, withoutFaces } from './testing/test-meshes';
+import { expectClose } from './testing/test-close';
 import type { MeshBuffers } from './types';
 
 const cube = unitCube();

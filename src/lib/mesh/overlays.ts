@@ -7,7 +7,7 @@
  */
 import { analyseTopology, collapsedFaces } from './topology';
 import { measureFaces } from './quality';
-import type { InspectionReport } from './report';
+import type { InspectionReport } from './report-types';
 import type { MeshBuffers } from './types';
 import { DEFAULT_TOLERANCES } from './tolerances';
 import { smallShellIds } from './hints';

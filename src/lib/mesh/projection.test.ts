@@ -1,12 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import { segmentCells, silhouetteArea } from './projection';
-import { gridFor, marchingCubes } from './marching-cubes';
-import { sphere as sphereShape } from './implicit-shapes';
+import { gridFor, marchingCubes } from './testing/marching-cubes';
+import { sphere as sphereShape } from './testing/implicit-shapes';
 import { analyseTopology, collapsedFaces } from './topology';
-import { concat, icosphere, torus, unitCube } from './test-meshes';
+import { concat, icosphere, torus, unitCube } from './testing/test-meshes';
 import type { MeshBuffers } from './types';
-import type { Vec3 } from './report';
-import { expectClose } from './test-close';
+import type { Vec3 } from './report-types';
+import { expectClose } from './testing/test-close';
 
 function shadow(m: MeshBuffers, d: Vec3, cells: number, oneSided = false) {
 	const { mask } = collapsedFaces(m.indices);

@@ -11,7 +11,7 @@
  * O(F + E + covered cells + refined samples).
  */
 import type { EdgeTable } from './edges';
-import type { Vec3 } from './report';
+import type { Vec3 } from './report-types';
 
 export interface SilhouetteArea {
 	area: number;

@@ -1,10 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { buildReport } from './report';
-import { marchingCubes } from './marching-cubes';
-import { sphere } from './implicit-shapes';
-import { asParsed, concat, unitCube } from './test-meshes';
+import { marchingCubes } from './testing/marching-cubes';
+import { sphere } from './testing/implicit-shapes';
+import { asParsed, concat, unitCube } from './testing/test-meshes';
 import type { MeshBuffers } from './types';
-import { expectClose } from './test-close';
+import { expectClose } from './testing/test-close';
 
 const tri = (p: number[]): MeshBuffers => ({ positions: Float64Array.from(p), indices: Uint32Array.from([0, 1, 2]) });
 const qualityOf = (m: MeshBuffers) => {

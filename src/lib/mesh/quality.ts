@@ -3,8 +3,9 @@
  * edge-length and face-quality histograms. One pass each, O(F + E).
  */
 import { isDegenerateTriangle } from './predicates';
+import { indexedBounds } from './bounds';
 import type { EdgeTable } from './edges';
-import type { Bbox, Histogram } from './report';
+import type { Bbox, Histogram } from './report-types';
 import { EDGE_LENGTH_BINS as EDGE_LENGTH_BINS_IMPORT, FACE_QUALITY_BINS as FACE_QUALITY_BINS_IMPORT } from './tolerances';
 
 // Bound once (see predicates.ts: some loaders make each use of an import a getter call).
@@ -30,17 +31,7 @@ export interface FaceMeasures {
 
 /** Bbox of the vertices the faces reference (unreferenced vertices do not count). */
 export function referencedBbox(positions: Float64Array, indices: Uint32Array): Bbox {
-	let x0 = Infinity, y0 = Infinity, z0 = Infinity, x1 = -Infinity, y1 = -Infinity, z1 = -Infinity;
-	for (let i = 0; i < indices.length; i++) {
-		const v3 = 3 * indices[i];
-		const x = positions[v3], y = positions[v3 + 1], z = positions[v3 + 2];
-		if (x < x0) x0 = x;
-		if (x > x1) x1 = x;
-		if (y < y0) y0 = y;
-		if (y > y1) y1 = y;
-		if (z < z0) z0 = z;
-		if (z > z1) z1 = z;
-	}
+	const [x0, y0, z0, x1, y1, z1] = indexedBounds(positions, indices);
 	if (x0 > x1) return { min: [0, 0, 0], max: [0, 0, 0] };
 	return { min: [x0, y0, z0], max: [x1, y1, z1] };
 }

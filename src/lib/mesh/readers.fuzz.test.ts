@@ -6,8 +6,8 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { inspectBytes } from './inspect';
-import { gridFor, marchingCubes } from './marching-cubes';
-import { sphere, torus } from './implicit-shapes';
+import { gridFor, marchingCubes } from './testing/marching-cubes';
+import { sphere, torus } from './testing/implicit-shapes';
 import { MeshReadError } from './types';
 import { writeAsciiStl, writeBinaryStl, writeObj, writePly } from './write';
 

@@ -3,11 +3,11 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import Module from 'manifold-3d';
 import bunny from 'bunny';
 import { buildReport } from './report';
-import { marchingCubes, gridFor } from './marching-cubes';
-import { genusRings, sphere } from './implicit-shapes';
-import { asParsed, icosphere, plateWithHoles, torus, unitCube } from './test-meshes';
+import { marchingCubes, gridFor } from './testing/marching-cubes';
+import { genusRings, sphere } from './testing/implicit-shapes';
+import { asParsed, icosphere, plateWithHoles, torus, unitCube } from './testing/test-meshes';
 import type { MeshBuffers } from './types';
-import { expectClose } from './test-close';
+import { expectClose } from './testing/test-close';
 
 const report = (m: MeshBuffers) => buildReport(asParsed(m), { rasterCells: 256 });
 

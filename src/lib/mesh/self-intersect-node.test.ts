@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { mulberry32, sphere, towBody } from './implicit-shapes';
-import { gridFor, marchingCubes } from './marching-cubes';
+import { mulberry32, sphere, towBody } from './testing/implicit-shapes';
+import { gridFor, marchingCubes } from './testing/marching-cubes';
 import { findSelfIntersections } from './self-intersect';
 import { closeSelfIntersectPool, findSelfIntersectionsParallel, startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
 

@@ -34,7 +34,6 @@ import { isWorkerFor, spawnModuleWorker } from './module-worker-node';
 const WORKER_TAG = 'shellgate-self-intersect';
 import { buildBvhSorted, bvhFromStore, bvhMaxNodes, type BvhNodeStore } from './bvh';
 import {
-	DEFAULT_SAMPLE_LIMIT,
 	DEFAULT_TASK_TARGET,
 	LEAF_SIZE,
 	codeFrame,
@@ -42,12 +41,13 @@ import {
 	findInPrepared,
 	gatherSlots,
 	sortLiveFacesInto,
-	validateMesh,
 	type PreparedMesh,
 	type SelfIntersectionResult,
 	type SlotArrays
 } from './self-intersect';
 import type { MeshBuffers } from './types';
+import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
+import { validateMesh } from './validate';
 
 export interface ParallelSelfIntersectionOptions {
 	sampleLimit?: number;

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { genusRings, mulberry32, sphere, torus, towBody } from './implicit-shapes';
-import { gridFor, marchingCubes } from './marching-cubes';
+import { genusRings, mulberry32, sphere, torus, towBody } from './testing/implicit-shapes';
+import { gridFor, marchingCubes } from './testing/marching-cubes';
 import { findSelfIntersections } from './self-intersect';
 import type { MeshBuffers } from './types';
 
@@ -195,7 +195,7 @@ describe('findSelfIntersections pair rules on constructed cases', () => {
 
 	it('reports clear errors for out-of-range indices and non-finite coordinates', () => {
 		expect(() => findSelfIntersections(mesh([[0, 0, 0]], [[0, 0, 5]]))).toThrow(/refers to vertex 5/);
-		expect(() => findSelfIntersections(mesh([[0, 0, NaN], [1, 0, 0], [0, 1, 0]], [[0, 1, 2]]))).toThrow(/non-finite/);
+		expect(() => findSelfIntersections(mesh([[0, 0, NaN], [1, 0, 0], [0, 1, 0]], [[0, 1, 2]]))).toThrow(/vertex 0 has a coordinate that is not a finite number/);
 	});
 
 	it('handles an empty mesh', () => {

@@ -32,6 +32,9 @@
 import { buildBvhSorted, f32Down as f32DownImport, f32Up as f32UpImport, morton3 as morton3Import, mortonScale, sortByCode, sortByCodeInto, type FlatBvh } from './bvh';
 import { ccw2 as ccw2Import, dropAxis as dropAxisImport, isDegenerateTriangle, side3 as side3Import } from './predicates';
 import type { MeshBuffers } from './types';
+import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
+import { validateMesh } from './validate';
+import { pointBounds } from './bounds';
 
 // Bound once (see predicates.ts: some loaders make each use of an import a getter call).
 const ccw2 = ccw2Import;
@@ -89,7 +92,6 @@ export interface SelfIntersectionOptions {
 	taskTarget?: number;
 }
 
-export const DEFAULT_SAMPLE_LIMIT = 100;
 export const DEFAULT_TASK_TARGET = 512;
 
 /** Triangle data in BVH slot order: slot k holds face faceOf[k]. */
@@ -122,20 +124,6 @@ function isDegenerate(positions: Float64Array, a: number, b: number, c: number):
 	return isDegenerateTriangle(positions, a, b, c);
 }
 
-/** Checks buffer shapes, index range and finite coordinates; throws a message a person can act on. */
-export function validateMesh(mesh: MeshBuffers): void {
-	const { positions, indices } = mesh;
-	if (indices.length % 3 !== 0) throw new Error(`Triangle index buffer length ${indices.length} is not a multiple of 3.`);
-	if (positions.length % 3 !== 0) throw new Error(`Position buffer length ${positions.length} is not a multiple of 3.`);
-	const vertCount = positions.length / 3;
-	for (let i = 0; i < positions.length; i++) {
-		if (!Number.isFinite(positions[i])) throw new Error(`Vertex ${Math.floor(i / 3)} has a non-finite coordinate.`);
-	}
-	for (let i = 0; i < indices.length; i++) {
-		if (indices[i] >= vertCount) throw new Error(`Face ${Math.floor(i / 3)} refers to vertex ${indices[i]}, but the mesh has ${vertCount} vertices.`);
-	}
-}
-
 /** Morton quantisation of box centres (times two), from the bounds of all positions. */
 export interface CodeFrame {
 	lx: number;
@@ -147,16 +135,7 @@ export interface CodeFrame {
 }
 
 export function codeFrame(positions: Float64Array): CodeFrame {
-	let lx = Infinity, ly = Infinity, lz = Infinity, hx = -Infinity, hy = -Infinity, hz = -Infinity;
-	for (let v3 = 0; v3 < positions.length; v3 += 3) {
-		const x = positions[v3], y = positions[v3 + 1], z = positions[v3 + 2];
-		if (x < lx) lx = x;
-		if (x > hx) hx = x;
-		if (y < ly) ly = y;
-		if (y > hy) hy = y;
-		if (z < lz) lz = z;
-		if (z > hz) hz = z;
-	}
+	const [lx, ly, lz, hx, hy, hz] = pointBounds(positions);
 	return { lx: 2 * lx, ly: 2 * ly, lz: 2 * lz, sx: mortonScale(2 * lx, 2 * hx), sy: mortonScale(2 * ly, 2 * hy), sz: mortonScale(2 * lz, 2 * hz) };
 }
 

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { mulberry32, type ImplicitShape } from './implicit-shapes';
-import { gridFor, marchingCubes } from './marching-cubes';
+import { mulberry32, type ImplicitShape } from './testing/implicit-shapes';
+import { gridFor, marchingCubes } from './testing/marching-cubes';
 import { faceDistancesBruteForce } from './testing/thickness-oracle';
-import { concat, flipFaces, icosphere, torus, unitCube } from './test-meshes';
-import { expectClose } from './test-close';
+import { concat, flipFaces, icosphere, torus, unitCube } from './testing/test-meshes';
+import { expectClose } from './testing/test-close';
 import { analyseCellSize, edgesToObj, faceDistances, faceDistancesBoth, longEdges, sharpEdges } from './thickness';
 import type { MeshBuffers } from './types';
 

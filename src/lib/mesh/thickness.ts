@@ -30,7 +30,8 @@
 import { buildBvhSorted, f32Down, f32Up, morton3, mortonScale, sortByCode, type FlatBvh } from './bvh';
 import { buildEdges, type EdgeTable } from './edges';
 import type { MeshBuffers } from './types';
-import type { CellSizeChecks, WallGapFinding, WallGapRegion } from './report';
+import { pointBounds } from './bounds';
+import type { CellSizeChecks, WallGapFinding, WallGapRegion } from './report-types';
 
 /** Hits whose face normal is more than this off the ray (or its reverse) are passed through. */
 export const THICKNESS_FACING_MAX_DEG = 60;
@@ -66,19 +67,12 @@ export interface RayBvh {
 export function buildRayBvh(mesh: MeshBuffers): RayBvh {
 	const p = mesh.positions, idx = mesh.indices;
 	const n = (idx.length / 3) | 0;
-	let lx = Infinity, ly = Infinity, lz = Infinity, hx = -Infinity, hy = -Infinity, hz = -Infinity;
 	const cen = new Float64Array(3 * n);
 	for (let t = 0, t3 = 0; t < n; t++, t3 += 3) {
 		const a3 = 3 * idx[t3], b3 = 3 * idx[t3 + 1], c3 = 3 * idx[t3 + 2];
-		const cx = p[a3] + p[b3] + p[c3], cy = p[a3 + 1] + p[b3 + 1] + p[c3 + 1], cz = p[a3 + 2] + p[b3 + 2] + p[c3 + 2];
-		cen[t3] = cx; cen[t3 + 1] = cy; cen[t3 + 2] = cz;
-		if (cx < lx) lx = cx;
-		if (cx > hx) hx = cx;
-		if (cy < ly) ly = cy;
-		if (cy > hy) hy = cy;
-		if (cz < lz) lz = cz;
-		if (cz > hz) hz = cz;
+		cen[t3] = p[a3] + p[b3] + p[c3]; cen[t3 + 1] = p[a3 + 1] + p[b3 + 1] + p[c3 + 1]; cen[t3 + 2] = p[a3 + 2] + p[b3 + 2] + p[c3 + 2];
 	}
+	const [lx, ly, lz, hx, hy, hz] = pointBounds(cen);
 	const sx = mortonScale(lx, hx), sy = mortonScale(ly, hy), sz = mortonScale(lz, hz);
 	const raw = new Uint32Array(n);
 	for (let t = 0, t3 = 0; t < n; t++, t3 += 3) raw[t] = morton3(((cen[t3] - lx) * sx) | 0, ((cen[t3 + 1] - ly) * sy) | 0, ((cen[t3 + 2] - lz) * sz) | 0);

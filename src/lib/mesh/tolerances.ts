@@ -2,7 +2,7 @@
  * Every threshold the inspection uses, in one place. Topology is exact (integer indices, exact
  * predicates); these only steer hints, histograms and the projected-area raster.
  */
-import type { Tolerances } from './report';
+import type { Tolerances } from './report-types';
 
 export const DEFAULT_TOLERANCES: Tolerances = {
 	// 1e-9 of the bbox diagonal: far above float64 rounding of coordinates a generator clipped to a

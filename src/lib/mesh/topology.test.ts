@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { analyseTopology, collapsedFaces } from './topology';
-import { mulberry32 } from './implicit-shapes';
-import { icosphere, torus } from './test-meshes';
+import { mulberry32 } from './testing/implicit-shapes';
+import { icosphere, torus } from './testing/test-meshes';
 
 function randomSoup(seed: number, vertCount: number, triCount: number): Uint32Array {
 	const rnd = mulberry32(seed);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { mulberry32 as rng } from './implicit-shapes';
+import { mulberry32 as rng } from './testing/implicit-shapes';
 import { countDuplicatePositions, weldFloat32Bits, weldFloat64 } from './weld';
 
 

@@ -4,7 +4,7 @@ import { buildCellFindings, buildFindings, type FindingTarget } from './findings
 import { inspectBytes } from '../../mesh/inspect';
 import { computeOverlays } from '../../mesh/overlays';
 import { inspectMesh } from '../../mesh/inspect';
-import { asParsed, unitCube, withoutFaces } from '../../mesh/test-meshes';
+import { asParsed, unitCube, withoutFaces } from '../../mesh/testing/test-meshes';
 
 describe('buildFindings', () => {
 	it('takes counts from the report and lists each hole with its perimeter', () => {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { boxSegments, buildOverlayDraw, drawTransferables, faceCentres, faceIndex, MARKER_CAP, midpoints } from './overlay-draw';
 import { computeOverlays } from '../../mesh/overlays';
-import { unitCube, withoutFaces } from '../../mesh/test-meshes';
+import { unitCube, withoutFaces } from '../../mesh/testing/test-meshes';
 
 describe('overlay draw buffers', () => {
 	it('outlines a box with its twelve edges, each joining corners that differ in one axis', () => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { clusterProxy } from './proxy';
-import { icosphere } from '../../mesh/test-meshes';
+import { icosphere } from '../../mesh/testing/test-meshes';
 
 const sphere = icosphere(6); // 81,920 triangles, radius 1
 const pos32 = Float32Array.from(sphere.positions);

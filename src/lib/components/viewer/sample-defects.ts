@@ -4,8 +4,8 @@
  * tetrahedron touching the hull at one vertex (non-manifold vertex), a flipped patch, a collapsed
  * face, a floating cube and a small cube poking through the skin (self-intersections). Pure, seeded.
  */
-import { gridFor, marchingCubes } from '../../mesh/marching-cubes';
-import { towBody } from '../../mesh/implicit-shapes';
+import { gridFor, marchingCubes } from '../../mesh/testing/marching-cubes';
+import { towBody } from '../../mesh/testing/implicit-shapes';
 import type { MeshBuffers } from '../../mesh/types';
 
 const SCALE = 100;

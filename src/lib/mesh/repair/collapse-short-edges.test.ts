@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { collapseShortEdges } from './collapse-short-edges';
 import { meshDeviation } from './deviation';
-import { FORMATS, implicitMesh, inspect, roundTrip } from './test-support';
-import { towBody } from '../implicit-shapes';
-import { icosphere, plateWithHoles, unitCube } from '../test-meshes';
+import { FORMATS, implicitMesh, inspect, roundTrip } from '../testing/repair-support';
+import { towBody } from '../testing/implicit-shapes';
+import { icosphere, plateWithHoles, unitCube } from '../testing/test-meshes';
 
 const CELL = 0.1;
 

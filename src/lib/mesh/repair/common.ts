@@ -2,6 +2,7 @@
 import { buildEdges, type EdgeTable } from '../edges';
 import type { MeshBuffers } from '../types';
 import { referencedBbox } from '../quality';
+import { validateMesh } from '../validate';
 
 /** A repair refusal: the input cannot be repaired as given (malformed buffers, bad parameters). */
 export class RepairError extends Error {
@@ -17,23 +18,9 @@ export interface RepairResult<C> {
 	counts: C;
 }
 
-/** Throws a RepairError for malformed buffers: ragged lengths, out-of-range indices, non-finite coordinates. O(V + F). */
+/** Refuses malformed buffers (validate.ts), the message led by the operation's name. O(V + F). */
 export function checkMesh(mesh: MeshBuffers, op: string): void {
-	const { positions, indices } = mesh;
-	if (!(positions instanceof Float64Array) || !(indices instanceof Uint32Array)) {
-		throw new RepairError(`${op}: mesh needs Float64Array positions and Uint32Array indices`);
-	}
-	if (positions.length % 3 !== 0) throw new RepairError(`${op}: position buffer length ${positions.length} is not a multiple of 3`);
-	if (indices.length % 3 !== 0) throw new RepairError(`${op}: index buffer length ${indices.length} is not a multiple of 3`);
-	const vertCount = positions.length / 3;
-	for (let i = 0; i < indices.length; i++) {
-		if (indices[i] >= vertCount) {
-			throw new RepairError(`${op}: face ${(i / 3) | 0} refers to vertex ${indices[i]}, but there are only ${vertCount} vertices`);
-		}
-	}
-	for (let i = 0; i < positions.length; i++) {
-		if (!Number.isFinite(positions[i])) throw new RepairError(`${op}: vertex ${(i / 3) | 0} has a non-finite coordinate`);
-	}
+	validateMesh(mesh, { context: op });
 }
 
 export function checkPositive(value: unknown, name: string, op: string, allowZero = false): number {

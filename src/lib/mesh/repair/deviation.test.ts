@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { meshDeviation } from './deviation';
 import { closestOnTriangle } from './bvh-query';
-import { mulberry32 } from '../implicit-shapes';
-import { icosphere } from '../test-meshes';
+import { mulberry32 } from '../testing/implicit-shapes';
+import { icosphere } from '../testing/test-meshes';
 import type { MeshBuffers } from '../types';
 
 function randomSoup(seed: number, triCount: number, spread: number): MeshBuffers {

@@ -5,7 +5,7 @@
  * optionally `areaSamples` points spread by area (uniform on the surface, seeded mulberry32).
  * O(S log F) for S samples on F faces (expected, for well-spread meshes).
  */
-import { mulberry32 } from '../implicit-shapes';
+import { mulberry32 } from '../random';
 import { buildFaceBvh, closestSquaredDistance } from './bvh-query';
 import { checkMesh, RepairError } from './common';
 import type { MeshBuffers } from '../types';

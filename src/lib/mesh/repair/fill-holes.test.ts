@@ -2,9 +2,9 @@ import { describe, expect, it } from 'vitest';
 import { fillHoles } from './fill-holes';
 import { buildEdges } from '../edges';
 import { meshDeviation } from './deviation';
-import { FORMATS, facesNear, implicitMesh, inspect, roundTrip, surfacePoint } from './test-support';
-import { sphere, towBody } from '../implicit-shapes';
-import { concat, flipFaces, icosphere, unitCube, withoutFaces } from '../test-meshes';
+import { FORMATS, facesNear, implicitMesh, inspect, roundTrip, surfacePoint } from '../testing/repair-support';
+import { sphere, towBody } from '../testing/implicit-shapes';
+import { concat, flipFaces, icosphere, unitCube, withoutFaces } from '../testing/test-meshes';
 import type { MeshBuffers } from '../types';
 
 const CELL = 0.12;

@@ -17,6 +17,7 @@
  */
 import { buildEdges, nextHalfedge } from '../edges';
 import { collapsedFaces } from '../topology';
+import { indexedBounds } from '../bounds';
 import { boundaryHalfedgeLoops } from './boundary-loops';
 import { isDegenerateTriangle } from '../predicates';
 import { findSelfIntersections } from '../self-intersect';
@@ -143,13 +144,7 @@ export function fillHoles(mesh: MeshBuffers, opts: FillHoleOptions = {}): Repair
 		}
 		if (!tris) { left('no-valid-triangulation'); continue; }
 		// Intersection test against the neighbourhood of the patch.
-		let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;
-		for (let i = 0; i < n; i++) {
-			const v3 = 3 * q[i];
-			mnx = Math.min(mnx, p[v3]); mxx = Math.max(mxx, p[v3]);
-			mny = Math.min(mny, p[v3 + 1]); mxy = Math.max(mxy, p[v3 + 1]);
-			mnz = Math.min(mnz, p[v3 + 2]); mxz = Math.max(mxz, p[v3 + 2]);
-		}
+		const [mnx, mny, mnz, mxx, mxy, mxz] = indexedBounds(p, q, 0, n);
 		const pad = 1e-9 * diag;
 		const near: number[] = [];
 		if (candidates <= LINEAR_SCAN_HOLES) facesInBoxScan(p, ix, skip, mnx - pad, mny - pad, mnz - pad, mxx + pad, mxy + pad, mxz + pad, near);

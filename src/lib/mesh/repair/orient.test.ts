@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { orientConsistently } from './orient';
-import { FORMATS, facesNear, implicitMesh, inspect, roundTrip, surfacePoint } from './test-support';
-import { sphere, towBody } from '../implicit-shapes';
-import { flipFaces, mobiusStrip, withoutFaces } from '../test-meshes';
-import { expectClose } from '../test-close';
+import { FORMATS, facesNear, implicitMesh, inspect, roundTrip, surfacePoint } from '../testing/repair-support';
+import { sphere, towBody } from '../testing/implicit-shapes';
+import { flipFaces, mobiusStrip, withoutFaces } from '../testing/test-meshes';
+import { expectClose } from '../testing/test-close';
 
 describe.each(FORMATS)('orientConsistently, mesh read back from %s', (_name, write, file) => {
 	it('turns a flipped patch of a tow body back so every edge is used once each way', () => {

@@ -2,10 +2,10 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import Module from 'manifold-3d';
 import { applyRecipe, applyStep, parseRecipe, STANDARD_RECIPE, type RepairStep } from './recipe';
 import { meshDeviation } from './deviation';
-import { defectiveMesh, FORMATS, inspect, manifoldVerdict, roundTrip } from './test-support';
-import { sphere, towBody, keelBulb } from '../implicit-shapes';
-import { concat, unitCube, weldExact } from '../test-meshes';
-import { expectClose } from '../test-close';
+import { defectiveMesh, FORMATS, inspect, manifoldVerdict, roundTrip } from '../testing/repair-support';
+import { sphere, towBody, keelBulb } from '../testing/implicit-shapes';
+import { concat, unitCube, weldExact } from '../testing/test-meshes';
+import { expectClose } from '../testing/test-close';
 
 let wasm: Awaited<ReturnType<typeof Module>>;
 beforeAll(async () => {

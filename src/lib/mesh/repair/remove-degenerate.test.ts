@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { removeDegenerateAndDuplicateFaces } from './remove-degenerate';
-import { FORMATS, inspect, roundTrip } from './test-support';
-import { unitCube } from '../test-meshes';
+import { FORMATS, inspect, roundTrip } from '../testing/repair-support';
+import { unitCube } from '../testing/test-meshes';
 import type { MeshBuffers } from '../types';
 
 /** Unit cube plus: a copy of face 0 wound the other way, a collinear sliver, a face with a repeated corner. */

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { removeSmallShells } from './remove-small-shells';
-import { FORMATS, implicitMesh, inspect, roundTrip, specks } from './test-support';
-import { towBody } from '../implicit-shapes';
-import { concat, unitCube } from '../test-meshes';
+import { FORMATS, implicitMesh, inspect, roundTrip, specks } from '../testing/repair-support';
+import { towBody } from '../testing/implicit-shapes';
+import { concat, unitCube } from '../testing/test-meshes';
 
 describe.each(FORMATS)('removeSmallShells, mesh read back from %s', (_name, write, file) => {
 	it('removes three floating specks around a tow body and keeps the body whole', () => {

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { applyRecipe, parseRecipe } from './recipe';
 import { rescale } from './rescale';
-import { implicitMesh, inspect } from './test-support';
-import { sphere } from '../implicit-shapes';
-import { expectClose } from '../test-close';
+import { implicitMesh, inspect } from '../testing/repair-support';
+import { sphere } from '../testing/implicit-shapes';
+import { expectClose } from '../testing/test-close';
 
 describe('rescale', () => {
 	// Similarity: lengths scale by k, areas by k², volumes by k³ (elementary geometry).

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { splitNonManifoldVertices } from './split-non-manifold';
-import { FORMATS, inspect, roundTrip } from './test-support';
-import { concat, unitCube, weldExact } from '../test-meshes';
+import { FORMATS, inspect, roundTrip } from '../testing/repair-support';
+import { concat, unitCube, weldExact } from '../testing/test-meshes';
 
 /** Two unit cubes touching only at the corner (1, 1, 1): one pinch vertex. */
 const cornerCubes = () => weldExact(concat(unitCube(), unitCube([1, 1, 1])));

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { weldByTolerance } from './weld-tolerance';
 import { RepairError } from './common';
-import { FORMATS, implicitMesh, inspect, openSeam, roundTrip } from './test-support';
-import { sphere, mulberry32 } from '../implicit-shapes';
-import { unitCube } from '../test-meshes';
+import { FORMATS, implicitMesh, inspect, openSeam, roundTrip } from '../testing/repair-support';
+import { sphere, mulberry32 } from '../testing/implicit-shapes';
+import { unitCube } from '../testing/test-meshes';
 
 describe.each(FORMATS)('weldByTolerance, mesh read back from %s', (_name, write, file) => {
 	it('closes a seam whose two sides are 1e-4 apart, and inspectMesh then finds no boundary', () => {

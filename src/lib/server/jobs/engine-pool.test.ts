@@ -1,7 +1,7 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { InspectionReport } from '../../mesh/report';
-import { unitCube } from '../../mesh/test-meshes';
+import { unitCube } from '../../mesh/testing/test-meshes';
 import { writeBinaryStl } from '../../mesh/write';
 import { EnginePool, EngineRefused } from './engine-pool';
 import { ENGINE_THREAD_TAG, ENGINE_THREAD_URL, type EngineTask } from './engine-thread';

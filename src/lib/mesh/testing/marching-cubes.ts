@@ -13,7 +13,7 @@
  *
  * Memory: two slices of samples and edge-vertex ids at a time, O(nx · ny), plus the output.
  */
-import type { MeshBuffers } from './types';
+import type { MeshBuffers } from '../types';
 
 export type ScalarField = (x: number, y: number, z: number) => number;
 

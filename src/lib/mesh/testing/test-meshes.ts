@@ -1,5 +1,5 @@
 /** Small generated meshes for tests and the bench: cube, icosphere, torus, voxel solids, Möbius strip. */
-import type { MeshBuffers, ParsedMesh } from './types';
+import type { MeshBuffers, ParsedMesh } from '../types';
 
 export function asParsed(m: MeshBuffers, format: ParsedMesh['format'] = 'stl-binary'): ParsedMesh {
 	return {

@@ -2,10 +2,10 @@
 import { readMesh } from '../read';
 import { writeBinaryStl, writeObj, writePly } from '../write';
 import { inspectMesh } from '../inspect';
-import { marchingCubes, gridFor } from '../marching-cubes';
-import { asParsed, concat, flipFaces, icosphere, withoutFaces } from '../test-meshes';
-import type { ImplicitShape } from '../implicit-shapes';
-import type { InspectionReport } from '../report';
+import { marchingCubes, gridFor } from './marching-cubes';
+import { asParsed, concat, flipFaces, icosphere, withoutFaces } from './test-meshes';
+import type { ImplicitShape } from './implicit-shapes';
+import type { InspectionReport } from '../report-types';
 import type { MeshBuffers, ParsedMesh } from '../types';
 
 export const FORMATS: [string, (m: MeshBuffers) => Uint8Array, string][] = [

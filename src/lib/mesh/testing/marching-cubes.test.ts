@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { genusRings, keelBulb, sensorPod, sphere, torus, towBody, type ImplicitShape } from './implicit-shapes';
 import { gridFor, marchingCubes } from './marching-cubes';
-import type { MeshBuffers } from './types';
+import type { MeshBuffers } from '../types';
 
 /** Edge use counts, Euler characteristic, vertex-link check and signed volume (divergence theorem). */
 function topology(m: MeshBuffers) {

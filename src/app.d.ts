@@ -7,7 +7,7 @@ declare global {
 			user: SessionUser | null;
 			session: import('lucia').Session | null;
 			/** Why a bearer token sent to /api/ did not sign anyone in, for the 401's message. */
-			tokenProblem?: { kind: 'revoked'; at: Date } | { kind: 'unknown' };
+			tokenProblem?: { kind: 'revoked' | 'expired'; at: Date } | { kind: 'unknown' };
 		}
 		interface Error {
 			message: string;

@@ -31,6 +31,9 @@ async function authenticate(event: Parameters<Handle>[0]['event']) {
 		else if (row.revokedAt) {
 			event.locals.tokenProblem = { kind: 'revoked', at: row.revokedAt };
 			return;
+		} else if (row.expiresAt && row.expiresAt.getTime() <= Date.now()) {
+			event.locals.tokenProblem = { kind: 'expired', at: row.expiresAt };
+			return;
 		}
 		if (row) {
 			event.locals.user = await loadSessionUser(db, row.userId);
@@ -63,6 +66,9 @@ async function authenticate(event: Parameters<Handle>[0]['event']) {
 function unauthenticatedMessage(p: App.Locals['tokenProblem']): string {
 	if (p?.kind === 'revoked') {
 		return `This API token was revoked (${p.at.toISOString().slice(0, 16).replace('T', ' ')} UTC) and no longer works. Create a new one under Settings & API tokens and give it to the pipeline.`;
+	}
+	if (p?.kind === 'expired') {
+		return `This API token expired (${p.at.toISOString().slice(0, 16).replace('T', ' ')} UTC) and no longer works. Create a new one under Settings & API tokens and give it to the pipeline.`;
 	}
 	if (p?.kind === 'unknown') {
 		return 'This API token is not known to Shellgate: check that the pipeline sends it whole (it starts with "sg_"), or create a new one under Settings & API tokens.';

@@ -2,6 +2,7 @@
 // "the database is down", and the translations for /api/v1 (JSON), form actions (fail()) and page
 // loads (error()). Services throw DomainError and never choose a status themselves.
 import { error, fail, type ActionFailure } from '@sveltejs/kit';
+import { message, type SuperValidated } from 'sveltekit-superforms';
 import { z } from 'zod';
 import { DomainError, type DomainErrorKind, type InvalidDetail } from '../domain-error';
 import { withoutPaths } from './reasons';
@@ -72,6 +73,27 @@ export async function actionResult<T, K extends string = 'actionError'>(fn: () =
 		return await fn();
 	} catch (e) {
 		return failFor(e, key);
+	}
+}
+
+/**
+ * For superforms actions: a domain error (or a zod refusal from a service) becomes the form's
+ * message with the status of its kind, shown beside the form; anything else is rethrown.
+ */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+export function formFailure<T extends Record<string, unknown>>(form: SuperValidated<T, any, any>, e: unknown) {
+	const d = e instanceof z.ZodError ? new DomainError('invalid', e.issues[0].message) : asDomainError(e);
+	if (!d) throw e;
+	return message(form, publicMessage(d), { status: httpStatus(d) as 400 });
+}
+
+/** Runs a superforms action's work; a domain error comes back as the form's message. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+export async function formResult<T extends Record<string, unknown>, R>(form: SuperValidated<T, any, any>, fn: () => Promise<R>) {
+	try {
+		return await fn();
+	} catch (e) {
+		return formFailure(form, e);
 	}
 }
 

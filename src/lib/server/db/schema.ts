@@ -108,7 +108,9 @@ export const apiToken = mysqlTable(
 		tokenHash: varchar('token_hash', { length: 64 }).notNull(),
 		createdAt: createdAt(),
 		lastUsedAt: datetime('last_used_at'),
-		revokedAt: datetime('revoked_at')
+		revokedAt: datetime('revoked_at'),
+		/** After this the token is refused; null = never expires (tokens made before expiry existed). */
+		expiresAt: datetime('expires_at')
 	},
 	(t) => [uniqueIndex('api_token_hash').on(t.tokenHash)]
 );

@@ -1,13 +1,15 @@
 import { error, fail } from '@sveltejs/kit';
+import { message, superValidate } from 'sveltekit-superforms';
+import { zod4 } from 'sveltekit-superforms/adapters';
 import { eq, sql } from 'drizzle-orm';
 import { unionAll } from 'drizzle-orm/mysql-core';
-import { z } from 'zod';
 import { requireRole } from '$lib/server/auth';
 import { getDb } from '$lib/server/db';
 import { project, user, userRole } from '$lib/server/db/schema';
 import { parseQueueFilter, queryQueue } from '$lib/server/queue-view';
 import { assignRevision } from '$lib/server/assignment';
-import { failFor } from '$lib/server/errors';
+import { formFailure } from '$lib/server/errors';
+import { assignFormSchema } from '$lib/forms';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, url }) => {
@@ -31,22 +33,19 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 	const [queue, menuRows] = await Promise.all([queryQueue(db, me, filter), menus]);
 	const projects = menuRows.filter((m) => m.kind === 'project').map((m) => ({ slug: m.key, name: m.name }));
 	const engineers = menuRows.filter((m) => m.kind === 'person').map((m) => ({ id: m.key, name: m.name }));
-	return { queue, filter, projects, people: engineers };
+	return { queue, filter, projects, people: engineers, assignForm: await superValidate(zod4(assignFormSchema), { id: 'assign' }) };
 };
-
-const assignSchema = z.object({ ids: z.array(z.coerce.number().int().positive()).min(1, 'Tick at least one revision.').max(200), assignee: z.string().max(32) });
 
 export const actions: Actions = {
 	assign: async ({ locals, request }) => {
 		const me = requireRole(locals, 'engineer');
-		const fd = await request.formData();
-		const parsed = assignSchema.safeParse({ ids: fd.getAll('ids'), assignee: fd.get('assignee') ?? '' });
-		if (!parsed.success) return fail(400, { assignError: parsed.error.issues[0].message });
+		const form = await superValidate(request, zod4(assignFormSchema));
+		if (!form.valid) return fail(400, { form });
 		try {
-			const n = await assignRevision(getDb(), me, parsed.data.ids, parsed.data.assignee || null);
-			return { assigned: n };
+			const n = await assignRevision(getDb(), me, form.data.ids, form.data.assignee || null);
+			return message(form, `${n} assigned.`);
 		} catch (e) {
-			return failFor(e, 'assignError');
+			return formFailure(form, e);
 		}
 	}
 };

@@ -2,13 +2,13 @@ import { fail } from '@sveltejs/kit';
 import { asc, eq } from 'drizzle-orm';
 import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
-import { z } from 'zod';
 import { newUserId, requireRole } from '$lib/server/auth';
 import { inviteSchema } from '$lib/server/auth/forms';
 import { queueInviteMail } from '$lib/server/auth/password-links';
 import { audit } from '$lib/server/audit';
 import { getDb } from '$lib/server/db';
-import { ROLES, user, userRole, type Role } from '$lib/server/db/schema';
+import { user, userRole, type Role } from '$lib/server/db/schema';
+import { rolesFormSchema } from '$lib/forms';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals }) => {
@@ -18,20 +18,22 @@ export const load: PageServerLoad = async ({ locals }) => {
 	const roles = await db.select().from(userRole);
 	const byUser = new Map<string, Role[]>();
 	for (const r of roles) byUser.set(r.userId, [...(byUser.get(r.userId) ?? []), r.role]);
+	const rolesAdapter = zod4(rolesFormSchema);
 	return {
-		people: users.map((u) => ({
-			id: u.id,
-			email: u.email,
-			name: u.name,
-			disabled: u.disabled,
-			invited: !u.passwordHash,
-			roles: byUser.get(u.id) ?? []
-		})),
+		people: await Promise.all(
+			users.map(async (u) => ({
+				id: u.id,
+				email: u.email,
+				name: u.name,
+				disabled: u.disabled,
+				invited: !u.passwordHash,
+				roles: byUser.get(u.id) ?? [],
+				rolesForm: await superValidate({ userId: u.id, roles: byUser.get(u.id) ?? [] }, rolesAdapter, { id: `roles-${u.id}`, errors: false })
+			}))
+		),
 		form: await superValidate(zod4(inviteSchema))
 	};
 };
-
-const rolesSchema = z.object({ userId: z.string().min(1).max(32), roles: z.array(z.enum(ROLES)) });
 
 export const actions: Actions = {
 	invite: async ({ request, locals }) => {
@@ -52,21 +54,20 @@ export const actions: Actions = {
 	},
 	roles: async ({ request, locals }) => {
 		const me = requireRole(locals, 'admin');
-		const fd = await request.formData();
-		const parsed = rolesSchema.safeParse({ userId: fd.get('userId'), roles: fd.getAll('roles') });
-		if (!parsed.success) return fail(400, { rolesError: 'Unknown role or user.' });
-		const { userId, roles } = parsed.data;
+		const form = await superValidate(request, zod4(rolesFormSchema));
+		if (!form.valid) return message(form, 'Unknown role or user.', { status: 400 });
+		const { userId, roles } = form.data;
 		if (userId === me.id && !roles.includes('admin')) {
-			return fail(400, { rolesError: 'You cannot remove your own admin role; ask another admin.' });
+			return message(form, 'You cannot remove your own admin role; ask another admin.', { status: 400 });
 		}
 		const db = getDb();
 		const [target] = await db.select().from(user).where(eq(user.id, userId)).limit(1);
-		if (!target || target.teamId !== me.teamId) return fail(404, { rolesError: 'No such person in your team.' });
+		if (!target || target.teamId !== me.teamId) return message(form, 'No such person in your team.', { status: 404 });
 		await db.transaction(async (tx) => {
 			await tx.delete(userRole).where(eq(userRole.userId, userId));
 			if (roles.length) await tx.insert(userRole).values(roles.map((role) => ({ userId, role })));
 			await audit(tx, me.id, 'user', userId, 'roles-changed', null, null, { roles });
 		});
-		return { rolesSaved: userId };
+		return message(form, 'saved');
 	}
 };

@@ -1,13 +1,15 @@
 import { error, fail } from '@sveltejs/kit';
 import { and, asc, desc, eq, sql } from 'drizzle-orm';
-import { z } from 'zod';
+import { message, superValidate } from 'sveltekit-superforms';
+import { zod4 } from 'sveltekit-superforms/adapters';
 import { DEFAULT_GATE_RULES, gateRulesSchema } from '$lib/gate/profile';
 import { requireRole } from '$lib/server/auth';
 import { audit } from '$lib/server/audit';
 import { getDb } from '$lib/server/db';
 import { gateProfile, part, project, revision, user } from '$lib/server/db/schema';
 import { projectRecipes, repairBatch } from '$lib/server/repairs';
-import { failFor } from '$lib/server/errors';
+import { failFor, formFailure } from '$lib/server/errors';
+import { batchRepairFormSchema, profileFormFromRules, profileFormSchema, projectSettingsFormSchema, rulesFromProfileForm } from '$lib/forms';
 import { recheckStale, staleRevisionIds } from '$lib/server/recheck-stale';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -34,9 +36,13 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		.where(eq(part.projectId, p.id))
 		.groupBy(part.id)
 		.orderBy(asc(part.name));
+	const rules = gateRulesSchema.parse(profiles[0]?.rules ?? DEFAULT_GATE_RULES);
 	return {
 		project: p,
-		rules: gateRulesSchema.parse(profiles[0]?.rules ?? DEFAULT_GATE_RULES),
+		rules,
+		settingsForm: await superValidate({ units: p.units, targetCellSize: p.targetCellSize, flowX: p.flowX, flowY: p.flowY, flowZ: p.flowZ }, zod4(projectSettingsFormSchema), { id: 'settings', errors: false }),
+		profileForm: await superValidate(profileFormFromRules(rules), zod4(profileFormSchema), { id: 'profile', errors: false }),
+		batchForm: await superValidate(zod4(batchRepairFormSchema), { id: 'batch' }),
 		profiles: profiles.map((x) => ({ ...x, rules: gateRulesSchema.parse(x.rules) })),
 		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) })),
 		recipes: await projectRecipes(db, p.id),
@@ -44,14 +50,6 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		held: Number((await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(and(eq(part.projectId, p.id), eq(revision.status, 'held'))))[0].n)
 	};
 };
-
-const num = (v: FormDataEntryValue | null) => (v === null || v === '' ? null : Number(v));
-
-const settingsSchema = z.object({
-	units: z.enum(['mm', 'm', 'in']),
-	targetCellSize: z.number().positive('The target cell size must be positive.').max(1e6),
-	flow: z.tuple([z.number(), z.number(), z.number()]).refine((f) => Math.hypot(...f) > 0, 'The flow direction cannot be zero.')
-});
 
 export const actions: Actions = {
 	recheckStale: async ({ locals, params }) => {
@@ -65,36 +63,24 @@ export const actions: Actions = {
 	},
 	batchRepair: async ({ locals, params, request }) => {
 		const me = requireRole(locals, 'engineer');
-		const raw = String((await request.formData()).get('recipe') ?? '');
+		const form = await superValidate(request, zod4(batchRepairFormSchema));
+		if (!form.valid) return fail(400, { form });
+		const raw = form.data.recipe;
+		if (raw !== 'standard' && !/^\d{1,10}$/.test(raw)) return message(form, 'No such recipe in this project.', { status: 404 });
 		try {
-			const res = await repairBatch(getDb(), me, params.slug, raw && raw !== 'standard' ? Number(raw) : null);
-			return { batchQueued: res.queued, batchSkipped: res.skipped };
+			const res = await repairBatch(getDb(), me, params.slug, raw === 'standard' ? null : Number(raw));
+			return message(form, `${res.queued} repairs queued${res.skipped ? `, ${res.skipped} already running` : ''}. Each becomes a new revision to review.`);
 		} catch (e) {
-			return failFor(e, 'batchError');
+			return formFailure(form, e);
 		}
 	},
 	profile: async ({ locals, params, request }) => {
 		const me = requireRole(locals, 'admin');
 		const p = await findProject(me.teamId, params.slug);
-		const fd = await request.formData();
-		const minVal = num(fd.get('minEdgeValue'));
-		const parsed = gateRulesSchema.safeParse({
-			closed: fd.has('closed'),
-			manifold: fd.has('manifold'),
-			outwardOriented: fd.has('outwardOriented'),
-			noSelfIntersections: fd.has('noSelfIntersections'),
-			minEdgeLength: minVal === null ? null : { mode: fd.get('minEdgeMode'), value: minVal },
-			maxShells: num(fd.get('maxShells')),
-			expectedGenus: num(fd.get('expectedGenus')),
-			maxDegenerateFaces: num(fd.get('maxDegenerateFaces')) ?? 0,
-			expectedSize:
-				fd.get('sizeMode') === 'cells' || fd.get('sizeMode') === 'absolute'
-					? { mode: fd.get('sizeMode'), min: num(fd.get('sizeMin')), max: num(fd.get('sizeMax')) }
-					: null,
-			minWallGapCells: num(fd.get('minWallGapCells')),
-			repairLimits: repairLimitsFromForm(fd)
-		});
-		if (!parsed.success) return fail(400, { profileError: parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ') });
+		const form = await superValidate(request, zod4(profileFormSchema));
+		if (!form.valid) return fail(400, { form });
+		const parsed = gateRulesSchema.safeParse(rulesFromProfileForm(form.data));
+		if (!parsed.success) return message(form, parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; '), { status: 400 });
 		const db = getDb();
 		// A change never edits a version: it adds the next one, so past decisions keep theirs.
 		const version = await db.transaction(async (tx) => {
@@ -105,38 +91,20 @@ export const actions: Actions = {
 			await audit(tx, me.id, 'project', p.id, 'gate-profile-changed', String(v), String(next), parsed.data);
 			return next;
 		});
-		return { profileSaved: version };
+		return message(form, `Saved as version ${version}.`);
 	},
 	settings: async ({ locals, params, request }) => {
 		const me = requireRole(locals, 'admin');
 		const p = await findProject(me.teamId, params.slug);
-		const fd = await request.formData();
-		const parsed = settingsSchema.safeParse({
-			units: fd.get('units'),
-			targetCellSize: Number(fd.get('targetCellSize')),
-			flow: [Number(fd.get('flowX')), Number(fd.get('flowY')), Number(fd.get('flowZ'))]
-		});
-		if (!parsed.success) return fail(400, { settingsError: parsed.error.issues[0].message });
+		const form = await superValidate(request, zod4(projectSettingsFormSchema));
+		if (!form.valid) return fail(400, { form });
+		const f = form.data;
+		const parsed = { data: { units: f.units, targetCellSize: f.targetCellSize, flow: [f.flowX, f.flowY, f.flowZ] as [number, number, number] } };
 		const db = getDb();
 		await db.transaction(async (tx) => {
 			await tx.update(project).set({ units: parsed.data.units, targetCellSize: parsed.data.targetCellSize, flowX: parsed.data.flow[0], flowY: parsed.data.flow[1], flowZ: parsed.data.flow[2] }).where(eq(project.id, p.id));
 			await audit(tx, me.id, 'project', p.id, 'settings-changed', null, null, parsed.data);
 		});
-		return { settingsSaved: true };
+		return message(form, 'Saved.');
 	}
 };
-
-/** The repair-limit fields of the profile form; a blank field keeps its default. */
-function repairLimitsFromForm(fd: FormData) {
-	const n = (k: string) => {
-		const v = fd.get(k);
-		return v === null || String(v).trim() === '' ? undefined : Number(v);
-	};
-	const devValue = n('rlDevValue');
-	return {
-		maxVolumeChangePercent: n('rlVolume'),
-		maxAreaChangePercent: n('rlArea'),
-		maxFaceChangePercent: n('rlFaces'),
-		maxDeviation: devValue === undefined ? undefined : { mode: fd.get('rlDevMode') ?? 'fraction-of-cell', value: devValue }
-	};
-}

@@ -1,6 +1,7 @@
 import { parseOverride } from '$lib/server/repair-limits';
-import { error, redirect } from '@sveltejs/kit';
-import { z } from 'zod';
+import { error, fail, redirect } from '@sveltejs/kit';
+import { message, superValidate } from 'sveltekit-superforms';
+import { zod4 } from 'sveltekit-superforms/adapters';
 import { requireRole } from '$lib/server/auth';
 import { addComment, commentSchema } from '$lib/server/comments';
 import { getDb } from '$lib/server/db';
@@ -8,7 +9,8 @@ import { partHistory, revisionDetail } from '$lib/server/revision-detail';
 import { checkRecipe, projectRecipes, proposeRepair, saveRecipe, standardRecipe } from '$lib/server/repairs';
 import { DomainError } from '$lib/domain-error';
 import { fourEyesConflict, recheck, returnRevision, signOff } from '$lib/server/decisions';
-import { actionResult, raiseForPage } from '$lib/server/errors';
+import { actionResult, formResult, raiseForPage } from '$lib/server/errors';
+import { commentFormSchema, returnFormSchema, signOffFormSchema } from '$lib/forms';
 import { loadRevisionForUser } from '$lib/server/revisions';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -30,7 +32,10 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 			history: await partHistory(db, detail.part.id),
 			fourEyes: fourEyesConflict(me, ctx),
 			recipes: await projectRecipes(db, detail.project.id),
-			standardRecipe: standardRecipe(detail.project.targetCellSize)
+			standardRecipe: standardRecipe(detail.project.targetCellSize),
+			commentForm: await superValidate(zod4(commentFormSchema), { id: 'comment' }),
+			returnForm: await superValidate(zod4(returnFormSchema), { id: 'return' }),
+			signOffForm: await superValidate(zod4(signOffFormSchema), { id: 'sign-off' })
 		};
 	} catch (e) {
 		raiseForPage(e);
@@ -38,20 +43,21 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 };
 
 export const actions: Actions = {
-	comment: async ({ locals, params, request }) =>
-		guarded(async () => {
-			const me = requireRole(locals);
-			const fd = await request.formData();
-			let point: unknown = null;
-			try {
-				point = fd.get('point') ? JSON.parse(String(fd.get('point'))) : null;
-			} catch {
-				throw new DomainError('invalid', 'The comment point must be JSON like [x, y, z].');
-			}
-			const face = fd.get('face') ? Number(fd.get('face')) : null;
-			await addComment(getDb(), me, revId(params.id), commentSchema.parse({ body: fd.get('body') ?? '', point, face }));
-			return { commented: true };
-		}),
+	comment: async ({ locals, params, request }) => {
+		const me = requireRole(locals);
+		const form = await superValidate(request, zod4(commentFormSchema));
+		if (!form.valid) return fail(400, { form });
+		let point: unknown = null;
+		try {
+			point = form.data.point ? JSON.parse(form.data.point) : null;
+		} catch {
+			return message(form, 'The comment point must be JSON like [x, y, z].', { status: 400 });
+		}
+		return formResult(form, async () => {
+			await addComment(getDb(), me, revId(params.id), commentSchema.parse({ body: form.data.body, point, face: form.data.face }));
+			return message(form, 'Comment added.');
+		});
+	},
 	recheck: async ({ locals, params }) =>
 		guarded(async () => {
 			const me = requireRole(locals, 'engineer');
@@ -59,14 +65,16 @@ export const actions: Actions = {
 			await recheck(db, me, await loadRevisionForUser(db, me, revId(params.id)));
 			return { rechecked: true };
 		}),
-	return: async ({ locals, params, request }) =>
-		guarded(async () => {
-			const me = requireRole(locals, 'engineer', 'reviewer');
-			const reason = String((await request.formData()).get('reason') ?? '').slice(0, 1000);
+	return: async ({ locals, params, request }) => {
+		const me = requireRole(locals, 'engineer', 'reviewer');
+		const form = await superValidate(request, zod4(returnFormSchema));
+		if (!form.valid) return fail(400, { form });
+		return formResult(form, async () => {
 			const db = getDb();
-			await returnRevision(db, me, await loadRevisionForUser(db, me, revId(params.id)), reason);
-			return { returned: true };
-		}),
+			await returnRevision(db, me, await loadRevisionForUser(db, me, revId(params.id)), form.data.reason);
+			return message(form, 'Returned to the designer.');
+		});
+	},
 	repair: async ({ locals, params, request }) =>
 		guarded(async () => {
 			const me = requireRole(locals, 'engineer');
@@ -83,12 +91,12 @@ export const actions: Actions = {
 			return { repairQueued: true };
 		}),
 	signOff: async ({ locals, params, request }) => {
-		const res = await guarded(async () => {
-			const me = requireRole(locals, 'reviewer');
-			const fd = await request.formData();
-			const note = String(fd.get('note') ?? '').slice(0, 1000);
+		const me = requireRole(locals, 'reviewer');
+		const form = await superValidate(request, zod4(signOffFormSchema));
+		if (!form.valid) return fail(400, { form });
+		const res = await formResult(form, async () => {
 			const db = getDb();
-			await signOff(db, me, await loadRevisionForUser(db, me, revId(params.id)), note || null, parseOverride(fd.get('overrideReason')));
+			await signOff(db, me, await loadRevisionForUser(db, me, revId(params.id)), form.data.note || null, parseOverride(form.data.overrideReason));
 			return null;
 		});
 		if (res) return res;

@@ -1,0 +1,1 @@
+ALTER TABLE `api_token` ADD `expires_at` datetime;

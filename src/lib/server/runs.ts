@@ -25,10 +25,9 @@ const KIND_WORDS: Record<RunKind, string> = { samples: 'samples (each file its o
  */
 export async function findOrCreateRun(db: Db, u: SessionUser, projectId: number, rawName: string, kind: RunKind | null): Promise<{ run: RunRow; created: boolean }> {
 	const name = cleanRunName(rawName);
-	const [ins] = (await db
-		.insert(run)
-		.values({ projectId, name, kind: kind ?? 'samples', createdBy: u.id })
-		.onDuplicateKeyUpdate({ set: { id: sql`id` } })) as unknown as [{ affectedRows: number }];
+	// INSERT IGNORE, not ON DUPLICATE KEY UPDATE: the pool's connections report found rows, so an
+	// unchanged duplicate would count as one affected row there, and every request would look first.
+	const [ins] = (await db.insert(run).ignore().values({ projectId, name, kind: kind ?? 'samples', createdBy: u.id })) as unknown as [{ affectedRows: number }];
 	const [row] = await db.select().from(run).where(and(eq(run.projectId, projectId), eq(run.name, name))).limit(1);
 	const created = ins.affectedRows === 1;
 	if (created) await audit(db, u.id, 'run', row.id, 'created', null, null, { name, kind: row.kind, project: projectId });

@@ -282,6 +282,24 @@ export interface InspectionReport {
 	/** Milliseconds per stage. */
 	timings: Record<string, number>;
 	tolerances: Tolerances;
+	/**
+	 * For a revision of an iterations run: its shape distance from the previous iteration's surface
+	 * (shape-distance.ts). Absent for every other check.
+	 */
+	iterationDistance?: IterationDistance;
+}
+
+/** Hausdorff and chamfer distance (model units) to the previous iteration, or why there is none. */
+export interface IterationDistance {
+	previousRevisionId: number;
+	previousIteration: number | null;
+	hausdorff: number | null;
+	chamfer: number | null;
+	/** Samples per surface. */
+	samples: number;
+	/** Set when the distance could not be measured (e.g. the previous file is unreadable). */
+	error: string | null;
+	ms: number;
 }
 
 export interface InspectOptions {

@@ -1,8 +1,9 @@
-// Background duties of the web process: mail delivery and (when enabled) in-process check workers.
+// Background duties of the web process: run digests, mail delivery and (when enabled) in-process check workers.
 // Started once from hooks.server.ts; never during `vite build`.
 import { building } from '$app/environment';
 import { closeDb, getDb } from './db';
 import { flushOutbox } from './mail';
+import { sendRunDigests } from './run-digest';
 import { config } from './config';
 import { closeEngineThreads } from './jobs/check';
 import { runWorkerLoop } from './jobs/runner';
@@ -19,6 +20,8 @@ export function startBackground(): void {
 		if (flushing) return;
 		flushing = true;
 		try {
+			// Digests of finished generator runs first, so they go out on this same tick.
+			await sendRunDigests(getDb()).catch((e) => console.error('[shellgate] run digests:', (e as Error)?.message ?? e));
 			await flushOutbox(getDb());
 		} catch {
 			// Database or SMTP down: mail stays pending and goes out on a later tick.

@@ -76,5 +76,12 @@ export const config = {
 	},
 	get checkAttempts() {
 		return num('CHECK_ATTEMPTS', 3);
+	},
+	/**
+	 * How long a generator run must stay quiet (no upload, no check result) after its last check
+	 * before its digest mail goes out, so a pipeline still uploading is not digested half-way.
+	 */
+	get runDigestSettleMs() {
+		return num('RUN_DIGEST_SETTLE_MS', 60_000);
 	}
 };

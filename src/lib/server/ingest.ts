@@ -148,7 +148,8 @@ async function ingestLocked(db: Db, input: IngestInput, proj: { id: number; slug
 	try {
 		// The part on first use: its own short statement, harmless when another request got there first.
 		const name = (input.partName?.trim() || input.partSlug.replace(/-/g, ' ')).slice(0, 120);
-		const [ins] = (await db.insert(part).values({ projectId: proj.id, slug: input.partSlug, name }).onDuplicateKeyUpdate({ set: { id: sql`id` } })) as unknown as [{ affectedRows: number; insertId: number }];
+		// INSERT IGNORE: with found rows reported, ON DUPLICATE KEY UPDATE counts an unchanged duplicate as affected.
+		const [ins] = (await db.insert(part).ignore().values({ projectId: proj.id, slug: input.partSlug, name })) as unknown as [{ affectedRows: number; insertId: number }];
 		const [pa] = await db.select().from(part).where(and(eq(part.projectId, proj.id), eq(part.slug, input.partSlug))).limit(1);
 		if (ins.affectedRows === 1) await audit(db, u.id, 'part', pa.id, 'created');
 		for (let attempt = 1; ; attempt++) {

@@ -71,7 +71,7 @@ export async function applyEvent(db: Db, revisionId: number, event: RevisionEven
 	return db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;
 		const [cur] = await tx
-			.select({ status: revision.status, number: revision.number, partId: revision.partId, uploaderId: revision.uploaderId, parentRevisionId: revision.parentRevisionId })
+			.select({ status: revision.status, number: revision.number, partId: revision.partId, uploaderId: revision.uploaderId, parentRevisionId: revision.parentRevisionId, runId: revision.runId })
 			.from(revision)
 			.where(eq(revision.id, revisionId))
 			.limit(1)
@@ -94,8 +94,10 @@ export async function applyEvent(db: Db, revisionId: number, event: RevisionEven
 }
 
 /** Who hears of the event (notify.ts writes the mail into the outbox, in this transaction). */
-async function queueEventMail(tx: Db, event: RevisionEvent, rev: { id: number; number: number; partId: number; uploaderId: string; parentRevisionId: number | null }, opts: EventOptions): Promise<void> {
+async function queueEventMail(tx: Db, event: RevisionEvent, rev: { id: number; number: number; partId: number; uploaderId: string; parentRevisionId: number | null; runId: number | null }, opts: EventOptions): Promise<void> {
 	if (!['return', 'sign-off', 'sign-off-override', 'check-held', 'repair-proposed'].includes(event)) return;
+	// A check outcome of a generator run's revision goes into the run's digest (run-digest.ts), not a mail of its own.
+	if (rev.runId !== null && (event === 'check-held' || event === 'repair-proposed')) return;
 	const [names] = await tx.select({ partName: part.name, projectName: project.name, teamId: project.teamId }).from(part).innerJoin(project, eq(project.id, part.projectId)).where(eq(part.id, rev.partId)).limit(1);
 	const ref: RevisionRef = { id: rev.id, number: rev.number, partName: names.partName, projectName: names.projectName, uploaderId: rev.uploaderId };
 	if (event === 'return') await notifyReturned(tx, ref, opts.actor!.name, opts.reason ?? '');

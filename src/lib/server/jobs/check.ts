@@ -1,17 +1,17 @@
 // One check job: fetch the stored file, run the engine in a long-lived worker thread under a time
 // and memory cap, evaluate the project's gate profile, and write everything in one transaction.
 import { createHash } from 'node:crypto';
-import { desc, eq } from 'drizzle-orm';
+import { and, desc, eq, lt, ne } from 'drizzle-orm';
 import type { InspectionReport } from '../../mesh/report';
 import { gateRulesSchema } from '../../gate/profile';
 import { blockingFailures, evaluateGate, gatePasses, minEdgeThreshold, RULE_TITLES, severityScore } from '../../gate/rules';
 import { config } from '../config';
 import type { Db } from '../db';
-import { checkRun, gateProfile, ruleResult } from '../db/schema';
+import { checkRun, gateProfile, revision, ruleResult, run } from '../db/schema';
 import { loadRevisionContext } from '../revisions';
 import { applyEvent } from '../revision-events';
 import { getStore } from '../storage';
-import type { EngineTask } from './engine-thread';
+import type { EngineTask, PreviousIteration } from './engine-thread';
 import { EnginePool, EngineRefused as CheckRefused, type EngineLimits as CheckLimits } from './engine-pool';
 import { failAttempt, finishJob, heartbeat, lockOwnJob, type ClaimedJob } from './queue';
 import { failureReason, storedFileMissing } from '../reasons';
@@ -63,6 +63,29 @@ export async function loadCheckSetup(db: Db, revisionId: number) {
 export type CheckSetup = NonNullable<Awaited<ReturnType<typeof loadCheckSetup>>>;
 
 /**
+ * For a revision of an iterations run with an iteration number: the same part's revision of the run
+ * with the highest lower iteration, and its bytes, for the shape distance. Files that arrive out of
+ * order are measured against the iteration before them that is there at check time (the report
+ * names it). Undefined otherwise, or when its bytes are gone.
+ */
+async function previousIteration(db: Db, rev: { id: number; partId: number; runId: number | null; iteration: number | null }): Promise<PreviousIteration | undefined> {
+	if (rev.runId === null || rev.iteration === null) return undefined;
+	const [prev] = await db
+		.select({ id: revision.id, iteration: revision.iteration, sha256: revision.sha256, fileName: revision.fileName })
+		.from(revision)
+		.innerJoin(run, eq(run.id, revision.runId))
+		.where(and(eq(revision.runId, rev.runId), eq(run.kind, 'iterations'), eq(revision.partId, rev.partId), lt(revision.iteration, rev.iteration), ne(revision.id, rev.id)))
+		.orderBy(desc(revision.iteration), desc(revision.id))
+		.limit(1);
+	if (!prev) return undefined;
+	try {
+		return { revisionId: prev.id, iteration: prev.iteration, bytes: await getStore().read(prev.sha256), fileName: prev.fileName };
+	} catch {
+		return undefined;
+	}
+}
+
+/**
  * Processes one claimed job end to end; never throws. A file the engine refused ends unreadable; a
  * missing stored file, or a check that ran out of attempts (time limit, crash), ends check-incomplete.
  */
@@ -86,10 +109,12 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 	try {
 		beat('fetching file', 2);
 		const bytes = await getStore().read(ctx.rev.sha256);
+		const previous = await previousIteration(db, ctx.rev);
 		report = await runEngine<InspectionReport>(
 			{
 				task: 'check',
 				bytes,
+				previous,
 				fileName: ctx.rev.fileName,
 				options: {
 					flowDirection: [ctx.project.flowX, ctx.project.flowY, ctx.project.flowZ],

@@ -8,7 +8,8 @@ import { isWorkerFor, lowerThisThreadPriority } from '../../mesh/module-worker-n
 import { readMesh } from '../../mesh/read';
 import { applyRecipe, areaAndVolume, meshDeviation, recipeScaleFactor, RepairError, sameMesh, skippedItems, type ChangeMeasures, type RepairLogEntry, type RepairStep } from '../../mesh/repair';
 
-import type { InspectOptions } from '../../mesh/report';
+import type { InspectOptions, IterationDistance } from '../../mesh/report';
+import { DEFAULT_DISTANCE_SAMPLES, shapeDistance } from '../../mesh/shape-distance';
 import { MeshReadError } from '../../mesh/types';
 import { writeBinaryStl, writeObj, writePly } from '../../mesh/write';
 import { edgesToObj, sharpEdges } from '../../mesh/thickness';
@@ -18,9 +19,17 @@ export const ENGINE_THREAD_URL = import.meta.url;
 export const ENGINE_THREAD_TAG = 'shellgate-engine';
 
 export type EngineTask =
-	| { task: 'check'; bytes: Uint8Array; fileName: string; options: InspectOptions; threads: number }
+	| { task: 'check'; bytes: Uint8Array; fileName: string; options: InspectOptions; threads: number; previous?: PreviousIteration }
 	| { task: 'repair'; bytes: Uint8Array; fileName: string; steps: RepairStep[]; maxFaces: number }
 	| { task: 'export'; bytes: Uint8Array; fileName: string; format: ExportFormat; maxFaces: number };
+
+/** The previous iteration of a run, whose surface a check measures its shape distance from. */
+export interface PreviousIteration {
+	revisionId: number;
+	iteration: number | null;
+	bytes: Uint8Array;
+	fileName: string;
+}
 
 /** Mesh formats, plus the sharp feature edges as OBJ line elements (`l`) for a mesher to snap to. */
 export type ExportFormat = 'stl' | 'ply' | 'obj' | 'feature-edges';
@@ -54,15 +63,34 @@ function write(mesh: Parameters<typeof writeBinaryStl>[0], format: ExportFormat)
 	return format === 'stl' ? writeBinaryStl(mesh) : format === 'ply' ? writePly(mesh, 'binary-le') : writeObj(mesh);
 }
 
+/** Shape distance from the previous iteration; a file that cannot be read gives a reason, not a failed check. */
+function iterationDistance(bytes: Uint8Array, fileName: string, prev: PreviousIteration, maxFaces: number | undefined): IterationDistance {
+	const t0 = performance.now();
+	const base = { previousRevisionId: prev.revisionId, previousIteration: prev.iteration, samples: DEFAULT_DISTANCE_SAMPLES };
+	try {
+		const d = shapeDistance(readMesh(bytes, fileName, { maxFaces }), readMesh(prev.bytes, prev.fileName, { maxFaces }), { samples: DEFAULT_DISTANCE_SAMPLES });
+		return { ...base, hausdorff: d.hausdorff, chamfer: d.chamfer, error: null, ms: performance.now() - t0 };
+	} catch (e) {
+		return { ...base, hausdorff: null, chamfer: null, error: (e instanceof Error ? e.message : String(e)).slice(0, 200), ms: performance.now() - t0 };
+	}
+}
+
 async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise<unknown> {
 	if (input.task === 'check') {
 		// Small files: starting more threads would cost more than the whole check.
-		if (input.bytes.byteLength < 4 * 1024 * 1024) return inspectBytes(input.bytes, input.fileName, input.options);
-		return inspectFileNode(input.bytes, input.fileName, {
-			...input.options,
-			threads: input.threads,
-			onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
-		});
+		const report =
+			input.bytes.byteLength < 4 * 1024 * 1024
+				? inspectBytes(input.bytes, input.fileName, input.options)
+				: await inspectFileNode(input.bytes, input.fileName, {
+						...input.options,
+						threads: input.threads,
+						onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
+					});
+		if (input.previous) {
+			post({ type: 'progress', stage: 'distance to the previous iteration', percent: 95 });
+			report.iterationDistance = iterationDistance(input.bytes, input.fileName, input.previous, input.options.maxFaces);
+		}
+		return report;
 	}
 	post({ type: 'progress', stage: 'reading', percent: 5 });
 	const parent = readMesh(input.bytes, input.fileName, { maxFaces: input.maxFaces });

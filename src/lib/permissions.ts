@@ -10,6 +10,8 @@ export const PERMISSIONS = {
 	return: ['engineer', 'reviewer'],
 	'sign-off': ['reviewer'],
 	repair: ['engineer'],
+	/** The signed-off revisions of a run or project as a manifest and a zip: the input of CFD batches and surrogate training. */
+	'export-dataset': ['engineer', 'designer', 'reviewer'],
 	'manage-projects': ['admin'],
 	'manage-users': ['admin']
 } as const satisfies Record<string, readonly RoleName[]>;

@@ -10,6 +10,7 @@ import { revision, type RevisionState } from './db/schema';
 import { processCheckJob } from './jobs/check';
 import { claimJob } from './jobs/queue';
 import { assignRevision } from './assignment';
+import { resolveDatasetScope } from './dataset-export';
 import { recheck, returnRevision, signOff } from './decisions';
 import { loadRevisionForUser } from './revisions';
 import { DomainError } from '../domain-error';
@@ -47,7 +48,8 @@ const CASES: Record<Exclude<Action, 'read' | 'manage-projects' | 'manage-users' 
 	recheck: { from: 'held', run: async (r) => recheck(getDb(), users[r], await loadRevisionForUser(getDb(), users[r], revId)) },
 	assign: { from: 'held', run: (r) => assignRevision(getDb(), users[r], [revId], users.engineer.id) },
 	return: { from: 'held', run: async (r) => returnRevision(getDb(), users[r], await loadRevisionForUser(getDb(), users[r], revId), 'Cap the open end.') },
-	'sign-off': { from: 'clear', run: async (r) => signOff(getDb(), users[r], await loadRevisionForUser(getDb(), users[r], revId), null) }
+	'sign-off': { from: 'clear', run: async (r) => signOff(getDb(), users[r], await loadRevisionForUser(getDb(), users[r], revId), null) },
+	'export-dataset': { from: 'signed-off', run: (r) => resolveDatasetScope(getDb(), users[r], { kind: 'project', slugOrId: 'sensor-pods' }) }
 };
 
 describe('every role × action pair is allowed or refused as the permission table says', () => {
@@ -63,11 +65,11 @@ describe('every role × action pair is allowed or refused as the permission tabl
 		}
 	}
 
-	it('matches the roles the product promises (designer uploads and comments; engineer uploads, re-checks, assigns, returns, repairs; reviewer signs off and returns; admin manages)', () => {
+	it('matches the roles the product promises (designer uploads and comments; engineer uploads, re-checks, assigns, returns, repairs; reviewer signs off and returns; all three export datasets; admin manages)', () => {
 		const roleCan = (role: string) => (Object.keys(PERMISSIONS) as Action[]).filter((a) => (PERMISSIONS[a] as readonly string[]).includes(role)).sort();
-		expect(roleCan('designer')).toEqual(['comment', 'read', 'upload']);
-		expect(roleCan('engineer')).toEqual(['assign', 'comment', 'read', 'recheck', 'repair', 'return', 'upload']);
-		expect(roleCan('reviewer')).toEqual(['comment', 'read', 'return', 'sign-off']);
+		expect(roleCan('designer')).toEqual(['comment', 'export-dataset', 'read', 'upload']);
+		expect(roleCan('engineer')).toEqual(['assign', 'comment', 'export-dataset', 'read', 'recheck', 'repair', 'return', 'upload']);
+		expect(roleCan('reviewer')).toEqual(['comment', 'export-dataset', 'read', 'return', 'sign-off']);
 		expect(roleCan('admin')).toEqual(['manage-projects', 'manage-users', 'read']);
 	});
 });

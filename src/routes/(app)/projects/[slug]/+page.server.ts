@@ -9,6 +9,7 @@ import { gateProfile, part, project, revision, user } from '$lib/server/db/schem
 import { projectRecipes, repairBatch } from '$lib/server/repairs';
 import { failFor } from '$lib/server/errors';
 import { recheckStale, staleRevisionIds } from '$lib/server/recheck-stale';
+import { countCleared } from '$lib/server/dataset-export';
 import type { Actions, PageServerLoad } from './$types';
 
 async function findProject(teamId: number, slug: string) {
@@ -41,6 +42,7 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) })),
 		recipes: await projectRecipes(db, p.id),
 		stale: (await staleRevisionIds(db, p.id)).length,
+		cleared: await countCleared(db, { runId: null, projectId: p.id }),
 		held: Number((await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(and(eq(part.projectId, p.id), eq(revision.status, 'held'))))[0].n)
 	};
 };

@@ -11,6 +11,7 @@ import { projectRecipes, repairBatch } from '$lib/server/repairs';
 import { failFor, formFailure } from '$lib/server/errors';
 import { batchRepairFormSchema, profileFormFromRules, profileFormSchema, projectSettingsFormSchema, rulesFromProfileForm } from '$lib/forms';
 import { recheckStale, staleRevisionIds } from '$lib/server/recheck-stale';
+import { countCleared } from '$lib/server/dataset-export';
 import type { Actions, PageServerLoad } from './$types';
 
 async function findProject(teamId: number, slug: string) {
@@ -47,6 +48,7 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) })),
 		recipes: await projectRecipes(db, p.id),
 		stale: (await staleRevisionIds(db, p.id)).length,
+		cleared: await countCleared(db, { runId: null, projectId: p.id }),
 		held: Number((await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(and(eq(part.projectId, p.id), eq(revision.status, 'held'))))[0].n)
 	};
 };

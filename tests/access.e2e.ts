@@ -47,6 +47,12 @@ const ACCESS: Record<string, Rule> = {
 	'POST /api/v1/revisions/[id]/sign-off': ['reviewer'],
 	'GET /api/v1/revisions/[id]/file': ALL,
 	'GET /api/v1/revisions/[id]/export': ALL,
+	'page /runs/[id]': ALL,
+	'GET /api/v1/runs/[id]': ALL,
+	'POST /api/v1/projects/[project]/runs/[run]/files': ['designer', 'engineer'],
+	// The dataset hand-off: the people who feed and use the generator's shapes, not an admin-only account.
+	'GET /api/v1/runs/[id]/dataset': ['engineer', 'designer', 'reviewer'],
+	'GET /api/v1/projects/[project]/dataset': ['engineer', 'designer', 'reviewer'],
 	'page /dev/mailbox': 'public',
 	'page /dev/viewer': 'public',
 	'GET /health': 'public',
@@ -146,6 +152,7 @@ function concrete(route: string, forAction: boolean): string {
 		.replace('[slug]', forAction ? 'no-such-project' : 'sensor-pods')
 		.replace('[project]', 'sensor-pods')
 		.replace('[part]', 'side-scan-pod')
+		.replace('[run]', 'no-such-run')
 		.replace('[id]', forAction ? NO_SUCH_ID : String(revId))
 		.replace('[token]', 'not-a-real-token');
 }

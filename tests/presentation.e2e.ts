@@ -2,7 +2,7 @@
 // (and say so when they have), and people without the admin role read set-up and gate values.
 import { expect, test } from '@playwright/test';
 import mysql from 'mysql2/promise';
-import { signInAs, signOut } from './helpers';
+import { shot, signInAs, signOut } from './helpers';
 
 test('an upload refused for a bad part name shows the error beside the field and no empty progress bar', async ({ page }) => {
 	await signInAs(page, 'designer');
@@ -29,6 +29,7 @@ test('a token is created with an expiry, shows it, and once expired is refused w
 	const in7 = new Date(Date.now() + 7 * 86_400_000).toISOString().slice(0, 10);
 	await expect(page.getByRole('status').filter({ hasText: 'expiry check' })).toContainText(`works until ${in7}`);
 	await expect(page.getByRole('row').filter({ hasText: 'expiry check' }).getByTestId('token-expires')).toHaveText(in7);
+	await page.screenshot({ path: shot('settings-token-created'), fullPage: true });
 
 	const api = await playwright.request.newContext({ baseURL, extraHTTPHeaders: { authorization: `Bearer ${token}` } });
 	expect((await api.get('/api/v1/queue')).status()).toBe(200);
@@ -56,6 +57,7 @@ test('people without the admin role read the project set-up and gate profile as 
 	await expect(page.getByTestId('profile-readonly')).toContainText('Closed surface');
 	await expect(page.getByRole('spinbutton')).toHaveCount(0);
 	await expect(page.getByRole('button', { name: /Save/ })).toHaveCount(0);
+	await page.screenshot({ path: shot('project-read-only'), fullPage: true });
 	await signOut(page);
 
 	await signInAs(page, 'admin');
@@ -66,5 +68,6 @@ test('people without the admin role read the project set-up and gate profile as 
 	await page.getByLabel('Target cell size').fill('-1');
 	await page.getByRole('button', { name: 'Save setup' }).click();
 	await expect(page.getByText('The target cell size must be positive.')).toBeVisible();
+	await page.screenshot({ path: shot('project-admin-field-error'), fullPage: true });
 	await signOut(page);
 });

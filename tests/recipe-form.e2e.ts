@@ -46,6 +46,7 @@ test('an engineer builds a two-step recipe, reorders it, saves it on the project
 	await form.getByText('The same steps as JSON').click();
 	await expect(form.getByLabel('Steps as JSON')).toHaveValue(/"op": "orient".*\n.*"op": "fill-holes", "maxEdges": 50/);
 	await page.screenshot({ path: shot('recipe-form'), fullPage: true });
+	await form.screenshot({ path: shot('recipe-form-detail') });
 
 	await form.getByRole('button', { name: 'Save recipe on the project' }).click();
 	await expect(form.getByTestId('recipe-message')).toHaveText('Recipe “orient, then close small holes” saved on the project.');

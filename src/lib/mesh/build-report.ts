@@ -2,6 +2,7 @@
 import { DEFAULT_MAX_FACES, type ParsedMesh } from './types';
 import { validateMesh } from './validate';
 import { indexedBounds } from './bounds';
+import { fmtLength } from '../format';
 import { analyseTopology, collapsedFaces, type TopologyResult } from './topology';
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
 import { REFINE, silhouetteArea, type SilhouetteScratch } from './projection';
@@ -248,7 +249,8 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		indices: idx,
 		edges: topo.edges,
 		shortEdges: em.shortEdges,
-		tolerances: tol
+		tolerances: tol,
+		units: opts.units
 	});
 	timings.hints = performance.now() - t0;
 
@@ -307,7 +309,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 				direction: flow,
 				area: pf.area,
 				errorBound: pf.errorBound,
-				method: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${pf.cellSize.toPrecision(4)} units; cells met by outline-candidate edges sampled again on ${REFINE}×${REFINE} sub-cells; bound = sub-cell area × sub-cells met by those edges`
+				method: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${fmtLength(pf.cellSize, opts.units ?? 'units')}; cells met by outline-candidate edges sampled again on ${REFINE}×${REFINE} sub-cells; bound = sub-cell area × sub-cells met by those edges`
 			}
 		},
 		wettedArea: reason === null ? wettedArea : null,

@@ -98,7 +98,12 @@ describe('openings: a sampling-box cut only with the evidence for it', () => {
 		expect(r.holes[0].onBboxPlane).toBe('x-max');
 		expect(r.holes[0].corners).toBe(4);
 		expect(kinds(r)).not.toContain('clipped-by-bbox-plane');
-		expect(hint(r, 'openings')?.message).toMatch(/^The surface has 1 opening \(largest rim 4\.000 units.*few corners, as where a flat face is missing/);
+		expect(hint(r, 'openings')?.message).toMatch(/^The surface has 1 opening \(largest rim 4 units, 4 units in all\).*few corners, as where a flat face is missing/);
+		// Given the project's unit, every length in the texts carries it.
+		const mm = buildReport(asParsed(withoutFaces(cube, xMax)), { units: 'mm', minEdgeLength: 1.5 });
+		expect(hint(mm, 'openings')?.message).toMatch(/largest rim 4 mm, 4 mm in all/);
+		expect(hint(mm, 'short-edges')?.message).toMatch(/shorter than the target length 1\.5 mm;/);
+		expect(mm.projectedArea.flow.method).toMatch(/cells of [\d.]+ [µm]m;/);
 		// Volume is not defined for an open surface (the old report gave a number for it).
 		expect(r.volume).toBeNull();
 		expect(r.volumeUndefinedReason).toBe('open');

@@ -4,6 +4,7 @@
  */
 import type { EdgeTable } from './edges';
 import type { Bbox, ExactWeldPreview, Hint, HoleInfo, ShellInfo, Tolerances } from './report-types';
+import { fmtLength } from '../format';
 
 export interface HintInput {
 	shells: ShellInfo[];
@@ -21,6 +22,8 @@ export interface HintInput {
 	edges: EdgeTable;
 	shortEdges: number;
 	tolerances: Tolerances;
+	/** Unit of the coordinates (the project's), for the lengths in the texts; default "units". */
+	units?: string;
 }
 
 function pct(share: number): string {
@@ -78,6 +81,8 @@ export function buildHints(inp: HintInput): Hint[] {
 	const total = inp.area > 0 ? inp.area : 1;
 	const bb = inp.bbox;
 	const diag = Math.hypot(bb.max[0] - bb.min[0], bb.max[1] - bb.min[1], bb.max[2] - bb.min[2]);
+	// Every length through the one formatter, with its unit; round-off against the part's size is 0.
+	const len = (x: number) => fmtLength(x, inp.units ?? 'units', { scale: diag });
 
 	// Unwelded seams first: they make one surface read as many shells, holes and crossings.
 	const w = inp.exactWeld;
@@ -166,7 +171,7 @@ export function buildHints(inp: HintInput): Hint[] {
 		const where = [...planes.keys()].sort().join(', ');
 		hints.push({
 			kind: 'clipped-by-bbox-plane',
-			message: `${clipped} opening${clipped === 1 ? ' lies' : 's lie'} flat on the bounding box (${where}) with long rims of uneven steps (total rim ${clippedPerimeter.toPrecision(4)} units), as where a sampling box cuts a surface. If the shape was sampled on a grid, enlarge the box; otherwise cap the opening.`,
+			message: `${clipped} opening${clipped === 1 ? ' lies' : 's lie'} flat on the bounding box (${where}) with long rims of uneven steps (total rim ${len(clippedPerimeter)}), as where a sampling box cuts a surface. If the shape was sampled on a grid, enlarge the box; otherwise cap the opening.`,
 			count: clipped,
 			areaShare: null
 		});
@@ -175,7 +180,7 @@ export function buildHints(inp: HintInput): Hint[] {
 		const sides = fewSided > 0 ? ` ${fewSided === plain ? (plain === 1 ? 'Its rim has' : 'Their rims have') : `${fewSided} of them have`} few corners, as where a flat face is missing.` : '';
 		hints.push({
 			kind: 'openings',
-			message: `The surface has ${plural(plain, 'opening')} (largest rim ${largestPlain.toPrecision(4)} units, ${plainPerimeter.toPrecision(4)} in all).${sides} Close ${plain === 1 ? 'it' : 'them'} upstream, or let a repair fill ${plain === 1 ? 'it' : 'them'} if ${plain === 1 ? 'it is' : 'they are'} small against the cell size.`,
+			message: `The surface has ${plural(plain, 'opening')} (largest rim ${len(largestPlain)}, ${len(plainPerimeter)} in all).${sides} Close ${plain === 1 ? 'it' : 'them'} upstream, or let a repair fill ${plain === 1 ? 'it' : 'them'} if ${plain === 1 ? 'it is' : 'they are'} small against the cell size.`,
 			count: plain,
 			areaShare: null
 		});
@@ -234,7 +239,7 @@ export function buildHints(inp: HintInput): Hint[] {
 	if (inp.shortEdges > 0) {
 		hints.push({
 			kind: 'short-edges',
-			message: `${inp.shortEdges} edge${inp.shortEdges === 1 ? ' is' : 's are'} shorter than the target length ${tol.minEdgeLength}; the volume mesher would have to resolve them or will fail near them.`,
+			message: `${inp.shortEdges} edge${inp.shortEdges === 1 ? ' is' : 's are'} shorter than the target length ${len(tol.minEdgeLength)}; the volume mesher would have to resolve them or will fail near them.`,
 			count: inp.shortEdges,
 			areaShare: null
 		});

@@ -321,6 +321,8 @@ export interface InspectOptions {
 	cellSize?: number;
 	/** Walls and gaps under this many cells are flagged. Default 2. */
 	thinCells?: number;
+	/** Unit of the coordinates (e.g. the project's "mm"), written after lengths in hint texts. Default "units". */
+	units?: string;
 }
 
 /** What the self-intersection stage hands over (same shape as self-intersect.ts returns). */

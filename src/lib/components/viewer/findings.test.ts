@@ -15,7 +15,7 @@ describe('buildFindings', () => {
 		expect(holes.count).toBe(report.boundaryLoops);
 		expect(holes.items).toHaveLength(2);
 		// Faces 0 (z = 0) and 2 (z = 1) removed: each hole is a right triangle with legs 1, perimeter 2 + √2 ≈ 3.41 (analytic), lying on a bbox plane.
-		expect(holes.items[0].label).toBe('hole 1, 3.41 mm around, flat on z-min');
+		expect(holes.items[0].label).toBe('hole 1, 3.414 mm around, flat on z-min');
 		expect('segments' in holes.items[0].target && holes.items[0].target.segments?.length).toBe(18);
 		const si = groups.find((g) => g.kind === 'selfIntersections')!;
 		expect(si.count).toBeNull();

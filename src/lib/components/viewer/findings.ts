@@ -34,11 +34,9 @@ export interface FindingGroup {
 
 export const SUB_ITEMS_LISTED = 50;
 
+/** Lengths in the viewer through the app's one formatter (units always; SI prefixes at the extremes). */
 export function fmtLength(x: number, units: string): string {
-	if (!Number.isFinite(x)) return '–';
-	const a = Math.abs(x);
-	const s = a === 0 ? '0' : a >= 1000 || a < 0.01 ? x.toPrecision(3) : a >= 100 ? x.toFixed(0) : a >= 10 ? x.toFixed(1) : x.toFixed(a >= 1 ? 2 : 3);
-	return `${s} ${units}`;
+	return Number.isFinite(x) ? fmtMeasure(x, units, 1) : '–';
 }
 
 function segTarget(seg: Float32Array, s: number): FindingTarget {

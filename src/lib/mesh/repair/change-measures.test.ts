@@ -50,6 +50,13 @@ describe('repair change measures', () => {
 		expect(j.reason).not.toContain('area');
 	});
 
+	it('writes a move within round-off of the part (an exact weld) as 0, in the limit\'s unit, and a real move as measured', () => {
+		const weld = judgeRepair({ facesBefore: 12, facesAfter: 12, areaBefore: 60000, areaAfter: 60000, volumeBefore: 1e6, volumeAfter: 1e6, deviation: 8.565e-15 }, LIMITS, 2, 'mm');
+		expect(weld.lines.find((l) => l.measure === 'deviation')!.text).toBe('surface moved up to 0 mm against a limit of 1 mm');
+		const real = judgeRepair({ facesBefore: 12, facesAfter: 12, areaBefore: 60000, areaAfter: 60000, volumeBefore: 1e6, volumeAfter: 1e6, deviation: 0.0123 }, LIMITS, 2, 'mm');
+		expect(real.lines.find((l) => l.measure === 'deviation')!.text).toBe('surface moved up to 0.0123 mm against a limit of 1 mm');
+	});
+
 	it('with a rescale by F compares volume with F³·V and area with F²·A', () => {
 		const j = judgeRepair({ facesBefore: 12, facesAfter: 12, areaBefore: 6, areaAfter: 6e6, volumeBefore: 1, volumeAfter: 1e9, deviation: 0, scaleFactor: 1000 }, LIMITS, 1);
 		expect(j.within).toBe(true);

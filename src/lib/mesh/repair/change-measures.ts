@@ -2,7 +2,7 @@
  * How much a repair changed a mesh, and whether each change is within the project's repair limits.
  * Pure functions (no database): the engine thread measures, the check job and sign-off judge.
  */
-import { displayUnit, fmtCount, fmtLength, fmtNumber } from '../../format';
+import { displayUnit, fmtCount, fmtLength, fmtNumber, isRoundOff } from '../../format';
 import { faceCross, faceVolume6 } from './common';
 import { buildEdges } from '../edges';
 import type { MeshBuffers } from '../types';
@@ -107,8 +107,14 @@ export function judgeRepair(m: ChangeMeasures, limits: RepairLimits, targetCellS
 	const devLimit = limits.maxDeviation.mode === 'absolute' ? limits.maxDeviation.value : limits.maxDeviation.value * targetCellSize;
 	const dev = m.deviation;
 	// The move and its limit in one unit (the limit's), as the rule texts do.
-	const du = displayUnit([devLimit, dev], units || 'units', 1);
-	const lenText = (x: number) => (units ? fmtLength(x, units, { unit: du }) : fmt(x));
+	// A move within the round-off of the part's coordinates (an exact weld measures ~1e-15) reads 0,
+	// as in the headline. The part's size: the square root of the original's area, which the stored
+	// measures always have (the move is measured in the original's units, after undoing a rescale);
+	// close to the bounding-box diagonal for compact parts, smaller for slender ones, so the test
+	// errs towards showing a value.
+	const scale = Math.sqrt(Math.max(m.areaBefore > 0 ? m.areaBefore : m.areaAfter / f ** 2, 0));
+	const du = displayUnit([devLimit, dev], units || 'units', 1, { scale });
+	const lenText = (x: number) => (units ? fmtLength(x, units, { unit: du, scale }) : fmt(isRoundOff(x, 1, scale) ? 0 : x));
 	lines.push({
 		measure: 'deviation',
 		measured: dev,

@@ -15,6 +15,7 @@
  * that has zero area, or whose inner edge already exists in the mesh (it would become non-manifold)
  * is never used.
  */
+import { MAX_FILL_EDGES } from './ops';
 import { buildEdges, nextHalfedge } from '../edges';
 import { collapsedFaces } from '../topology';
 import { indexedBounds } from '../bounds';
@@ -56,7 +57,7 @@ export const DEFAULT_MAX_HOLE_EDGES = 200;
 /** Up to this many holes to fill, each scans all face boxes (O(F) each) instead of building a BVH. */
 const LINEAR_SCAN_HOLES = 8;
 /** The programme needs ~44 bytes × k² (45 MB at 1000 edges) and k³/6 steps: larger limits are refused. */
-export const MAX_HOLE_EDGES = 1000;
+export const MAX_HOLE_EDGES = MAX_FILL_EDGES;
 
 export function fillHoles(mesh: MeshBuffers, opts: FillHoleOptions = {}): RepairResult<FillHoleCounts> {
 	const op = 'fill-holes';

@@ -23,3 +23,4 @@ export {
 } from './recipe';
 export { areaAndVolume, sameMesh, judgeRepair, type ChangeMeasures, type RepairLimits, type LimitLine, type LimitJudgement } from './change-measures';
 export { skippedItems, recipeScaleFactor } from './skipped';
+export { REPAIR_OPS, OP_BY_NAME, ALL_PARAM_KEYS, type OpDef, type ParamDef, type ParamKind } from './ops';

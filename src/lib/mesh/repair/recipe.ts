@@ -11,6 +11,7 @@ import { removeSmallShells } from './remove-small-shells';
 import { splitNonManifoldVertices } from './split-non-manifold';
 import { weldByTolerance } from './weld-tolerance';
 import { rescale } from './rescale';
+import { MAX_RECIPE_STEPS, REPAIR_OPS } from './ops';
 import type { MeshBuffers } from '../types';
 
 /** Lengths are in model units unless the name says relative (then × bounding-box diagonal). */
@@ -43,19 +44,12 @@ export interface RecipeResult {
 	log: RepairLogEntry[];
 }
 
-export const MAX_RECIPE_STEPS = 64;
+export { MAX_RECIPE_STEPS } from './ops';
 
-/** Allowed parameters per op: name → whether required. */
-const PARAMS: Record<RepairOp, Record<string, boolean>> = {
-	weld: { tolerance: false, relativeTolerance: false },
-	'remove-degenerate-faces': {},
-	'remove-small-shells': { maxFaces: false, maxAreaShare: false, maxVolumeShare: false },
-	'split-non-manifold-vertices': {},
-	orient: {},
-	'fill-holes': { maxPerimeter: false, maxEdges: false },
-	'collapse-short-edges': { minLength: true },
-	rescale: { factor: true }
-};
+/** Allowed parameters per op: name → whether required (from the one table in ops.ts). */
+const PARAMS: Record<RepairOp, Record<string, boolean>> = Object.fromEntries(
+	REPAIR_OPS.map((o) => [o.op, Object.fromEntries(o.params.map((p) => [p.key, !!p.required]))])
+) as Record<RepairOp, Record<string, boolean>>;
 
 /**
  * Checks a recipe given as JSON text or as already-parsed data, and returns it typed. Throws a

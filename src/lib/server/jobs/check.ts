@@ -124,7 +124,8 @@ export async function processCheckJob(db: Db, j: ClaimedJob, workerId: string, l
 					cellSize: ctx.project.targetCellSize,
 					thinCells: rules.minWallGapCells ?? DEFAULT_THIN_CELLS,
 					maxFaces: config.maxFaces,
-					fileName: ctx.rev.fileName
+					fileName: ctx.rev.fileName,
+					units: ctx.project.units
 				},
 				threads: config.checkThreads
 			},

@@ -9,8 +9,9 @@ import { partHistory, revisionDetail } from '$lib/server/revision-detail';
 import { checkRecipe, projectRecipes, proposeRepair, saveRecipe, standardRecipe } from '$lib/server/repairs';
 import { DomainError } from '$lib/domain-error';
 import { fourEyesConflict, recheck, returnRevision, signOff } from '$lib/server/decisions';
-import { actionResult, formResult, raiseForPage } from '$lib/server/errors';
+import { actionResult, formFailure, formResult, raiseForPage } from '$lib/server/errors';
 import { commentFormSchema, returnFormSchema, signOffFormSchema } from '$lib/forms';
+import { recipeFormSchema, rowToStep, stepToRow } from '$lib/recipe-form';
 import { loadRevisionForUser } from '$lib/server/revisions';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -35,7 +36,8 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 			standardRecipe: standardRecipe(detail.project.targetCellSize),
 			commentForm: await superValidate(zod4(commentFormSchema), { id: 'comment' }),
 			returnForm: await superValidate(zod4(returnFormSchema), { id: 'return' }),
-			signOffForm: await superValidate(zod4(signOffFormSchema), { id: 'sign-off' })
+			signOffForm: await superValidate(zod4(signOffFormSchema), { id: 'sign-off' }),
+			recipeForm: await superValidate({ name: 'standard', intent: 'propose', steps: standardRecipe(detail.project.targetCellSize).map(stepToRow) }, zod4(recipeFormSchema), { id: 'recipe', errors: false })
 		};
 	} catch (e) {
 		raiseForPage(e);
@@ -75,21 +77,38 @@ export const actions: Actions = {
 			return message(form, 'Returned to the designer.');
 		});
 	},
-	repair: async ({ locals, params, request }) =>
-		guarded(async () => {
-			const me = requireRole(locals, 'engineer');
-			const fd = await request.formData();
-			const steps = checkRecipe(String(fd.get('steps') ?? ''));
-			const name = String(fd.get('name') ?? '').trim();
-			if (fd.get('save') === '1') {
+	repair: async ({ locals, params, request }) => {
+		const me = requireRole(locals, 'engineer');
+		const fd = await request.formData();
+		let form;
+		if (fd.has('__superform_json')) form = await superValidate(fd, zod4(recipeFormSchema));
+		else {
+			// Posted without the form's script (a one-click fix, or a script): `steps` is the recipe as
+			// JSON text, checked by the same validator as the API's recipes, then by the form's schema.
+			form = await superValidate(zod4(recipeFormSchema), { id: String(fd.get('__superform_id') ?? 'recipe') });
+			let steps;
+			try {
+				steps = checkRecipe(String(fd.get('steps') ?? ''));
+			} catch (e) {
+				return formFailure(form, e);
+			}
+			const name = String(fd.get('name') ?? '').slice(0, 120);
+			form = await superValidate({ name, intent: fd.get('save') === '1' ? 'save' : 'propose', steps: steps.map(stepToRow) }, zod4(recipeFormSchema), { id: form.id });
+		}
+		if (!form.valid) return fail(400, { form });
+		return formResult(form, async () => {
+			const steps = checkRecipe(form.data.steps.map(rowToStep));
+			const name = form.data.name.trim();
+			if (form.data.intent === 'save') {
 				const db = getDb();
 				const ctx = await loadRevisionForUser(db, me, revId(params.id));
 				await saveRecipe(db, me, ctx.project.slug, name, steps);
-				return { recipeSaved: name };
+				return message(form, `Recipe “${name}” saved on the project.`);
 			}
 			await proposeRepair(getDb(), me, revId(params.id), steps, name || 'custom');
-			return { repairQueued: true };
-		}),
+			return message(form, 'Repair queued.');
+		});
+	},
 	signOff: async ({ locals, params, request }) => {
 		const me = requireRole(locals, 'reviewer');
 		const form = await superValidate(request, zod4(signOffFormSchema));

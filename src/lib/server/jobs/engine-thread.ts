@@ -2,7 +2,6 @@
 // a repaired file or a converted file out, with progress. Imports only src/lib/mesh, so a worker
 // thread loads no server or database code.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
-import { inspectBytes } from '../../mesh/inspect';
 import { inspectFileNode } from '../../mesh/inspect-node';
 import { isWorkerFor, lowerThisThreadPriority } from '../../mesh/module-worker-node';
 import { readMesh } from '../../mesh/read';
@@ -56,8 +55,7 @@ function write(mesh: Parameters<typeof writeBinaryStl>[0], format: ExportFormat)
 
 async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise<unknown> {
 	if (input.task === 'check') {
-		// Small files: starting more threads would cost more than the whole check.
-		if (input.bytes.byteLength < 4 * 1024 * 1024) return inspectBytes(input.bytes, input.fileName, input.options);
+		// Small meshes stay on this thread (inspect-node.ts: SELF_INTERSECT_WORKER_MIN_FACES).
 		return inspectFileNode(input.bytes, input.fileName, {
 			...input.options,
 			threads: input.threads,

@@ -39,7 +39,7 @@ const SIZES: SizeSpec[] = [
 /** 100k stays available (BENCH_SIZES=100k) for the figures quoted beside the cell-size checks. */
 const DEFAULT_SIZES = ['35k', '90k', '200k', '1m', '2m'];
 
-const CASE_ORDER = ['cli', 'report', 'report-warm', 'self-intersect-1t', 'self-intersect-2w'];
+const CASE_ORDER = ['cli', 'report', 'report-warm', 'server-start', 'self-intersect-1t', 'self-intersect-2w'];
 
 /** Bump when the generator or shapes change, so cached meshes in bench-out/ are rebuilt. */
 const GEN_VERSION = 2;

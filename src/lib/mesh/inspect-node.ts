@@ -105,10 +105,11 @@ export function defaultSelfIntersectThreads(): number {
 
 /**
  * Faces from which worker threads pay for their start-up in the self-intersection stage. Below
- * it, the calling thread counts them itself after its other stages. Measured with `npm run bench`
- * (README, "Engine bench": the command line with and without workers at 35 k to 200 k faces).
+ * it, the calling thread counts them itself after its other stages. Set above the largest size at
+ * which the bench's cli-workers row (workers forced) came out slower than its cli-1t row (one
+ * thread), wall and CPU: README, "Engine bench".
  */
-export const SELF_INTERSECT_WORKER_MIN_FACES = 150_000;
+export const SELF_INTERSECT_WORKER_MIN_FACES = 250_000;
 
 /**
  * An upper bound on the faces a file can hold, from its size alone: exact for a binary STL whose

@@ -87,19 +87,17 @@ describe('inspect command', () => {
 		const child = spawn(process.execPath, [cli, file, '--json', '--no-self-intersections'], { stdio: ['ignore', 'pipe', 'pipe'] });
 		const chunks: Buffer[] = [];
 		const out = child.stdout;
+		// A deliberately slow reader: nothing for half a second, then a pause after every chunk.
 		out.pause();
-		// A deliberately slow reader: take one chunk, then wait before asking for the next.
-		const pump = () => {
-			const c = out.read() as Buffer | null;
-			if (c) chunks.push(c);
-			if (!out.readableEnded) timer = setTimeout(pump, c ? 5 : 20);
-		};
-		let timer = setTimeout(pump, 500);
-		// Read until the pipe's own end (the process may exit before its last bytes are read).
 		const ended = new Promise<void>((resolve) => out.once('end', () => resolve()));
+		out.on('data', (c: Buffer) => {
+			chunks.push(c);
+			out.pause();
+			setTimeout(() => out.resume(), 5);
+		});
+		setTimeout(() => out.resume(), 500);
 		const code = await new Promise<number | null>((resolve) => child.on('exit', (c) => resolve(c)));
 		await ended;
-		clearTimeout(timer);
 		const text = Buffer.concat(chunks).toString('utf8');
 		expect(code).toBe(0);
 		expect(text.length).toBeGreaterThan(1_000_000);

@@ -98,6 +98,54 @@ export const CASES: Record<string, BenchCase> = {
 		};
 	},
 
+	/**
+	 * The server's engine pool from its start: warm() as the server calls it (time), then the first
+	 * check (wall, the figure a user meets after a restart) and a second one; resident memory after
+	 * warming, after the checks, and once the thread that ran this file was retired (files of
+	 * retireBytes or more) and a fresh warm one took its place.
+	 */
+	async 'server-start'(bytes, fileName) {
+		const retireIdleMs = 1000;
+		const pool = new EnginePool({ url: ENGINE_THREAD_URL, tag: ENGINE_THREAD_TAG, niceness: 0, maxIdle: 1, idleMs: 60_000, keepWarm: 1, retireIdleMs });
+		const limits = { timeLimitMs: 600_000, memoryLimitMb: 4096 };
+		const rss = () => process.memoryUsage().rss / 2 ** 20;
+		const check = (copy: Uint8Array): Promise<InspectionReport> =>
+			pool.run<InspectionReport>({ task: 'check', bytes: copy, fileName, options: { fileName }, threads: defaultSelfIntersectThreads() }, limits, () => {});
+		const rss0 = rss();
+		let t0 = performance.now();
+		await pool.warm(limits.memoryLimitMb);
+		const warmMs = performance.now() - t0;
+		const rssWarm = rss();
+		const copies = [bytes.slice(), bytes.slice()];
+		t0 = performance.now();
+		const first = await check(copies[0]);
+		const firstMs = performance.now() - t0;
+		t0 = performance.now();
+		await check(copies[1]);
+		const secondMs = performance.now() - t0;
+		const rssChecked = rss();
+		const retired = bytes.byteLength >= 24 * 1024 * 1024;
+		if (retired) {
+			const before = pool.idleThreadIds[0];
+			for (let k = 0; k < 600 && pool.idleThreadIds[0] === before; k++) await new Promise((r) => setTimeout(r, 50));
+			await pool.warm(limits.memoryLimitMb);
+			await new Promise((r) => setTimeout(r, 1000));
+		}
+		const rssAfter = rss();
+		await pool.close();
+		return {
+			wallMs: firstMs,
+			stages: first.timings,
+			extra: {
+				'warm() ms': Math.round(warmMs),
+				'first check ms': Math.round(firstMs),
+				'second check ms': Math.round(secondMs),
+				'RSS MB at start / warm / after 2 checks / idle later': [rss0, rssWarm, rssChecked, rssAfter].map((x) => Math.round(x)).join(' / '),
+				'idle later': retired ? 'thread retired and replaced' : 'thread kept (file under 24 MB)'
+			}
+		};
+	},
+
 	'self-intersect-1t': (bytes, fileName) => selfIntersectCase(bytes, fileName, 0),
 	'self-intersect-2w': (bytes, fileName) => selfIntersectCase(bytes, fileName, 2)
 };

@@ -102,7 +102,8 @@ want() { case " $STAGES_WANTED " in *" $1 "*) return 0 ;; *) return 1 ;; esac; }
 UNIT_FILES=() E2E_FILES=()
 for f in ${TEST_FILES:-}; do case $f in *.e2e.ts) E2E_FILES+=("$f") ;; *) UNIT_FILES+=("$f") ;; esac; done
 if want check; then run_stage svelte-check npm run check || true; fi
-if want unit; then run_stage vitest npx vitest run --passWithNoTests "${UNIT_FILES[@]}" || true; fi
+# The command line's tests run the built one (dist-cli/, git-ignored), so it is built first.
+if want unit; then run_stage "command line build" node scripts/build-cli.mjs && run_stage vitest npx vitest run --passWithNoTests "${UNIT_FILES[@]}" || true; fi
 want e2e || { [ "${#FAILED[@]}" = 0 ] || { warn "failed: ${FAILED[*]}"; exit 1; }; exit 0; }
 # The end-to-end tests sign in as the demo users, so the demo data goes in after the integration tests.
 seed_demo() { if [ -f scripts/seed.ts ]; then run_ts scripts/seed.ts; else log "scripts/seed.ts not there yet"; fi; }

@@ -1,19 +1,45 @@
-import { afterAll, describe, expect, it } from 'vitest';
-import { spawn, spawnSync } from 'node:child_process';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { execFileSync, spawn, spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { writeBinaryStl } from './write';
-import { concat, unitCube, withoutFaces } from './testing/test-meshes';
+import { inspectFileNode } from './inspect-node';
+import { concat, icosphere, unitCube, withoutFaces } from './testing/test-meshes';
 
-const cli = fileURLToPath(new URL('./cli.ts', import.meta.url));
-const tsx = fileURLToPath(new URL('../../../node_modules/.bin/tsx', import.meta.url));
-const run = (...args: string[]) => spawnSync(tsx, [cli, ...args], { encoding: 'utf8', timeout: 60_000 });
+// The command line as it ships: plain JavaScript built ahead (scripts/build-cli.mjs), run by node.
+const builder = fileURLToPath(new URL('../../../scripts/build-cli.mjs', import.meta.url));
+const cli = fileURLToPath(new URL('../../../dist-cli/cli.js', import.meta.url));
+const run = (...args: string[]) => spawnSync(process.execPath, [cli, ...args], { encoding: 'utf8', timeout: 60_000 });
 const dir = mkdtempSync(join(tmpdir(), 'shellgate-cli-'));
+beforeAll(() => {
+	execFileSync(process.execPath, [builder, '--if-stale'], { stdio: 'inherit' });
+}, 60_000);
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
+/** The JSON text with its one `timings` object emptied: the only part that may differ between runs. */
+const withoutTimings = (json: string) => json.replace(/"timings":\{[^{}]*\}/, '"timings":{}');
+
 describe('inspect command', () => {
+	it('gives byte for byte the JSON of the engine called in this process, timings aside, on one thread and on workers', async () => {
+		// Two overlapping spheres (self-intersections) and an open cube (a hole, a second shell).
+		const a = icosphere(1), b = icosphere(1);
+		for (let i = 0; i < b.positions.length; i += 3) b.positions[i] += 1.2;
+		const file = join(dir, 'two-pods-and-a-box.stl');
+		writeFileSync(file, writeBinaryStl(concat(a, b, withoutFaces(unitCube([4, 0, 0]), [3]))));
+		for (const args of [['--threads', '0'], ['--threads', '2', '--worker-min-faces', '0']]) {
+			const r = run(file, '--json', '--flow', '0,1,1', ...args);
+			expect(r.status, r.stderr).toBe(0);
+			const threads = Number(args[1]);
+			const inProcess = await inspectFileNode(readFileSync(file), file, { flowDirection: [0, 1, 1], threads, workerMinFaces: args.length > 2 ? 0 : undefined });
+			// Under the sample cap, the sample is every pair in order, whichever thread found it.
+			expect(inProcess.selfIntersectingPairs).toBeGreaterThan(0);
+			expect(inProcess.selfIntersectingPairs).toBeLessThan(100);
+			expect(withoutTimings(r.stdout)).toBe(withoutTimings(`${JSON.stringify(inProcess)}\n`));
+		}
+	}, 60_000);
+
 	it('prints one JSON report and exits 0 for a readable file', () => {
 		const file = join(dir, 'pod-open.stl');
 		writeFileSync(file, writeBinaryStl(withoutFaces(unitCube(), [0])));
@@ -58,20 +84,20 @@ describe('inspect command', () => {
 		for (let i = 0; i < 4000; i++) cubes.push(withoutFaces(unitCube([2 * (i % 60), 2 * Math.floor(i / 60), 0]), [0]));
 		const file = join(dir, 'many-pods.stl');
 		writeFileSync(file, writeBinaryStl(concat(...cubes)));
-		const child = spawn(tsx, [cli, file, '--json', '--no-self-intersections'], { stdio: ['ignore', 'pipe', 'pipe'] });
+		const child = spawn(process.execPath, [cli, file, '--json', '--no-self-intersections'], { stdio: ['ignore', 'pipe', 'pipe'] });
 		const chunks: Buffer[] = [];
 		const out = child.stdout;
+		// A deliberately slow reader: nothing for half a second, then a pause after every chunk.
 		out.pause();
-		// A deliberately slow reader: take one chunk, then wait before asking for the next.
-		const pump = () => {
-			const c = out.read() as Buffer | null;
-			if (c) chunks.push(c);
-			setTimeout(pump, c ? 5 : 20);
-		};
-		const timer = setTimeout(pump, 500);
-		const code = await new Promise<number | null>((resolve) => child.on('close', (c) => resolve(c)));
-		clearTimeout(timer);
-		for (let c = out.read() as Buffer | null; c; c = out.read() as Buffer | null) chunks.push(c);
+		const ended = new Promise<void>((resolve) => out.once('end', () => resolve()));
+		out.on('data', (c: Buffer) => {
+			chunks.push(c);
+			out.pause();
+			setTimeout(() => out.resume(), 5);
+		});
+		setTimeout(() => out.resume(), 500);
+		const code = await new Promise<number | null>((resolve) => child.on('exit', (c) => resolve(c)));
+		await ended;
 		const text = Buffer.concat(chunks).toString('utf8');
 		expect(code).toBe(0);
 		expect(text.length).toBeGreaterThan(1_000_000);

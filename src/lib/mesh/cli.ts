@@ -1,13 +1,14 @@
 /**
- * `npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--no-self-intersections]`
+ * `npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--worker-min-faces N] [--no-self-intersections]`
  * Prints a readable summary, or one JSON report on stdout with --json. Exit 0 when the file was
  * read and inspected, 2 with the message on stderr when not.
  */
 import { readFileSync, writeSync } from 'node:fs';
+import { isMainThread } from 'node:worker_threads';
 import { inspectFileNode, type InspectNodeOptions } from './inspect-node';
 import { volumeReasonText, type InspectionReport, type Vec3 } from './report-types';
 
-const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--no-self-intersections]';
+const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--worker-min-faces N] [--no-self-intersections]';
 
 class UsageError extends Error {}
 
@@ -32,6 +33,7 @@ function parseArgs(argv: string[]): { file: string; json: boolean; opts: Inspect
 		else if (a === '--cell-size') opts.cellSize = num('--cell-size', argv[++i]);
 		else if (a === '--max-faces') opts.maxFaces = num('--max-faces', argv[++i]);
 		else if (a === '--threads') opts.threads = num('--threads', argv[++i]);
+		else if (a === '--worker-min-faces') opts.workerMinFaces = num('--worker-min-faces', argv[++i]);
 		else if (a === '--help' || a === '-h') throw new UsageError(USAGE);
 		else if (a.startsWith('--')) throw new UsageError(`unknown option ${a}\n${USAGE}`);
 		else if (file === null) file = a;
@@ -125,7 +127,11 @@ function writeAll(fd: number, text: string): void {
 	}
 }
 
-// Set the exit code and let Node leave once stdout has drained; process.exit() would cut a piped report short.
-main().then((code) => {
-	process.exitCode = code;
-});
+// The built command line is one bundle that its worker threads load too (module-worker-node.ts):
+// only the main thread runs the command. Set the exit code and let Node leave once stdout has
+// drained; process.exit() would cut a piped report short.
+if (isMainThread) {
+	main().then((code) => {
+		process.exitCode = code;
+	});
+}

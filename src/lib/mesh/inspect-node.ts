@@ -5,6 +5,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { readMesh } from './read';
+import { findSelfIntersections } from './self-intersect';
 import { startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
 import { validateMesh } from './validate';
 import { buildReport, type InspectionReport } from './report';
@@ -17,9 +18,15 @@ import { faceDistancesBothParallel } from './thickness-node';
 export interface InspectNodeOptions extends InspectRunOptions {
 	/**
 	 * Worker threads for self-intersections beside the calling thread; default one per core. The
-	 * calling thread also joins the traversal once its own stages are done.
+	 * calling thread also joins the traversal once its own stages are done. 0: the calling thread
+	 * alone, after its other stages.
 	 */
 	threads?: number;
+	/**
+	 * Below this many faces the self-intersections run on the calling thread, with no worker
+	 * threads (default SELF_INTERSECT_WORKER_MIN_FACES); 0 uses the workers whatever the size.
+	 */
+	workerMinFaces?: number;
 	/** Stage names: read, topology, measures, shells, projection, hints, self-intersections, done. */
 	onProgress?: (stage: string, percent: number) => void;
 	signal?: AbortSignal;
@@ -28,17 +35,21 @@ export interface InspectNodeOptions extends InspectRunOptions {
 export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts: InspectNodeOptions = {}): Promise<InspectionReport> {
 	const t0 = performance.now();
 	const progress = (stage: string, percent: number) => opts.onProgress?.(stage, percent);
-	const threads = opts.threads ?? defaultSelfIntersectThreads();
-	// Worker start-up (module loading in each thread) then overlaps reading the file.
-	if (!opts.skipSelfIntersections) warmSelfIntersectPool(threads);
+	const maxThreads = opts.threads ?? defaultSelfIntersectThreads();
+	const minFaces = opts.workerMinFaces ?? SELF_INTERSECT_WORKER_MIN_FACES;
+	const sampleLimit = opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT;
+	// Worker start-up (module loading in each thread) then overlaps reading the file, when the
+	// file can hold enough faces to use them.
+	if (!opts.skipSelfIntersections && maxThreads > 0 && maxFacesIn(bytes, fileName) >= minFaces) warmSelfIntersectPool(maxThreads);
 	progress('read', 0);
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
 	const parsed = readMesh(bytes, fileName, { maxFaces });
 	const timings: Record<string, number> = { ...(opts.timings ?? {}), read: performance.now() - t0 };
 	validateMesh(parsed, { maxFaces });
+	const threads = parsed.indices.length / 3 >= minFaces ? maxThreads : 0;
 	// Started before the synchronous analysis below so the workers run alongside it. A rejection
 	// is caught here and rethrown at the await, so it never goes unhandled meanwhile.
-	const siRun = opts.skipSelfIntersections ? null : startSelfIntersections(parsed, { sampleLimit: opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT, threads, signal: opts.signal });
+	const siRun = opts.skipSelfIntersections || threads === 0 ? null : startSelfIntersections(parsed, { sampleLimit, threads, signal: opts.signal });
 	let siError: unknown = null;
 	const siPromise = siRun?.finish().catch((e: unknown) => {
 		siError = e;
@@ -65,13 +76,19 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 			// (taking traversal tasks itself, then waiting for the workers' last ones).
 			report.timings.selfIntersectionsWait = performance.now() - tWait;
 		}
+	} else if (!opts.skipSelfIntersections) {
+		progress('self-intersections', 80);
+		const si = findSelfIntersections(parsed, { sampleLimit });
+		report.selfIntersectingPairs = si.pairs;
+		report.selfIntersectionSample = si.sample.map((x) => ({ a: x.a, b: x.b, point: [x.point[0], x.point[1], x.point[2]] }));
+		report.timings.selfIntersections = si.ms;
 	}
 	if (opts.cellSize !== undefined && report.faces > 0) {
 		progress('walls and gaps', 90);
 		const t1 = performance.now();
 		const thinCells = opts.thinCells ?? DEFAULT_THIN_CELLS;
 		const maxDistance = cellSizeMaxDistance({ cellSize: opts.cellSize });
-		const distances = await faceDistancesBothParallel(parsed, { cellSize: opts.cellSize, maxDistance, threads });
+		const distances = await faceDistancesBothParallel(parsed, { cellSize: opts.cellSize, maxDistance, threads: Math.max(1, threads) });
 		const res = analyseCellSize(parsed, { cellSize: opts.cellSize, thinCells, maxDistance, distances });
 		report.cellSizeChecks = cellSizeChecksOf(res, thinCells, performance.now() - t1);
 		report.timings.cellSize = report.cellSizeChecks.ms;
@@ -81,11 +98,28 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 	return report;
 }
 
-/**
- * One self-intersection worker per core. Measured on 2 cores, warm, 1 M faces: with 2 workers and
- * the calling thread joining, median 1,089 ms over 7 checks; with 1 worker and the calling thread
- * joining, 1,328 ms (the traversal then waits on the one worker while the other core idles early).
- */
+/** One self-intersection worker per core. */
 export function defaultSelfIntersectThreads(): number {
 	return availableParallelism();
+}
+
+/**
+ * Faces from which worker threads pay for their start-up in the self-intersection stage. Below
+ * it, the calling thread counts them itself after its other stages. Set above the largest size at
+ * which the bench's cli-workers row (workers forced) came out slower than its cli-1t row (one
+ * thread), wall and CPU: README, "Engine bench".
+ */
+export const SELF_INTERSECT_WORKER_MIN_FACES = 250_000;
+
+/**
+ * An upper bound on the faces a file can hold, from its size alone: exact for a binary STL whose
+ * header count matches its size; otherwise no format spends fewer than 12 bytes a face (a binary
+ * PLY face with an 8-bit count and three 32-bit indices is 13).
+ */
+function maxFacesIn(bytes: Uint8Array, fileName: string): number {
+	if (/\.stl$/i.test(fileName) && bytes.byteLength >= 84) {
+		const n = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength).getUint32(80, true);
+		if (84 + 50 * n === bytes.byteLength) return n;
+	}
+	return Math.floor(bytes.byteLength / 12);
 }

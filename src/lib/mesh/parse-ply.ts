@@ -1,18 +1,15 @@
 /**
  * PLY reader: ascii, binary_little_endian, binary_big_endian; own parser over DataView.
  *
- * Why not @loaders.gl/ply 4.4.5 (checked 2026-12-01 on this machine, Node 20; figures from
- * scripts/bench-readers.ts, 1M-face binary_little_endian PLY of 25 MB, minimum over runs):
- * - speed: loaders.gl parseSync 1,333 ms CPU (2.1–3.9 s wall), this reader 72 ms CPU (~240 ms wall)
- *   with the duplicate-position count included, i.e. about 18× less CPU. It decodes the whole
- *   binary file as text to find the header and builds plain JS arrays per element.
+ * Why not @loaders.gl/ply:
+ * - speed: on large binary files it is many times slower (scripts/bench-readers.ts prints both): it
+ *   decodes the whole binary file as text to find the header and builds plain JS arrays per element.
  * - face indices: triangles and quads come through intact (quads split as 0,1,3 / 1,2,3), but a
  *   face with 5+ corners or with 2 is dropped without notice, an out-of-range index (9 of 5
  *   vertices) is passed through, a file truncated after the first of 3 faces reads as 1 face, and
  *   a header without end_header gives an empty mesh: none raise an error.
  * - unknown header lines (obj_info) are logged to the console.
  * So this reader is the product's; loaders.gl stays the outside reference in parse-ply.test.ts.
- * Wall times were taken at a load average of about 12 on 2 vCPUs; trust the CPU figures.
  */
 import { DEFAULT_MAX_FACES, MeshReadError, type MeshFormat, type ParsedMesh, type ReadOptions } from './types';
 import { countDuplicatePositions } from './weld';

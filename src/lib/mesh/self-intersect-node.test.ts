@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { mulberry32, sphere, towBody } from './testing/implicit-shapes';
 import { gridFor, marchingCubes } from './testing/marching-cubes';
 import { findSelfIntersections } from './self-intersect';
-import { closeSelfIntersectPool, findSelfIntersectionsParallel, startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
+import { closeSelfIntersectPool, findSelfIntersectionsParallel, SelfIntersectPool, startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
 
 /** Small triangles scattered in a 12-unit box on a 1/8 grid; a third reuse a corner of the previous one. */
 function soup(seed: number, triCount: number) {
@@ -76,6 +76,23 @@ describe('findSelfIntersectionsParallel', () => {
 		expect((await findSelfIntersectionsParallel(m, { threads: 2 })).pairs).toBe(want);
 		await closeSelfIntersectPool();
 		expect((await findSelfIntersectionsParallel(m, { threads: 3 })).pairs).toBe(want);
+	});
+
+	it('keeps each pool object to its own workers and lifetime (seed 18)', async () => {
+		const m = soup(18, 1500);
+		const want = findSelfIntersections(m).pairs;
+		const a = new SelfIntersectPool(), b = new SelfIntersectPool();
+		a.warm(2);
+		b.warm(1);
+		expect([a.size, b.size]).toEqual([2, 1]);
+		expect((await a.start(m, { threads: 2 }).finish()).pairs).toBe(want);
+		await b.close();
+		expect([a.size, b.size]).toEqual([2, 0]);
+		expect((await a.start(m, { threads: 2 }).finish()).pairs).toBe(want);
+		expect((await b.start(m, { threads: 1 }).finish()).pairs).toBe(want);
+		expect(b.size).toBe(1);
+		await Promise.all([a.close(), b.close()]);
+		expect([a.size, b.size]).toEqual([0, 0]);
 	});
 
 	it('keeps working after a cancelled call terminated the pool workers (seed 14)', async () => {

@@ -4,10 +4,11 @@
  * How the workers load: module-worker-node.ts starts a thread that imports this very module by its
  * own `import.meta.url`, and the module-level check at the bottom runs `runSelfIntersectWorker()`
  * there (calling the export by name would break once the bundler renames a chunk's exports).
- * When the URL is TypeScript source (under tsx or vitest), tsx's CommonJS hook is loaded first. Measured on Node 20.20: a worker started
- * with `execArgv: ['--import', 'tsx']` (or tsx's loader file) still fails with "Unknown file
- * extension .ts", and tsx's ESM `register()` API fails inside an eval'd worker, while the CommonJS
- * hook works, including for ESM-only dependencies such as robust-predicates.
+ * When the URL is TypeScript source (under tsx or vitest), tsx's CommonJS hook is loaded first: a
+ * worker started with `execArgv: ['--import', 'tsx']` fails with "Unknown file extension .ts" and
+ * tsx's ESM `register()` fails inside an eval'd worker, while the CommonJS hook works, including
+ * for ESM-only dependencies such as robust-predicates. The built command line and `vite build`
+ * load plain JavaScript.
  *
  * Work split: the mesh buffers are copied once into SharedArrayBuffers. The workers share the
  * setup (each encodes a share of the faces; worker 0 sorts; each gathers a share of the slots,
@@ -17,12 +18,13 @@
  * forever at a barrier. Tasks partition the face-pair space, so the shard
  * counts sum exactly to the single-threaded count. Samples are merged, sorted by face ids, capped.
  *
- * Worker pool: starting a worker costs 0.1-0.5 s (more under tsx, which compiles the modules in
- * each thread), so the workers are kept in a small pool per thread, created lazily and reused by
- * later calls; `warmSelfIntersectPool` starts them ahead of need (inspect-node.ts calls it before
- * reading the file). Idle workers are unref'd, so the pool never keeps a process alive; they are
- * ref'd only while a check runs. One check uses the pool at a time; a call that overlaps a running
- * one gets its own workers, terminated after. `closeSelfIntersectPool` terminates the pool.
+ * Worker pool: starting a worker costs module loading and compiling in the new thread, so workers
+ * live in a SelfIntersectPool (an object with a lifetime: warm, start runs, close), created lazily
+ * and reused by later runs, with the shared buffers of its last run. Each thread has one default
+ * pool (`selfIntersectPool()`); `warmSelfIntersectPool` starts its workers ahead of need
+ * (inspect-node.ts calls it before reading the file). Idle workers are unref'd, so a pool never
+ * keeps a process alive; they are ref'd only while a run uses them. One run uses a pool at a time;
+ * a run that overlaps a running one gets its own workers, terminated after.
  *
  * Cancellation: pass an AbortSignal; all workers are terminated and the promise rejects.
  */
@@ -187,39 +189,6 @@ export function runSelfIntersectWorker(): void {
 	});
 }
 
-/** Workers kept between calls on this thread (see the file comment). */
-const pool: Worker[] = [];
-let poolBusy = false;
-let nextJob = 1;
-
-function spawnWorker(): Worker {
-	const w = spawnModuleWorker(import.meta.url, WORKER_TAG, {});
-	// A worker that dies while idle (or is terminated) leaves the pool.
-	w.once('exit', () => {
-		const k = pool.indexOf(w);
-		if (k >= 0) pool.splice(k, 1);
-	});
-	w.unref();
-	return w;
-}
-
-/**
- * Starts pool workers up to `threads` (default os.availableParallelism()) without waiting for
- * them, so a later findSelfIntersectionsParallel does not pay their start-up.
- */
-export function warmSelfIntersectPool(threads?: number): void {
-	const n = Math.max(1, Math.floor(threads ?? availableParallelism()));
-	if (poolBusy) return;
-	while (pool.length < n) pool.push(spawnWorker());
-}
-
-/** Terminates the pooled workers; the next call starts new ones. */
-export async function closeSelfIntersectPool(): Promise<void> {
-	kept = null;
-	const ws = pool.splice(0, pool.length);
-	await Promise.all(ws.map((w) => w.terminate()));
-}
-
 /** Shared buffers of one call, each sized for `faces` faces (nodes for bvhMaxNodes) and `coords` coordinates. */
 interface SharedScratch extends SharedBuffers {
 	faces: number;
@@ -253,19 +222,109 @@ function newScratch(faces: number, coords: number): SharedScratch {
 	};
 }
 
-/** The pool's buffers, kept from the last pooled call and replaced when too small. */
-let kept: SharedScratch | null = null;
-
-/** Largest mesh whose buffers are kept (about 90 bytes per face: 270 MB at this size); larger calls get buffers of their own. */
+/** Largest mesh whose buffers a pool keeps (about 90 bytes per face: 270 MB at this size); larger runs get buffers of their own. */
 const KEEP_FACES_MAX = 3_000_000;
 
-function sharedScratch(faces: number, coords: number): SharedScratch {
-	if (faces > KEEP_FACES_MAX) return newScratch(faces, coords);
-	if (!kept || kept.faces < faces || kept.coords < coords) {
-		kept = null; // let the old buffers go before the new ones are made
-		kept = newScratch(faces, coords);
+let nextJob = 1;
+
+function spawnWorker(): Worker {
+	const w = spawnModuleWorker(import.meta.url, WORKER_TAG, {});
+	w.unref();
+	return w;
+}
+
+/**
+ * Self-intersection workers and the shared buffers of their last run, kept between runs until
+ * close(). Runs started while another one holds the workers get workers of their own.
+ */
+export class SelfIntersectPool {
+	private workers: Worker[] = [];
+	private busy = false;
+	private kept: SharedScratch | null = null;
+	private closed = false;
+
+	/** Starts workers up to `threads` without waiting for them, so a later run does not pay their start-up. */
+	warm(threads = availableParallelism()): void {
+		if (this.busy) return;
+		this.closed = false;
+		const n = Math.max(1, Math.floor(threads));
+		while (this.workers.length < n) this.workers.push(this.watch(spawnWorker()));
 	}
-	return kept;
+
+	/** Terminates the workers and lets the kept buffers go; a later run starts new ones. */
+	async close(): Promise<void> {
+		this.closed = true;
+		this.kept = null;
+		const ws = this.workers.splice(0, this.workers.length);
+		await Promise.all(ws.map((w) => w.terminate()));
+	}
+
+	get size(): number {
+		return this.workers.length;
+	}
+
+	/** Starts a run on this pool's workers when free, else on workers of its own (see startSelfIntersections). */
+	start(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions = {}): SelfIntersectionRun {
+		try {
+			return startRun(mesh, opts, this);
+		} catch (e) {
+			return { help: () => 0, finish: () => Promise.reject(e) };
+		}
+	}
+
+	/** For startRun: this pool's workers and buffers, or null when a run holds them. */
+	acquire(threads: number, faces: number, coords: number): { workers: Worker[]; scratch: SharedScratch } | null {
+		if (this.busy) return null;
+		this.busy = true;
+		this.closed = false;
+		while (this.workers.length < threads) this.workers.push(this.watch(spawnWorker()));
+		let scratch: SharedScratch;
+		if (faces > KEEP_FACES_MAX) scratch = newScratch(faces, coords);
+		else {
+			if (!this.kept || this.kept.faces < faces || this.kept.coords < coords) {
+				this.kept = null; // let the old buffers go before the new ones are made
+				this.kept = newScratch(faces, coords);
+			}
+			scratch = this.kept;
+		}
+		return { workers: this.workers.slice(0, threads), scratch };
+	}
+
+	/** For startRun: the run is over; `failed` workers are dropped from the pool (already terminated). */
+	releaseAfter(failed: Worker[]): void {
+		for (const w of failed) this.drop(w);
+		this.busy = false;
+		if (this.closed) void this.close();
+	}
+
+	private drop(w: Worker): void {
+		const k = this.workers.indexOf(w);
+		if (k >= 0) this.workers.splice(k, 1);
+	}
+
+	private watch(w: Worker): Worker {
+		// A worker that dies while idle (or is terminated) leaves the pool.
+		w.once('exit', () => this.drop(w));
+		return w;
+	}
+}
+
+let defaultPool: SelfIntersectPool | null = null;
+
+/** This thread's default pool, made on first use. */
+export function selfIntersectPool(): SelfIntersectPool {
+	defaultPool ??= new SelfIntersectPool();
+	return defaultPool;
+}
+
+/** Starts the default pool's workers up to `threads` (default os.availableParallelism()). */
+export function warmSelfIntersectPool(threads?: number): void {
+	selfIntersectPool().warm(threads);
+}
+
+/** Terminates the default pool's workers; the next run starts new ones. */
+export async function closeSelfIntersectPool(): Promise<void> {
+	await defaultPool?.close();
 }
 
 /** Counts self-intersecting face pairs on worker threads; same result as findSelfIntersections. */
@@ -293,29 +352,23 @@ export interface SelfIntersectionRun {
  * late never leaves a core idle while tasks remain. Rejections surface from finish().
  */
 export function startSelfIntersections(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions = {}): SelfIntersectionRun {
-	let run: SelfIntersectionRun;
-	try {
-		run = startRun(mesh, opts);
-	} catch (e) {
-		return { help: () => 0, finish: () => Promise.reject(e) };
-	}
-	return run;
+	return selfIntersectPool().start(mesh, opts);
 }
 
-function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions): SelfIntersectionRun {
+function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions, pool: SelfIntersectPool): SelfIntersectionRun {
 	const t0 = performance.now();
 	const threads = Math.max(1, Math.floor(opts.threads ?? availableParallelism()));
 	const sampleLimit = opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT;
 	if (opts.signal?.aborted) throw new Error('Self-intersection check was cancelled.');
 	validateMesh(mesh);
 	const faceCount = mesh.indices.length / 3;
-	// The pool when it is free, else workers of this call's own.
-	const pooled = !poolBusy;
-	// Buffers that already live in a SharedArrayBuffer (from offset 0) are used as they are; others
-	// are copied into shared memory. A pooled call reuses the shared buffers of the previous pooled
-	// call when they are large enough: pages already touched cost nothing to write again, while fresh
-	// ones are slow to fault in on small VMs (measured 12-16 µs per 4 KB page).
-	const scratch = pooled ? sharedScratch(faceCount, mesh.positions.length) : newScratch(faceCount, mesh.positions.length);
+	// The pool when it is free, else workers of this call's own. Buffers that already live in a
+	// SharedArrayBuffer (from offset 0) are used as they are; others are copied into shared memory.
+	// A pooled run reuses the shared buffers of the pool's previous run when they are large enough:
+	// pages already touched cost nothing to write again, while fresh ones are slow to fault in.
+	const held = pool.acquire(threads, faceCount, mesh.positions.length);
+	const pooled = held !== null;
+	const scratch = held ? held.scratch : newScratch(faceCount, mesh.positions.length);
 	const sharedAsIs = (a: Float64Array | Uint32Array) => a.buffer instanceof SharedArrayBuffer && a.byteOffset === 0;
 	let posBuf: SharedArrayBuffer, idxBuf: SharedArrayBuffer;
 	if (sharedAsIs(mesh.positions)) posBuf = mesh.positions.buffer as SharedArrayBuffer;
@@ -343,19 +396,12 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions): Sel
 		sampleLimit,
 		taskTarget: Math.max(DEFAULT_TASK_TARGET, 64 * threads)
 	};
-	let workers: Worker[];
-	if (pooled) {
-		poolBusy = true;
-		while (pool.length < threads) pool.push(spawnWorker());
-		workers = pool.slice(0, threads);
-	} else workers = Array.from({ length: threads }, () => spawnWorker());
+	const workers: Worker[] = held ? held.workers : Array.from({ length: threads }, () => spawnWorker());
 	const cleanups: (() => void)[] = [];
+	let stopped = false;
 	const stopAll = () => {
-		for (const w of workers) {
-			const k = pool.indexOf(w);
-			if (k >= 0) pool.splice(k, 1);
-			void w.terminate();
-		}
+		stopped = true;
+		for (const w of workers) void w.terminate();
 	};
 	const onAbort = () => stopAll();
 	opts.signal?.addEventListener('abort', onAbort, { once: true });
@@ -397,7 +443,7 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions): Sel
 			opts.signal?.removeEventListener('abort', onAbort);
 			for (const c of cleanups) c();
 			if (!pooled) for (const w of workers) void w.terminate();
-			else poolBusy = false;
+			else pool.releaseAfter(stopped ? workers : []);
 		});
 	// Handled here so a failure is never reported as unhandled before finish() is awaited.
 	workerParts.catch(() => {});

@@ -5,7 +5,7 @@ import { closeDb, getDb } from './db';
 import { flushOutbox } from './mail';
 import { sendRunDigests } from './run-digest';
 import { config } from './config';
-import { closeEngineThreads } from './jobs/check';
+import { closeEngineThreads, warmEngineThreads } from './jobs/check';
 import { runWorkerLoop } from './jobs/runner';
 
 const KEY = Symbol.for('shellgate.background');
@@ -33,6 +33,8 @@ export function startBackground(): void {
 	// In-process check workers (CHECK_WORKERS, default 1; 0 leaves checks to `npm run worker`).
 	const controller = new AbortController();
 	for (let i = 0; i < config.checkWorkers; i++) void runWorkerLoop({ db: getDb, signal: controller.signal });
+	// Engine threads start and warm up now, so the first check after a start is not the slow one.
+	if (config.checkWorkers > 0) warmEngineThreads().catch(() => {});
 	// adapter-node emits this after it stops accepting requests (SIGTERM/SIGINT): stop the loops and
 	// close the pool so the process can exit by itself.
 	process.once('sveltekit:shutdown' as 'exit', () => {

@@ -27,6 +27,10 @@ let engines: EnginePool | null = null;
  * cancellation or memory cap, and with CheckRefused when the engine refused the input.
  */
 export function runEngine<T>(input: EngineTask, limits: CheckLimits, onProgress: (stage: string, percent: number) => void, signal?: AbortSignal): Promise<T> {
+	return enginePool().then((pool) => pool.run<T>(input, limits, onProgress, signal));
+}
+
+function enginePool(): Promise<EnginePool> {
 	// Imported dynamically so the bundler gives the thread's code a chunk of its own, whose URL the
 	// worker then loads (the module reports it as ENGINE_THREAD_URL).
 	return import('./engine-thread').then(({ ENGINE_THREAD_URL, ENGINE_THREAD_TAG }) => {
@@ -36,10 +40,17 @@ export function runEngine<T>(input: EngineTask, limits: CheckLimits, onProgress:
 			niceness: config.engineNiceness,
 			// One per check loop, and one for repairs and exports asked for from the web.
 			maxIdle: config.checkWorkers + 1,
-			idleMs: config.engineIdleMs
+			idleMs: config.engineIdleMs,
+			keepWarm: Math.max(1, config.checkWorkers)
 		});
-		return engines.run<T>(input, limits, onProgress, signal);
+		return engines;
 	});
+}
+
+/** Starts the engine threads the check loops use and warms them (at server or worker start). */
+export async function warmEngineThreads(): Promise<void> {
+	const pool = await enginePool();
+	await pool.warm(config.checkMemoryLimitMb);
 }
 
 /** Ends the idle engine threads (at shutdown). */

@@ -1,7 +1,7 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { InspectionReport } from '../../mesh/report';
-import { unitCube } from '../../mesh/testing/test-meshes';
+import { concat, unitCube } from '../../mesh/testing/test-meshes';
 import { writeBinaryStl } from '../../mesh/write';
 import { EnginePool, EngineRefused } from './engine-pool';
 import { ENGINE_THREAD_TAG, ENGINE_THREAD_URL, type EngineTask } from './engine-thread';
@@ -50,4 +50,28 @@ describe('engine threads kept between tasks', () => {
 		c.abort();
 		await expect(pool.run(check(writeBinaryStl(unitCube())), limits, () => {}, c.signal)).rejects.toThrow(/cancelled/);
 	});
+
+	it('warms threads ahead of the first task, and replaces one that ran a large file once it is idle', async () => {
+		const warmPool = new EnginePool({ url: ENGINE_THREAD_URL, tag: ENGINE_THREAD_TAG, niceness: 0, maxIdle: 2, idleMs: 60_000, keepWarm: 1, retireBytes: 1000, retireIdleMs: 50 });
+		try {
+			await warmPool.warm(limits.memoryLimitMb);
+			expect(warmPool.idleCount).toBe(1);
+			const [warmId] = warmPool.idleThreadIds;
+			// A small file (684 bytes) keeps its thread.
+			await warmPool.run(check(writeBinaryStl(unitCube())), limits, () => {});
+			expect(warmPool.idleThreadIds).toEqual([warmId]);
+			// A file above retireBytes: the thread ends after retireIdleMs and a fresh warm one follows.
+			const big = writeBinaryStl(concat(unitCube(), unitCube([2, 0, 0])));
+			expect(big.byteLength).toBeGreaterThan(1000);
+			await warmPool.run(check(big), limits, () => {});
+			expect(warmPool.idleThreadIds).toEqual([warmId]);
+			for (let k = 0; k < 200 && (warmPool.idleCount !== 1 || warmPool.idleThreadIds[0] === warmId); k++) await new Promise((r) => setTimeout(r, 50));
+			expect(warmPool.idleCount).toBe(1);
+			expect(warmPool.idleThreadIds[0]).not.toBe(warmId);
+			const r = await warmPool.run<InspectionReport>(check(writeBinaryStl(unitCube())), limits, () => {});
+			expect(r.watertight).toBe(true);
+		} finally {
+			await warmPool.close();
+		}
+	}, 60_000);
 });

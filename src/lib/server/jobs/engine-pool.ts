@@ -3,6 +3,10 @@
 // every check after the first runs warm. One task runs in a thread at a time. A thread that ran
 // past its time limit, was cancelled, crashed or reported an internal error is terminated, never
 // reused; idle threads are unref'd (they never keep the process alive) and end after `idleMs`.
+// `warm()` starts `keepWarm` threads ahead of the first task (the server calls it at start) and each
+// runs a small warm-up check, so the first real check is not the slow one. Memory: a thread keeps
+// what its largest task grew it to, so one that ran a large file (`retireBytes`) ends after
+// `retireIdleMs` idle and a fresh warm one takes its place.
 import type { Worker } from 'node:worker_threads';
 import { spawnModuleWorker } from '../../mesh/module-worker-node';
 import type { EngineMessage, EngineRequest, EngineTask, EngineThreadData } from './engine-thread';
@@ -18,6 +22,8 @@ interface Slot {
 	w: Worker;
 	memoryLimitMb: number;
 	idleTimer: ReturnType<typeof setTimeout> | null;
+	/** Set once the thread ran a task of retireBytes or more. */
+	big: boolean;
 }
 
 export interface EnginePoolOptions {
@@ -27,12 +33,68 @@ export interface EnginePoolOptions {
 	niceness: number;
 	maxIdle: number;
 	idleMs: number;
+	/** Threads kept started and warm while idle, once warm() was called (default 0). */
+	keepWarm?: number;
+	/** A task input this large marks its thread for retirement when next idle (default 24 MB, about 500 k faces of binary STL). */
+	retireBytes?: number;
+	/** How long such a thread stays idle before it ends (default 5 s). */
+	retireIdleMs?: number;
 }
+
+const DEFAULT_RETIRE_BYTES = 24 * 1024 * 1024;
+const DEFAULT_RETIRE_IDLE_MS = 5_000;
 
 export class EnginePool {
 	private idle: Slot[] = [];
 	private nextId = 1;
+	/** Memory limit of the threads warm() keeps; null until warm() is called. */
+	private warmLimitMb: number | null = null;
+	private warming = 0;
+	private closed = false;
 	constructor(private readonly opts: EnginePoolOptions) {}
+
+	/**
+	 * Starts threads until `keepWarm` are idle or warming, each running a small warm-up check, and
+	 * keeps that many from then on (a retired or failed thread is replaced). Resolves when they are warm.
+	 */
+	warm(memoryLimitMb: number): Promise<void> {
+		this.warmLimitMb = memoryLimitMb;
+		this.closed = false;
+		return this.topUp();
+	}
+
+	private topUp(): Promise<void> {
+		const want = this.opts.keepWarm ?? 0;
+		const limitMb = this.warmLimitMb;
+		if (limitMb === null || this.closed) return Promise.resolve();
+		const started: Promise<void>[] = [];
+		while (this.idle.filter((s) => s.memoryLimitMb === limitMb).length + this.warming < want) {
+			this.warming++;
+			const slot = this.spawn(limitMb);
+			const id = this.nextId++;
+			started.push(
+				new Promise<void>((resolve) => {
+					const done = (ok: boolean) => {
+						slot.w.off('message', onMessage);
+						slot.w.off('exit', onExit);
+						this.warming--;
+						if (ok && !this.closed) this.release(slot);
+						else void slot.w.terminate();
+						resolve();
+					};
+					const onMessage = (m: EngineMessage & { id?: number }) => {
+						if (m.id === id && m.type !== 'progress') done(m.type === 'done');
+					};
+					const onExit = () => done(false);
+					slot.w.on('message', onMessage);
+					slot.w.on('exit', onExit);
+					// Kept referenced while warming (a caller awaiting warm() sees it finish); idle, it is unref'd.
+					slot.w.postMessage({ id, input: { task: 'warm' } } satisfies EngineRequest);
+				})
+			);
+		}
+		return Promise.all(started).then(() => {});
+	}
 
 	/** Runs one task; rejects with EngineRefused when the engine refused the input (unreadable file, impossible recipe). */
 	run<T>(input: EngineTask, limits: EngineLimits, onProgress: (stage: string, percent: number) => void, signal?: AbortSignal): Promise<T> {
@@ -51,7 +113,10 @@ export class EnginePool {
 				w.off('error', onError);
 				w.off('exit', onExit);
 				if (keep) this.release(slot);
-				else void w.terminate();
+				else {
+					void w.terminate();
+					void this.topUp();
+				}
 				fn();
 			};
 			const onAbort = () => finish(false, () => reject(new Error('The work was cancelled.')));
@@ -78,12 +143,14 @@ export class EnginePool {
 			w.on('error', onError);
 			w.on('exit', onExit);
 			w.ref();
+			if (input.bytes.byteLength >= (this.opts.retireBytes ?? DEFAULT_RETIRE_BYTES)) slot.big = true;
 			w.postMessage({ id, input } satisfies EngineRequest, [input.bytes.buffer as ArrayBuffer]);
 		});
 	}
 
 	/** Terminates the idle threads (running tasks finish on their own threads). */
 	async close(): Promise<void> {
+		this.closed = true;
 		const slots = this.idle.splice(0, this.idle.length);
 		await Promise.all(
 			slots.map((s) => {
@@ -97,6 +164,11 @@ export class EnginePool {
 		return this.idle.length;
 	}
 
+	/** Thread ids of the idle threads (to tell a fresh thread from a kept one). */
+	get idleThreadIds(): number[] {
+		return this.idle.map((s) => s.w.threadId);
+	}
+
 	private take(memoryLimitMb: number): Slot {
 		const k = this.idle.findIndex((s) => s.memoryLimitMb === memoryLimitMb);
 		if (k >= 0) {
@@ -105,9 +177,13 @@ export class EnginePool {
 			slot.idleTimer = null;
 			return slot;
 		}
+		return this.spawn(memoryLimitMb);
+	}
+
+	private spawn(memoryLimitMb: number): Slot {
 		const data: EngineThreadData = { niceness: this.opts.niceness };
 		const w = spawnModuleWorker(this.opts.url, this.opts.tag, data as unknown as Record<string, unknown>, { resourceLimits: { maxOldGenerationSizeMb: memoryLimitMb } });
-		const slot: Slot = { w, memoryLimitMb, idleTimer: null };
+		const slot: Slot = { w, memoryLimitMb, idleTimer: null, big: false };
 		// A thread that dies while idle leaves the pool.
 		w.once('exit', () => {
 			const i = this.idle.indexOf(slot);
@@ -122,12 +198,20 @@ export class EnginePool {
 			return;
 		}
 		slot.w.unref();
-		slot.idleTimer = setTimeout(() => {
-			const i = this.idle.indexOf(slot);
-			if (i >= 0) this.idle.splice(i, 1);
-			void slot.w.terminate();
-		}, this.opts.idleMs);
-		slot.idleTimer.unref();
+		// The warm threads stay while idle, unless one grew large; others end after idleMs.
+		const kept = this.warmLimitMb === slot.memoryLimitMb && this.idle.filter((s) => s.memoryLimitMb === slot.memoryLimitMb && !s.big).length < (this.opts.keepWarm ?? 0);
+		if (slot.big || !kept) {
+			slot.idleTimer = setTimeout(
+				() => {
+					const i = this.idle.indexOf(slot);
+					if (i >= 0) this.idle.splice(i, 1);
+					void slot.w.terminate();
+					void this.topUp();
+				},
+				slot.big ? (this.opts.retireIdleMs ?? DEFAULT_RETIRE_IDLE_MS) : this.opts.idleMs
+			);
+			slot.idleTimer.unref();
+		}
 		this.idle.push(slot);
 	}
 }

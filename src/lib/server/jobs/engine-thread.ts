@@ -2,8 +2,8 @@
 // a repaired file or a converted file out, with progress. Imports only src/lib/mesh, so a worker
 // thread loads no server or database code.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
-import { inspectBytes } from '../../mesh/inspect';
-import { inspectFileNode } from '../../mesh/inspect-node';
+import { defaultSelfIntersectThreads, inspectFileNode } from '../../mesh/inspect-node';
+import { warmSelfIntersectPool } from '../../mesh/self-intersect-node';
 import { isWorkerFor, lowerThisThreadPriority } from '../../mesh/module-worker-node';
 import { readMesh } from '../../mesh/read';
 import { applyRecipe, areaAndVolume, meshDeviation, recipeScaleFactor, RepairError, sameMesh, skippedItems, type ChangeMeasures, type RepairLogEntry, type RepairStep } from '../../mesh/repair';
@@ -77,15 +77,12 @@ function iterationDistance(bytes: Uint8Array, fileName: string, prev: PreviousIt
 
 async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise<unknown> {
 	if (input.task === 'check') {
-		// Small files: starting more threads would cost more than the whole check.
-		const report =
-			input.bytes.byteLength < 4 * 1024 * 1024
-				? inspectBytes(input.bytes, input.fileName, input.options)
-				: await inspectFileNode(input.bytes, input.fileName, {
-						...input.options,
-						threads: input.threads,
-						onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
-					});
+		// Small meshes stay on this thread (inspect-node.ts: SELF_INTERSECT_WORKER_MIN_FACES).
+		const report = await inspectFileNode(input.bytes, input.fileName, {
+			...input.options,
+			threads: input.threads,
+			onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
+		});
 		if (input.previous) {
 			post({ type: 'progress', stage: 'distance to the previous iteration', percent: 95 });
 			report.iterationDistance = iterationDistance(input.bytes, input.fileName, input.previous, input.options.maxFaces);
@@ -142,7 +139,39 @@ async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise
 /** What the pool sends a long-lived engine thread: one task at a time, tagged with its id. */
 export interface EngineRequest {
 	id: number;
-	input: EngineTask;
+	/** `warm`: a small check of a made-up mesh, so the first real check runs compiled code. */
+	input: EngineTask | { task: 'warm' };
+}
+
+/** A closed latitude-longitude sphere of about 24,000 faces, as binary STL: the warm-up check's input. */
+function warmUpMesh(): Uint8Array {
+	const rings = 96, segs = 128;
+	const positions: number[] = [0, 0, 1];
+	for (let i = 1; i < rings; i++) {
+		const th = (Math.PI * i) / rings;
+		for (let j = 0; j < segs; j++) {
+			const ph = (2 * Math.PI * j) / segs;
+			positions.push(Math.sin(th) * Math.cos(ph), Math.sin(th) * Math.sin(ph), Math.cos(th));
+		}
+	}
+	positions.push(0, 0, -1);
+	const south = positions.length / 3 - 1;
+	const at = (i: number, j: number) => 1 + (i - 1) * segs + (j % segs);
+	const indices: number[] = [];
+	for (let j = 0; j < segs; j++) indices.push(0, at(1, j), at(1, j + 1));
+	for (let i = 1; i < rings - 1; i++) {
+		for (let j = 0; j < segs; j++) indices.push(at(i, j), at(i + 1, j), at(i + 1, j + 1), at(i, j), at(i + 1, j + 1), at(i, j + 1));
+	}
+	for (let j = 0; j < segs; j++) indices.push(south, at(rings - 1, j + 1), at(rings - 1, j));
+	return writeBinaryStl({ positions: Float64Array.from(positions), indices: Uint32Array.from(indices) });
+}
+
+async function warmUp(): Promise<void> {
+	// Twice: the second run finds most loops compiled by the optimising compiler.
+	const bytes = warmUpMesh();
+	for (let k = 0; k < 2; k++) await inspectFileNode(bytes, 'warm-up.stl', {});
+	// The self-intersection workers large checks use start now too; idle, they never keep the process alive.
+	warmSelfIntersectPool(defaultSelfIntersectThreads());
 }
 
 /** Thread start-up data (workerData). */
@@ -163,6 +192,11 @@ export function runEngineThread(): void {
 	port.on('message', async ({ id, input }: EngineRequest) => {
 		const post = (m: EngineMessage) => port.postMessage({ ...m, id });
 		try {
+			if (input.task === 'warm') {
+				await warmUp();
+				post({ type: 'done', result: null });
+				return;
+			}
 			const result = await run(input, post);
 			const transfer = result instanceof Uint8Array ? [result.buffer] : (result as RepairOutput | null)?.bytes instanceof Uint8Array ? [(result as RepairOutput).bytes.buffer] : [];
 			port.postMessage({ type: 'done', result, id } satisfies EngineMessage & { id: number }, transfer as ArrayBuffer[]);

@@ -2,7 +2,7 @@
 // same MariaDB and file store. CHECK_WORKERS loops (default 1); Ctrl-C finishes cleanly.
 import { closeDb, getDb } from '../db';
 import { config } from '../config';
-import { closeEngineThreads } from './check';
+import { closeEngineThreads, warmEngineThreads } from './check';
 import { newWorkerId, runWorkerLoop } from './runner';
 
 const controller = new AbortController();
@@ -10,6 +10,7 @@ const n = Math.max(1, config.checkWorkers);
 process.on('SIGINT', () => controller.abort());
 process.on('SIGTERM', () => controller.abort());
 console.log(`[shellgate] ${n} check worker(s) on ${config.databaseUrl.replace(/\/\/[^@]*@/, '//…@')}; Ctrl-C stops them`);
+warmEngineThreads().catch(() => {});
 await Promise.all(
 	Array.from({ length: n }, (_, i) =>
 		runWorkerLoop({

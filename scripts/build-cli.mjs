@@ -1,0 +1,49 @@
+// `npm run build:cli`: the command line (src/lib/mesh/cli.ts) bundled ahead into one plain
+// JavaScript file, dist-cli/cli.js, so it starts without transpiling TypeScript. Its worker threads
+// load the same file by its own URL (module-worker-node.ts) and run only their worker side.
+//
+//   node scripts/build-cli.mjs             build
+//   node scripts/build-cli.mjs --if-stale  build only when a source under src/lib/mesh is newer
+import { build } from 'esbuild';
+import { readdirSync, statSync } from 'node:fs';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+const outfile = join(root, 'dist-cli/cli.js');
+
+function newestSource(dir) {
+	let t = 0;
+	for (const e of readdirSync(dir, { withFileTypes: true })) {
+		const p = join(dir, e.name);
+		if (e.isDirectory()) t = Math.max(t, newestSource(p));
+		else if (e.name.endsWith('.ts') && !e.name.endsWith('.test.ts')) t = Math.max(t, statSync(p).mtimeMs);
+	}
+	return t;
+}
+
+function stale() {
+	let built;
+	try {
+		built = statSync(outfile).mtimeMs;
+	} catch {
+		return true;
+	}
+	const inputs = [newestSource(join(root, 'src/lib/mesh')), statSync(fileURLToPath(import.meta.url)).mtimeMs, statSync(join(root, 'package-lock.json')).mtimeMs];
+	return inputs.some((t) => t > built);
+}
+
+if (!process.argv.includes('--if-stale') || stale()) {
+	await build({
+		entryPoints: [join(root, 'src/lib/mesh/cli.ts')],
+		outfile,
+		bundle: true,
+		platform: 'node',
+		format: 'esm',
+		target: 'node20',
+		// CommonJS dependencies bundled into an ES module still call require().
+		banner: { js: "import { createRequire as __shellgateRequire } from 'node:module'; const require = __shellgateRequire(import.meta.url);" },
+		legalComments: 'none',
+		logLevel: 'warning'
+	});
+}

@@ -7,6 +7,7 @@ import { audit } from '$lib/server/audit';
 import { getDb } from '$lib/server/db';
 import { gateProfile, part, project, revision, user } from '$lib/server/db/schema';
 import { projectRecipes, repairBatch } from '$lib/server/repairs';
+import { projectRuns } from '$lib/server/runs';
 import { failFor } from '$lib/server/errors';
 import { recheckStale, staleRevisionIds } from '$lib/server/recheck-stale';
 import type { Actions, PageServerLoad } from './$types';
@@ -40,6 +41,7 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		profiles: profiles.map((x) => ({ ...x, rules: gateRulesSchema.parse(x.rules) })),
 		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) })),
 		recipes: await projectRecipes(db, p.id),
+		runs: (await projectRuns(db, p.id)).map((r) => ({ ...r, revisions: Number(r.revisions) })),
 		stale: (await staleRevisionIds(db, p.id)).length,
 		held: Number((await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(and(eq(part.projectId, p.id), eq(revision.status, 'held'))))[0].n)
 	};

@@ -7,7 +7,7 @@
 // distance to the previous iteration, single values taken out of the report JSON by MariaDB
 // (JSON_VALUE), so the reports themselves never leave the database. The charts and the table filter
 // work on those rows in memory: a run holds thousands of revisions, not millions.
-import { and, asc, eq, sql } from 'drizzle-orm';
+import { asc, eq, sql } from 'drizzle-orm';
 import type { Db } from './db';
 import { checkRun, part, revision, ruleResult } from './db/schema';
 import { RULE_TITLES } from '../gate/rules';
@@ -160,19 +160,18 @@ export interface RulePassRate {
 	title: string;
 	passed: number;
 	total: number;
-	blocking: boolean;
 }
 
 /** Per rule, how many of the run's latest checks passed it. */
 export async function rulePassRates(db: Db, runId: number): Promise<RulePassRate[]> {
 	const rows = await db
-		.select({ rule: ruleResult.rule, passed: sql<number>`sum(${ruleResult.passed})`, total: sql<number>`count(*)`, blocking: sql<number>`max(${ruleResult.severity} = 'blocking')` })
+		.select({ rule: ruleResult.rule, passed: sql<number>`sum(${ruleResult.passed})`, total: sql<number>`count(*)` })
 		.from(revision)
 		.innerJoin(ruleResult, eq(ruleResult.checkRunId, revision.latestCheckId))
-		.where(and(eq(revision.runId, runId)))
+		.where(eq(revision.runId, runId))
 		.groupBy(ruleResult.rule);
 	return rows
-		.map((r) => ({ rule: r.rule, title: RULE_TITLES[r.rule as keyof typeof RULE_TITLES] ?? r.rule, passed: Number(r.passed), total: Number(r.total), blocking: Number(r.blocking) === 1 }))
+		.map((r) => ({ rule: r.rule, title: RULE_TITLES[r.rule as keyof typeof RULE_TITLES] ?? r.rule, passed: Number(r.passed), total: Number(r.total) }))
 		.sort((a, b) => a.passed / a.total - b.passed / b.total || a.title.localeCompare(b.title));
 }
 

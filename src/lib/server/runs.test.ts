@@ -124,6 +124,12 @@ describe('generator runs on the real MariaDB', () => {
 		// Concentric spheres 0.2 and 0.25 apart by 0.05 (analytic), up to the level-2 icospheres' facets.
 		expect(d.hausdorff).toBeGreaterThan(0.04);
 		expect(d.hausdorff).toBeLessThan(0.06);
+		// The run page reads the copies in narrow columns, not the report.
+		const [cols] = await db.select({ h: checkRun.iterationHausdorff, c: checkRun.iterationChamfer, p: checkRun.previousIteration, w: checkRun.wettedArea, f: checkRun.frontalArea, e: checkRun.shortestEdgeCells }).from(checkRun).where(eq(checkRun.revisionId, b.revisionId));
+		expect(cols).toMatchObject({ h: d.hausdorff, c: d.chamfer, p: 4 });
+		expect(cols.w).toBeGreaterThan(0);
+		expect(cols.f).toBeGreaterThan(0);
+		expect(cols.e).toBeGreaterThan(0);
 		const s = await runSummary(db, await loadRunForUser(db, users.engineer, b.run!.id));
 		expect(s).toMatchObject({ name: 'dist', kind: 'iterations', revisions: 2, parts: 1, pending: 0, iterations: { min: 4, max: 5, count: 2 } });
 		await expectRefused(loadRunForUser(db, { ...users.engineer, teamId: 9999 }, b.run!.id), 'not-found', /No run/);

@@ -84,6 +84,8 @@ test('a run of 30 iterations through the API: the run page counts them, marks th
 	await expect(page.getByTestId('distance-point')).toHaveCount(ITERATIONS - 1);
 	await expect(page.getByTestId('rule-pass-rates')).toContainText(`${CHANGE_AT} / ${ITERATIONS}`);
 	await page.screenshot({ path: '/tmp/h13a-shots/run-page.png', fullPage: true });
+	await page.getByTestId('run-iterations').screenshot({ path: '/tmp/h13a-shots/run-iterations.png' });
+	await page.getByTestId('run-chart').first().locator('xpath=ancestor::section[1]').screenshot({ path: '/tmp/h13a-shots/run-distributions.png' });
 	await page.screenshot({ path: shot('run-page'), fullPage: true });
 
 	// The table lists the iterations in iteration order, whatever order they arrived in.
@@ -97,6 +99,8 @@ test('a run of 30 iterations through the API: the run page counts them, marks th
 	await expect(page.getByTestId('run-row').first()).toHaveAttribute('data-iteration', String(CHANGE_AT));
 	// A click on a point of the timeline: that one iteration.
 	await page.getByTestId('run-filters').getByRole('link', { name: 'Clear all' }).click();
+	await expect(page).toHaveURL(new RegExp(`/runs/${runId}$`));
+	await expect(page.getByTestId('run-table-count')).toHaveText(`${ITERATIONS} of ${ITERATIONS}`);
 	await page.getByRole('link', { name: `Iteration 5: genus 0, 1 shells; show it in the table` }).click();
 	await expect(page.getByTestId('run-row')).toHaveCount(1);
 	await expect(page.getByTestId('run-row')).toHaveAttribute('data-iteration', '5');
@@ -117,4 +121,41 @@ test('a run of 30 iterations through the API: the run page counts them, marks th
 	await mailbox.goto('/dev/mailbox');
 	await expect(mailbox.getByTestId('mail-subject').filter({ hasText: `Run "${runName}"` })).toHaveCount(1);
 	await expect(mailbox.getByTestId('mail').filter({ hasText: 'bulb opt ' + stamp }).getByTestId('mail-subject').filter({ hasText: /^Held: / })).toHaveCount(0);
+});
+
+test('the upload page asks how several files relate, names each part from its file for samples, and links the run', async ({ page }) => {
+	test.setTimeout(120_000);
+	const stamp = Date.now().toString(36);
+	await signInAs(page, 'designer');
+	await page.goto('/upload?project=keel-bulbs');
+	const files = [0, 1, 2].map((i) => ({ name: `Bulb_${stamp}_${i}.stl`, mimeType: 'model/stl', buffer: Buffer.from(writeBinaryStl(icosphere(2, 0.2 + i / 50))) }));
+	await page.getByLabel('Files').setInputFiles(files);
+	// Several files: the question is asked and must be answered; nothing is sent before.
+	await expect(page.getByTestId('batch-mode')).toContainText('How do these 3 files relate?');
+	await page.getByRole('button', { name: 'Upload 3 files' }).click();
+	await expect(page.getByTestId('batch-mode').getByRole('alert')).toContainText('Say how these files relate');
+	await expect(page.getByTestId('upload-item').getByRole('link')).toHaveCount(0);
+	await page.getByLabel('Generator run (optional)').fill(`bulb family ${stamp}`);
+	await page.getByLabel('Each file its own part (samples of a family)').check();
+	await expect(page.getByLabel('Part', { exact: true })).toBeDisabled();
+	await page.getByRole('button', { name: 'Upload 3 files' }).click();
+	await expect(page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' })).toHaveCount(3);
+	for (const i of [0, 1, 2]) await expect(page.getByTestId('upload-item').nth(i)).toContainText(`bulb-${stamp}-${i}: new part`);
+	await page.screenshot({ path: shot('upload-run-samples'), fullPage: true });
+	await page.getByTestId('upload-run-link').click();
+	await expect(page.getByRole('heading', { name: `Run “bulb family ${stamp}”` })).toBeVisible();
+	await expect(page.getByTestId('run-summary')).toContainText('Samples of a family · 3 revisions in 3 parts');
+	await expect(page.getByTestId('run-iterations')).toHaveCount(0);
+
+	// Iterations from the page: one part, numbered in file order.
+	await page.goto('/upload?project=keel-bulbs');
+	await page.getByLabel('Part', { exact: true }).fill(`bulb-page-${stamp}`);
+	await page.getByLabel('Generator run (optional)').fill(`bulb page opt ${stamp}`);
+	await page.getByLabel('Files').setInputFiles(files);
+	await page.getByLabel('All files revisions of one part (iterations, in file order)').check();
+	await page.getByRole('button', { name: 'Upload 3 files' }).click();
+	await expect(page.getByTestId('upload-item').getByRole('link', { name: 'Open revision' })).toHaveCount(3);
+	await expect(page.getByTestId('upload-item').nth(2)).toContainText(`bulb-page-${stamp}: new revision`);
+	await page.getByTestId('upload-run-link').click();
+	await expect(page.getByTestId('run-summary')).toContainText('Iterations of one design · 3 revisions in 1 part · iterations 1–3');
 });

@@ -40,6 +40,9 @@ const ACCESS: Record<string, Rule> = {
 	'action /settings?/revoke': ALL,
 	'page /upload': ['designer', 'engineer'],
 	'POST /api/v1/projects/[project]/parts/[part]/revisions': ['designer', 'engineer'],
+	'POST /api/v1/projects/[project]/runs/[run]/files': ['designer', 'engineer'],
+	'GET /api/v1/runs/[id]': ALL,
+	'page /runs/[id]': ALL,
 	'GET /api/v1/queue': ALL,
 	'GET /api/v1/revisions/[id]': ALL,
 	'GET /api/v1/revisions/[id]/clearance': ALL,
@@ -146,6 +149,7 @@ function concrete(route: string, forAction: boolean): string {
 		.replace('[slug]', forAction ? 'no-such-project' : 'sensor-pods')
 		.replace('[project]', 'sensor-pods')
 		.replace('[part]', 'side-scan-pod')
+		.replace('[run]', 'access-check-run')
 		.replace('[id]', forAction ? NO_SUCH_ID : String(revId))
 		.replace('[token]', 'not-a-real-token');
 }

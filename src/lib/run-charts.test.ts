@@ -44,3 +44,17 @@ describe('run names and metadata', () => {
 		expect(() => parseRunKind('batch')).toThrow(/samples/);
 	});
 });
+
+describe("a part's history with iterations of a run", () => {
+	it('puts the run revisions in iteration order in the places they hold, leaving the others where they are', async () => {
+		const { inIterationOrder } = await import('./server/revision-detail');
+		const revs = [
+			{ number: 1, runId: null, iteration: null },
+			{ number: 2, runId: 7, iteration: 2 },
+			{ number: 3, runId: 7, iteration: 0 },
+			{ number: 4, runId: null, iteration: null },
+			{ number: 5, runId: 7, iteration: 1 }
+		];
+		expect(inIterationOrder(revs).map((r) => r.number)).toEqual([1, 3, 5, 4, 2]);
+	});
+});

@@ -94,6 +94,9 @@ describe('generator runs on the real MariaDB', () => {
 		expect(i0).toMatchObject({ outcome: 'created-part', iteration: 0 });
 		expect(i1).toMatchObject({ outcome: 'new-revision', number: 2, iteration: 1 });
 		await expectRefused(put({ run: 'opt 1', part: 'other-bulb', file: 'it2.stl', bytes: sphereStl(0.202), meta: '{"iteration": 2}' }), 'conflict', /iterations of the part "bulb-opt"/);
+		// The part's first use is audited once, not on every upload to it.
+		const [pa] = await getDb().select({ id: part.id }).from(part).where(eq(part.slug, 'bulb-opt'));
+		expect(await getDb().select().from(auditEvent).where(and(eq(auditEvent.entity, 'part'), eq(auditEvent.entityId, String(pa.id)), eq(auditEvent.action, 'created')))).toHaveLength(1);
 	});
 
 	it('refuses bad metadata with a clear error and leaves nothing behind', async () => {

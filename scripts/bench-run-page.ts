@@ -15,6 +15,8 @@ import { parseRunFilter, rulePassRates, runRows, runView } from '../src/lib/serv
 import { spool } from '../src/lib/server/storage';
 import { seededUsers } from '../src/lib/server/testing/fixtures';
 import { inspectBytes } from '../src/lib/mesh/inspect';
+import { readMesh } from '../src/lib/mesh/read';
+import { DEFAULT_DISTANCE_SAMPLES, shapeDistance } from '../src/lib/mesh/shape-distance';
 import { torus } from '../src/lib/mesh/test-meshes';
 import { writeBinaryStl } from '../src/lib/mesh/write';
 import type { InspectionReport } from '../src/lib/mesh/report';
@@ -28,6 +30,17 @@ async function main() {
 	const stl = writeBinaryStl(mesh);
 	const base = inspectBytes(stl, 'bulb.stl', { cellSize: 0.005, flowDirection: [1, 0, 0] });
 	console.log(`report of a ${mesh.indices.length / 3}-triangle mesh: ${JSON.stringify(base).length.toLocaleString('en-US')} characters of JSON`);
+	// What the check of an iteration adds: reading the previous iteration too and the shape distance.
+	for (const [n, m] of [[200, 50], [1000, 500]] as const) {
+		const a = writeBinaryStl(torus(n, m, 0.2, 0.07)), b = writeBinaryStl(torus(n, m, 0.2, 0.071));
+		const ms: number[] = [];
+		for (let k = 0; k < 3; k++) {
+			const t = performance.now();
+			shapeDistance(readMesh(a, 'a.stl'), readMesh(b, 'b.stl'));
+			ms.push(performance.now() - t);
+		}
+		console.log(`shape distance at ${(2 * n * m).toLocaleString('en-US')} triangles (both read, ${DEFAULT_DISTANCE_SAMPLES} samples a side): ${Math.min(...ms).toFixed(0)} ms`);
+	}
 	const t0 = performance.now();
 	let runId = 0;
 	for (let i = 0; i < N; i++) {

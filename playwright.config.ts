@@ -68,6 +68,8 @@ export default defineConfig({
 			HOST: '127.0.0.1',
 			ORIGIN: baseURL,
 			SHELLGATE_DEV_MAILBOX: '1',
+			// A run's digest goes out once the run has been quiet this long (default a minute).
+			RUN_DIGEST_SETTLE_MS: process.env.RUN_DIGEST_SETTLE_MS ?? '2000',
 			// The app enforces its own upload limit (UPLOAD_LIMIT_MB) while streaming.
 			BODY_SIZE_LIMIT: 'Infinity'
 		}

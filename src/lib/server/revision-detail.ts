@@ -168,12 +168,30 @@ async function parentSummary(db: Db, parentId: number, withReport: boolean) {
 export type RevisionDetail = Awaited<ReturnType<typeof revisionDetail>>;
 
 /** The part's revisions with the summary numbers that matter when comparing them. */
+/**
+ * Iterations of a run arrive in any order, so their revision numbers follow arrival: the revisions of
+ * one run that carry an iteration are put in iteration order, in the places those revisions hold in
+ * number order (other revisions stay where they are), so the changes compare consecutive iterations.
+ */
+export function inIterationOrder<T extends { runId: number | null; iteration: number | null; number: number }>(revs: T[]): T[] {
+	const byRun = new Map<number, number[]>();
+	revs.forEach((r, i) => {
+		if (r.runId !== null && r.iteration !== null) byRun.set(r.runId, [...(byRun.get(r.runId) ?? []), i]);
+	});
+	for (const slots of byRun.values()) {
+		const sorted = slots.map((i) => revs[i]).sort((a, b) => a.iteration! - b.iteration! || a.number - b.number);
+		slots.forEach((slot, k) => (revs[slot] = sorted[k]));
+	}
+	return revs;
+}
+
 export async function partHistory(db: Db, partId: number) {
 	const revs = await db
-		.select({ id: revision.id, number: revision.number, status: revision.status, source: revision.source, createdAt: revision.createdAt, fileName: revision.fileName, parent: revision.parentRevisionId })
+		.select({ id: revision.id, number: revision.number, status: revision.status, source: revision.source, createdAt: revision.createdAt, fileName: revision.fileName, parent: revision.parentRevisionId, runId: revision.runId, iteration: revision.iteration })
 		.from(revision)
 		.where(eq(revision.partId, partId))
 		.orderBy(asc(revision.number));
+	inIterationOrder(revs);
 	const runs = revs.length
 		? await db
 				.select({ revisionId: checkRun.revisionId, id: checkRun.id, genus: checkRun.genus, shells: checkRun.shells, volume: checkRun.volume, faces: checkRun.faces, watertight: checkRun.watertight })

@@ -94,6 +94,9 @@ describe('generator runs on the real MariaDB', () => {
 		expect(i0).toMatchObject({ outcome: 'created-part', iteration: 0 });
 		expect(i1).toMatchObject({ outcome: 'new-revision', number: 2, iteration: 1 });
 		await expectRefused(put({ run: 'opt 1', part: 'other-bulb', file: 'it2.stl', bytes: sphereStl(0.202), meta: '{"iteration": 2}' }), 'conflict', /iterations of the part "bulb-opt"/);
+		// The part's first use is audited once, not on every upload to it.
+		const [pa] = await getDb().select({ id: part.id }).from(part).where(eq(part.slug, 'bulb-opt'));
+		expect(await getDb().select().from(auditEvent).where(and(eq(auditEvent.entity, 'part'), eq(auditEvent.entityId, String(pa.id)), eq(auditEvent.action, 'created')))).toHaveLength(1);
 	});
 
 	it('refuses bad metadata with a clear error and leaves nothing behind', async () => {
@@ -124,6 +127,12 @@ describe('generator runs on the real MariaDB', () => {
 		// Concentric spheres 0.2 and 0.25 apart by 0.05 (analytic), up to the level-2 icospheres' facets.
 		expect(d.hausdorff).toBeGreaterThan(0.04);
 		expect(d.hausdorff).toBeLessThan(0.06);
+		// The run page reads the copies in narrow columns, not the report.
+		const [cols] = await db.select({ h: checkRun.iterationHausdorff, c: checkRun.iterationChamfer, p: checkRun.previousIteration, w: checkRun.wettedArea, f: checkRun.frontalArea, e: checkRun.shortestEdgeCells }).from(checkRun).where(eq(checkRun.revisionId, b.revisionId));
+		expect(cols).toMatchObject({ h: d.hausdorff, c: d.chamfer, p: 4 });
+		expect(cols.w).toBeGreaterThan(0);
+		expect(cols.f).toBeGreaterThan(0);
+		expect(cols.e).toBeGreaterThan(0);
 		const s = await runSummary(db, await loadRunForUser(db, users.engineer, b.run!.id));
 		expect(s).toMatchObject({ name: 'dist', kind: 'iterations', revisions: 2, parts: 1, pending: 0, iterations: { min: 4, max: 5, count: 2 } });
 		await expectRefused(loadRunForUser(db, { ...users.engineer, teamId: 9999 }, b.run!.id), 'not-found', /No run/);

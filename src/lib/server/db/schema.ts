@@ -303,6 +303,18 @@ export const checkRun = mysqlTable(
 		 */
 		thinnestWallCells: double('thinnest_wall_cells'),
 		narrowestGapCells: double('narrowest_gap_cells'),
+		/**
+		 * Measures the run page draws for thousands of revisions at once, copied out of the report so
+		 * it never reads the reports: wetted area (null where the volume is undefined), frontal area
+		 * along the flow, the shortest edge in target cells at check time, and for an iteration of an
+		 * iterations run its Hausdorff and chamfer distance from the previous iteration (which one).
+		 */
+		wettedArea: double('wetted_area'),
+		frontalArea: double('frontal_area'),
+		shortestEdgeCells: double('shortest_edge_cells'),
+		iterationHausdorff: double('iteration_hausdorff'),
+		iterationChamfer: double('iteration_chamfer'),
+		previousIteration: int('previous_iteration'),
 		durationMs: int('duration_ms').notNull(),
 		createdAt: createdAt()
 	},

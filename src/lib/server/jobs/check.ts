@@ -194,6 +194,13 @@ export async function writeCheckResult(db: Db, j: ClaimedJob, workerId: string, 
 				// figure), so the queue agrees with the report; a later cell-size change shows after a re-check.
 				thinnestWallCells: finiteOrNull(report.cellSizeChecks?.thinnestWall?.cells),
 				narrowestGapCells: finiteOrNull(report.cellSizeChecks?.narrowestGap?.cells),
+				// Copied for the run page, which draws them for every revision of a run without reading reports.
+				wettedArea: finiteOrNull(report.wettedArea ?? undefined),
+				frontalArea: finiteOrNull(report.projectedArea?.flow?.area),
+				shortestEdgeCells: report.cellSizeChecks?.cellSize ? finiteOrNull(report.minEdgeLength / report.cellSizeChecks.cellSize) : null,
+				iterationHausdorff: finiteOrNull(report.iterationDistance?.hausdorff ?? undefined),
+				iterationChamfer: finiteOrNull(report.iterationDistance?.chamfer ?? undefined),
+				previousIteration: report.iterationDistance?.previousIteration ?? null,
 				durationMs: Math.round(report.timings.total ?? Object.values(report.timings).reduce((a, b) => a + b, 0))
 			})
 			.$returningId();

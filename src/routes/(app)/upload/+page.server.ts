@@ -14,7 +14,7 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 	const projects = await db.select({ id: project.id, slug: project.slug, name: project.name, units: project.units }).from(project).where(eq(project.teamId, me.teamId)).orderBy(asc(project.name));
 	const parts = await db.select({ projectId: part.projectId, slug: part.slug, name: part.name }).from(part).orderBy(asc(part.name));
 	const form = await superValidate(
-		{ project: url.searchParams.get('project') ?? projects[0]?.slug ?? '', part: url.searchParams.get('part') ?? '', note: '' },
+		{ project: url.searchParams.get('project') ?? projects[0]?.slug ?? '', part: url.searchParams.get('part') ?? '', note: '', run: url.searchParams.get('run') ?? '', batch: '' as const },
 		zod4(uploadSchema),
 		{ errors: false }
 	);

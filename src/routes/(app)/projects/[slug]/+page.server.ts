@@ -10,6 +10,7 @@ import { gateProfile, part, project, revision, user } from '$lib/server/db/schem
 import { projectRecipes, repairBatch } from '$lib/server/repairs';
 import { failFor, formFailure } from '$lib/server/errors';
 import { batchRepairFormSchema, profileFormFromRules, profileFormSchema, projectSettingsFormSchema, rulesFromProfileForm } from '$lib/forms';
+import { projectRuns } from '$lib/server/runs';
 import { recheckStale, staleRevisionIds } from '$lib/server/recheck-stale';
 import { countCleared } from '$lib/server/dataset-export';
 import type { Actions, PageServerLoad } from './$types';
@@ -47,6 +48,7 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		profiles: profiles.map((x) => ({ ...x, rules: gateRulesSchema.parse(x.rules) })),
 		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) })),
 		recipes: await projectRecipes(db, p.id),
+		runs: (await projectRuns(db, p.id)).map((r) => ({ ...r, revisions: Number(r.revisions) })),
 		stale: (await staleRevisionIds(db, p.id)).length,
 		cleared: await countCleared(db, { runId: null, projectId: p.id }),
 		held: Number((await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(and(eq(part.projectId, p.id), eq(revision.status, 'held'))))[0].n)

@@ -2,6 +2,9 @@ import { parseOverride } from '$lib/server/repair-limits';
 import { error, fail, redirect } from '@sveltejs/kit';
 import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
+import { eq } from 'drizzle-orm';
+import { z } from 'zod';
+import { run } from '$lib/server/db/schema';
 import { requireRole } from '$lib/server/auth';
 import { addComment, commentSchema } from '$lib/server/comments';
 import { getDb } from '$lib/server/db';
@@ -28,7 +31,9 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 	try {
 		const detail = await revisionDetail(db, me, revId(params.id));
 		const ctx = await loadRevisionForUser(db, me, detail.id);
+		const [fromRun] = ctx.rev.runId === null ? [] : await db.select({ id: run.id, name: run.name, kind: run.kind }).from(run).where(eq(run.id, ctx.rev.runId)).limit(1);
 		return {
+			run: fromRun ? { ...fromRun, iteration: ctx.rev.iteration } : null,
 			detail,
 			history: await partHistory(db, detail.part.id),
 			fourEyes: fourEyesConflict(me, ctx),

@@ -2,7 +2,7 @@
 // states, to which, and who may cause it) is applied in a transaction with the revision row locked,
 // together with its audit row and its mail; jobs, pages and the API all come through here. Called
 // with a transaction, it runs as a savepoint of it, so the caller's other writes commit with it.
-import { eq } from 'drizzle-orm';
+import { and, eq } from 'drizzle-orm';
 import { audit } from './audit';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
@@ -85,6 +85,11 @@ export async function applyEvent(db: Db, revisionId: number, event: RevisionEven
 			.update(revision)
 			.set({ status: rule.to, statusReason: reason, updatedAt: new Date(), ...(opts.latestCheckId !== undefined ? { latestCheckId: opts.latestCheckId } : {}) })
 			.where(eq(revision.id, revisionId));
+		// The part keeps its newest revision's status beside it for the queue's counts (a no-op for an older revision).
+		await tx
+			.update(part)
+			.set({ latestStatus: rule.to })
+			.where(and(eq(part.id, cur.partId), eq(part.latestRevisionId, revisionId)));
 		const detail = { ...(reason ? { reason } : {}), ...opts.detail };
 		await audit(tx, actor?.id ?? null, 'revision', revisionId, AUDIT_ACTION[event], cur.status, rule.to, Object.keys(detail).length ? detail : null);
 		await opts.after?.(tx, cur.status);

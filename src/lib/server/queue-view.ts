@@ -133,18 +133,19 @@ export async function pageIds(db: Db, u: SessionUser, f: QueueFilter): Promise<n
 
 /**
  * Revisions per state under the filters (not the state tab). Newest only and no filter on the
- * revision or its check: counted from the index part(project_id, latest_status) alone, grouped in
- * that index's order. Otherwise the same joins as the page, from the same covering indexes.
+ * revision or its check: counted from the index part(project_id, latest_status) alone. Otherwise
+ * the same joins as the page, from the same covering indexes (a run's from revision(run_id, id)).
  */
 export async function stateCounts(db: Db, u: SessionUser, f: QueueFilter): Promise<Record<RevisionState, number>> {
 	const latest = f.revisions === 'latest';
 	const counts = Object.fromEntries(REVISION_STATES.map((s) => [s, 0])) as Record<RevisionState, number>;
-	const teamProjects = f.project ? sql`(select id from project where team_id = ${u.teamId} and slug = ${f.project})` : sql`(select id from project where team_id = ${u.teamId})`;
+	// The team's few projects first, then each one's parts from part(project_id, latest_status).
+	const team = f.project ? sql`pr.team_id = ${u.teamId} and pr.slug = ${f.project}` : sql`pr.team_id = ${u.teamId}`;
 	let q: SQL;
 	if (latest && !f.assignee && !f.run && !f.rule && f.thinUnder === undefined) {
-		q = sql`select p.latest_status as status, count(*) as n from part p force index (part_latest_count) where p.project_id in ${teamProjects} and p.latest_status is not null group by p.project_id, p.latest_status`;
+		q = sql`select straight_join p.latest_status as status, count(*) as n from project pr join part p force index (part_latest_count) on p.project_id = pr.id where ${team} and p.latest_status is not null group by p.latest_status`;
 	} else {
-		const conds: SQL[] = [sql`p.project_id in ${teamProjects}`];
+		const conds: SQL[] = [team];
 		if (f.assignee === 'me') conds.push(sql`r.assignee_id = ${u.id}`);
 		else if (f.assignee === 'none') conds.push(sql`r.assignee_id is null`);
 		else if (f.assignee) conds.push(sql`r.assignee_id = ${f.assignee}`);
@@ -152,10 +153,10 @@ export async function stateCounts(db: Db, u: SessionUser, f: QueueFilter): Promi
 		if (f.rule) conds.push(sql`cr.failed_rules like ${`%,${f.rule},%`}`);
 		if (f.thinUnder !== undefined) conds.push(sql`${THIN_CR} < ${f.thinUnder}`);
 		const from = f.run
-			? sql.raw(`revision r force index (revision_run) join part p on p.id = r.part_id${latest ? ' and p.latest_revision_id = r.id' : ''}`)
+			? sql.raw(`revision r force index (revision_run) join part p on p.id = r.part_id${latest ? ' and p.latest_revision_id = r.id' : ''} join project pr on pr.id = p.project_id`)
 			: latest
-				? sql.raw('part p force index (part_latest_count) join revision r on r.id = p.latest_revision_id')
-				: sql.raw('part p join revision r force index (revision_part_status) on r.part_id = p.id');
+				? sql.raw('project pr join part p force index (part_latest_count) on p.project_id = pr.id join revision r on r.id = p.latest_revision_id')
+				: sql.raw('project pr join part p on p.project_id = pr.id join revision r force index (revision_part_status) on r.part_id = p.id');
 		const cr = f.rule || f.thinUnder !== undefined ? sql.raw('left join check_run cr force index (check_run_queue) on cr.id = r.latest_check_id') : sql``;
 		q = sql`select straight_join r.status as status, count(*) as n from ${from} ${cr} where ${sql.join(conds, sql` and `)} group by r.status`;
 	}

@@ -193,7 +193,7 @@ export const part = mysqlTable(
 		uniqueIndex('part_slug').on(t.projectId, t.slug),
 		// The queue over newest revisions (queue-view.ts): counts by state per project; pages in
 		// revision order, of all states or of one, each an ordered scan of an index that covers it.
-		index('part_latest_count').on(t.projectId, t.latestStatus),
+		index('part_latest_count').on(t.projectId, t.latestStatus, t.latestRevisionId),
 		index('part_latest_order').on(t.latestRevisionId, t.latestStatus, t.projectId),
 		index('part_latest_state_order').on(t.latestStatus, t.latestRevisionId, t.projectId)
 	]

@@ -8,6 +8,7 @@ import type { Db } from './db';
 import * as schema from './db/schema';
 import { part, revision, storedFile, type RevisionState } from './db/schema';
 import { enqueueCheck } from './jobs/queue';
+import { queueChanged } from './queue-view';
 import { storedMeasures } from './repair-limits';
 import { assertCan, findProjectForUser } from './revisions';
 import { DomainError } from '../domain-error';
@@ -125,7 +126,9 @@ export async function ingestRevision(db: Db, input: IngestInput): Promise<Ingest
 			const [rows] = (await conn.query('SELECT GET_LOCK(?, 60) AS got', [lockName])) as [Array<{ got: number | null }>, unknown];
 			if (rows[0]?.got !== 1) throw new DomainError('unavailable', 'The server is busy with this same file right now. Nothing was saved; try the upload again in a moment.');
 			try {
-				return await ingestLocked(cdb, input, proj, fileName, ext);
+				const res = await ingestLocked(cdb, input, proj, fileName, ext);
+				queueChanged();
+				return res;
 			} finally {
 				await conn.query('SELECT RELEASE_LOCK(?)', [lockName]).catch(() => {});
 			}

@@ -165,6 +165,38 @@ export async function stateCounts(db: Db, u: SessionUser, f: QueueFilter): Promi
 }
 
 /**
+ * Counts are shared: readers asking with the same filters at once wait for one count, and it is
+ * kept for COUNT_TTL_MS unless a status, assignment or upload in this process changes the queue
+ * first (queueChanged). A change made by another process (a separate check worker) shows in the
+ * counts within COUNT_TTL_MS; the rows are never kept. Without a filter on the revision or its check
+ * a count reads one index; with one it joins per part (a run's: per revision of the run), which is
+ * what sharing saves under many readers.
+ */
+const COUNT_TTL_MS = 2000;
+let epoch = 0;
+const kept = new Map<string, { at: number; epoch: number; counts: Promise<Record<RevisionState, number>> }>();
+
+/** Called after a revision's status, assignee or a new revision was written. */
+export function queueChanged(): void {
+	epoch++;
+	kept.clear();
+}
+
+function sharedCounts(db: Db, u: SessionUser, f: QueueFilter): Promise<Record<RevisionState, number>> {
+	const key = JSON.stringify([u.teamId, f.assignee === 'me' ? u.id : (f.assignee ?? null), f.project ?? null, f.revisions, f.run ?? null, f.rule ?? null, f.thinUnder ?? null]);
+	const now = Date.now();
+	const hit = kept.get(key);
+	if (hit && hit.epoch === epoch && now - hit.at < COUNT_TTL_MS) return hit.counts;
+	const counts = stateCounts(db, u, f);
+	const entry = { at: now, epoch, counts };
+	kept.set(key, entry);
+	// A failed count is not kept; the next reader asks again.
+	counts.catch(() => kept.get(key) === entry && kept.delete(key));
+	if (kept.size > 500) for (const [k, v] of kept) if (now - v.at >= COUNT_TTL_MS) kept.delete(k);
+	return counts;
+}
+
+/**
  * The page of rows and the per-state counts. The page's ids come from an ordered index scan
  * (pageIds); names, figures, the run and the superseding revision are joined for those 50 rows only,
  * and the check run's figures are read from its row for them (never its report). Live progress comes
@@ -236,7 +268,7 @@ export async function queryQueue(db: Db, u: SessionUser, f: QueueFilter) {
 		return rows.sort((a, b) => at.get(a.id)! - at.get(b.id)!);
 	};
 
-	const [rows, counts] = await Promise.all([rowsQuery(), stateCounts(db, u, f)]);
+	const [rows, counts] = await Promise.all([rowsQuery(), sharedCounts(db, u, f)]);
 	const total =
 		f.status === 'all'
 			? Object.values(counts).reduce((a, b) => a + b, 0)

@@ -8,6 +8,7 @@ import type { SessionUser } from './auth';
 import type { Db } from './db';
 import { part, project, revision } from './db/schema';
 import { notifyHeld, notifyRepairAwaits, notifyReturned, notifySignedOff, type RevisionRef } from './notify';
+import { queueChanged } from './queue-view';
 import { withoutPaths } from './reasons';
 import { DomainError } from '../domain-error';
 import { can } from '../permissions';
@@ -68,7 +69,7 @@ export async function applyEvent(db: Db, revisionId: number, event: RevisionEven
 					: `Your roles (${actor.roles.join(', ') || 'none'}) do not allow this: ${words(rule.permission)}.`
 		);
 	}
-	return db.transaction(async (txx) => {
+	const applied = await db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;
 		const [cur] = await tx
 			.select({ status: revision.status, number: revision.number, partId: revision.partId, uploaderId: revision.uploaderId, parentRevisionId: revision.parentRevisionId })
@@ -96,6 +97,8 @@ export async function applyEvent(db: Db, revisionId: number, event: RevisionEven
 		await queueEventMail(tx, event, { id: revisionId, ...cur }, opts);
 		return { from: cur.status, to: rule.to };
 	});
+	queueChanged();
+	return applied;
 }
 
 /** Who hears of the event (notify.ts writes the mail into the outbox, in this transaction). */

@@ -12,6 +12,9 @@ import { parseQueueFilter, queryQueue } from '$lib/server/queue-view';
 import { asDomainError, httpStatus, publicMessage } from '$lib/server/errors';
 import type { Actions, PageServerLoad } from './$types';
 
+// Built once: the adapter turns the schema into the form's defaults and constraints.
+const bulkAdapter = zod4(bulkSchema);
+
 export const load: PageServerLoad = async ({ locals, url }) => {
 	const me = requireRole(locals);
 	let filter;
@@ -33,7 +36,7 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 	const runRow = filter.run
 		? db.select({ id: run.id, name: run.name }).from(run).innerJoin(project, eq(project.id, run.projectId)).where(and(eq(run.id, filter.run), eq(project.teamId, me.teamId))).limit(1)
 		: Promise.resolve([]);
-	const [queue, menuRows, [runInfo], bulkForm] = await Promise.all([queryQueue(db, me, filter), menus, runRow, superValidate(zod4(bulkSchema), { errors: false })]);
+	const [queue, menuRows, [runInfo], bulkForm] = await Promise.all([queryQueue(db, me, filter), menus, runRow, superValidate(bulkAdapter, { errors: false })]);
 	const projects = menuRows.filter((m) => m.kind === 'project').map((m) => ({ slug: m.key, name: m.name }));
 	const engineers = menuRows.filter((m) => m.kind === 'person').map((m) => ({ id: m.key, name: m.name }));
 	return { queue, filter, projects, people: engineers, run: runInfo ?? null, bulkForm };
@@ -43,7 +46,7 @@ export const actions: Actions = {
 	/** The action bar: one decision on the ticked revisions, each decided on its own (see bulk.ts). */
 	bulk: async ({ locals, request }) => {
 		const me = requireRole(locals);
-		const form = await superValidate(request, zod4(bulkSchema));
+		const form = await superValidate(request, bulkAdapter);
 		if (!form.valid) return fail(400, { form });
 		try {
 			const result = await bulkAct(getDb(), me, form.data);

@@ -27,7 +27,8 @@ const ACCESS: Record<string, Rule> = {
 	'action /projects/[slug]?/profile': ['admin'],
 	'action /projects/[slug]?/settings': ['admin'],
 	'page /queue': ALL,
-	'action /queue?/assign': ['engineer'],
+	// Each bulk action checks its own permission per request; the probe below asks for a sign-off.
+	'action /queue?/bulk': ['reviewer'],
 	'page /revisions/[id]': ALL,
 	'action /revisions/[id]?/comment': ['engineer', 'designer', 'reviewer'],
 	'action /revisions/[id]?/recheck': ['engineer'],
@@ -41,6 +42,7 @@ const ACCESS: Record<string, Rule> = {
 	'page /upload': ['designer', 'engineer'],
 	'POST /api/v1/projects/[project]/parts/[part]/revisions': ['designer', 'engineer'],
 	'GET /api/v1/queue': ALL,
+	'POST /api/v1/queue/bulk': ['reviewer'],
 	'GET /api/v1/revisions/[id]': ALL,
 	'GET /api/v1/revisions/[id]/clearance': ALL,
 	'POST /api/v1/revisions/[id]/comments': ['engineer', 'designer', 'reviewer'],
@@ -162,7 +164,8 @@ const ACTION_FORMS: Record<string, Record<string, string>> = {
 	comment: { body: 'Fillet looks thin near the nose.' },
 	return: { reason: 'Close the hole at the tail.' },
 	signOff: { note: 'ok' },
-	repair: { steps: '[]', name: 'x' }
+	repair: { steps: '[]', name: 'x' },
+	bulk: { action: 'sign-off', revisionIds: NO_SUCH_ID }
 };
 
 interface Outcome {
@@ -186,6 +189,7 @@ async function attempt(key: string, who: Who): Promise<Outcome> {
 	} else if (kind === 'GET') res = await c.get(concrete(rest, false), { maxRedirects: 0 });
 	// An override without a reason is refused (400) after the role check and before anything is written.
 	else if (rest.includes('/sign-off')) res = await c.post(concrete(rest, true), { data: { override: 1 }, maxRedirects: 0 });
+	else if (rest.includes('/queue/bulk')) res = await c.post(concrete(rest, true), { data: { action: 'sign-off', revisionIds: [Number(NO_SUCH_ID)] }, maxRedirects: 0 });
 	else if (rest.includes('/comments')) res = await c.post(concrete(rest, true), { data: { body: 'Looks thin here.' }, maxRedirects: 0 });
 	// The upload route: a JSON body is refused as the wrong kind (415) by a role that may upload.
 	else res = await c.fetch(concrete(rest, false), { method: kind, data: { x: 1 }, maxRedirects: 0 });
@@ -349,6 +353,11 @@ test('wrong types, missing fields, over-long strings and unknown ids get a 4xx w
 		['comment point wrong shape', () => eng.post(`/api/v1/revisions/${revId}/comments`, { data: { body: 'x', point: ['a', null] } })],
 		['comment 100k characters', () => eng.post(`/api/v1/revisions/${revId}/comments`, { data: { body: long } })],
 		['comment JSON array', () => eng.post(`/api/v1/revisions/${revId}/comments`, { data: [1, 2, 3] })],
+		['bulk not JSON', () => eng.post('/api/v1/queue/bulk', { data: 'not json', headers: { 'content-type': 'application/json' } })],
+		['bulk unknown action', () => eng.post('/api/v1/queue/bulk', { data: { action: 'delete', revisionIds: [1] } })],
+		['bulk ids not numbers', () => eng.post('/api/v1/queue/bulk', { data: { action: 'recheck', revisionIds: ['a'] } })],
+		['bulk 100k ids', () => eng.post('/api/v1/queue/bulk', { data: { action: 'recheck', revisionIds: Array.from({ length: 100_000 }, (_, i) => i + 1) } })],
+		['bulk return without reason', () => eng.post('/api/v1/queue/bulk', { data: { action: 'return', revisionIds: [1] } })],
 		['queue with bad filters', () => eng.get('/api/v1/queue?page=-5&pageSize=1e9&sort=;drop&dir=sideways&status=nope&project=' + long.slice(0, 3000))],
 		['upload with no file field', () => eng.post('/api/v1/projects/sensor-pods/parts/side-scan-pod/revisions', { headers: { origin: baseURL }, multipart: { note: 'no file' } })],
 		['upload to unknown project', () => eng.post('/api/v1/projects/no-such/parts/x/revisions', { headers: { origin: baseURL }, multipart: { file: { name: 'x.stl', mimeType: 'application/octet-stream', buffer: readFileSync('fixtures/cube-closed.stl') } } })],
@@ -384,7 +393,8 @@ test('wrong types, missing fields, over-long strings and unknown ids get a 4xx w
 		['return without reason', `/revisions/${revId}?/return`, {}],
 		['repair steps not JSON', `/revisions/${revId}?/repair`, { steps: '][' }],
 		['repair steps wrong type', `/revisions/${revId}?/repair`, { steps: '{"op": 5}' }],
-		['assign ids not numbers', '/queue?/assign', { ids: 'a,b', assignee: 'nobody' }],
+		['bulk ids not numbers', '/queue?/bulk', { action: 'assign', revisionIds: 'a,b', assignee: 'nobody' }],
+		['bulk return without reason', '/queue?/bulk', { action: 'return', revisionIds: '1' }],
 		['action on unknown revision', `/revisions/${NO_SUCH_ID}?/recheck`, {}]
 	];
 	for (const [what, url, form] of forms) {

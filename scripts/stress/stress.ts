@@ -4,6 +4,10 @@
 //           STRESS_UPLOADS generator clients upload ~1 M-triangle binary STLs; every check must finish.
 //   faults: a check worker SIGKILLed mid-check, MariaDB stopped and started under the running app,
 //           the web process SIGKILLed during uploads and checks.
+//   scale:  the database grown by scripts/seed-bench.ts to 100,000 revisions in 500 runs; STRESS_READERS
+//           readers at a human pace on the queue page and /api/v1/queue (default view, sorted by
+//           severity, filtered by a rule) and on the run page when the build has one.
+// STRESS_PHASES (load,faults,scale) picks phases; scale runs last since it grows the database.
 import { spawn, type ChildProcess } from 'node:child_process';
 import { createWriteStream, existsSync, openAsBlob, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import http from 'node:http';
@@ -31,6 +35,9 @@ const READERS = Number(process.env.STRESS_READERS ?? 50);
 const LOAD_SECONDS = Number(process.env.STRESS_SECONDS ?? 80);
 const CELL = Number(process.env.STRESS_CELL ?? 0.0062); // tow body at this cell size: ~1.0 M triangles
 const P95_TARGET_MS = 300;
+const RUN_PAGE_TARGET_MS = 500;
+const PHASES = new Set((process.env.STRESS_PHASES ?? 'load,faults,scale').split(',').map((x) => x.trim()));
+const SCALE_SECONDS = Number(process.env.STRESS_SCALE_SECONDS ?? 30);
 
 const results: { name: string; ok: boolean; detail: string }[] = [];
 const figures: string[] = [];
@@ -412,6 +419,65 @@ async function secretsInLogs(token: string) {
 	record('no token or password in any log', hits === 0, `${logs.length} app and worker logs searched for the API token, the demo password and password hashes: ${hits} hits`);
 }
 
+/**
+ * The queue at scale: seed-bench grows the database, then each address gets READERS readers at a
+ * human pace (one request every 2 s each) for SCALE_SECONDS, one address at a time, with no check
+ * workers running (the bench rows have no files to check).
+ */
+async function scalePhase(token: string, cookie: string) {
+	const t0 = performance.now();
+	const seeded = await new Promise<{ code: number | null; out: string }>((resolve) => {
+		const p = spawn(process.execPath, ['--import', 'tsx', 'scripts/seed-bench.ts'], { env: process.env, stdio: ['ignore', 'pipe', 'pipe'] });
+		let out = '';
+		p.stdout!.on('data', (d) => (out += d));
+		p.stderr!.on('data', (d) => (out += d));
+		p.on('exit', (code) => resolve({ code, out }));
+	});
+	const seedS = (performance.now() - t0) / 1000;
+	for (const line of seeded.out.trim().split('\n')) say(line);
+	record('bench database grown by scripts/seed-bench.ts', seeded.code === 0, `exit ${seeded.code} after ${seedS.toFixed(0)} s`);
+	if (seeded.code !== 0) return;
+	figures.push(`seed-bench: ${seeded.out.split('\n').filter((l) => /revisions in|time:/.test(l)).map((l) => l.replace('[seed-bench] ', '')).join('; ')}`);
+	// Let InnoDB write back the 3 GB just inserted first, so the readers measure the queue, not the flush.
+	const tFlush = performance.now();
+	for (let i = 0; i < 180; i++) {
+		const [d] = await q("SHOW GLOBAL STATUS LIKE 'Innodb_buffer_pool_pages_dirty'");
+		if (Number(d.Value) < 100) break;
+		await sleep(1000);
+	}
+	figures.push(`scale: InnoDB wrote back the seeded pages in ${((performance.now() - tFlush) / 1000).toFixed(0)} s before the readers started`);
+	const app = startApp('scale', 0);
+	await waitHttp();
+	const [r] = await q("SELECT r.id FROM run r JOIN project p ON p.id = r.project_id WHERE p.slug LIKE 'bench-%' ORDER BY r.id DESC LIMIT 1");
+	const targets: { name: string; url: string; headers: Record<string, string>; target: number }[] = [
+		{ name: 'queue page, default (newest of each part, needs action, oldest first)', url: `${BASE}/queue`, headers: { cookie }, target: P95_TARGET_MS },
+		{ name: 'GET /api/v1/queue, default', url: `${BASE}/api/v1/queue`, headers: { authorization: `Bearer ${token}` }, target: P95_TARGET_MS },
+		{ name: 'queue page, sorted by severity', url: `${BASE}/queue?sort=severity&dir=desc`, headers: { cookie }, target: P95_TARGET_MS },
+		{ name: 'GET /api/v1/queue, sorted by severity', url: `${BASE}/api/v1/queue?sort=severity&dir=desc`, headers: { authorization: `Bearer ${token}` }, target: P95_TARGET_MS },
+		{ name: 'queue page, rule filter (closed)', url: `${BASE}/queue?rule=closed`, headers: { cookie }, target: P95_TARGET_MS },
+		{ name: 'GET /api/v1/queue, rule filter (closed)', url: `${BASE}/api/v1/queue?rule=closed`, headers: { authorization: `Bearer ${token}` }, target: P95_TARGET_MS },
+		{ name: 'GET /api/v1/queue, one run', url: `${BASE}/api/v1/queue?run=${r.id}&status=all`, headers: { authorization: `Bearer ${token}` }, target: P95_TARGET_MS },
+		{ name: 'GET /api/v1/queue, every revision (superseded too)', url: `${BASE}/api/v1/queue?revisions=all`, headers: { authorization: `Bearer ${token}` }, target: Infinity }
+	];
+	// The run page is measured when this build has one (a hook for when it lands).
+	if (existsSync('src/routes/(app)/runs/[id]/+page.svelte') || existsSync('src/routes/(app)/runs/[id]/+page.server.ts')) {
+		targets.push({ name: `run page /runs/${r.id} (200 revisions)`, url: `${BASE}/runs/${r.id}`, headers: { cookie }, target: RUN_PAGE_TARGET_MS });
+	} else figures.push('run page: not in this build (no src/routes/(app)/runs/[id]); the scale phase measures /runs/<id> once it is');
+	const load = () => readFileSync('/proc/loadavg', 'utf8').split(' ')[0];
+	for (const t of targets) {
+		// One warm-up request, so the first reader does not pay for a cold buffer pool alone.
+		await fetch(t.url, { headers: t.headers }).then((x) => x.arrayBuffer());
+		const before = load();
+		const c = await pacedReaders({ readers: READERS, periodMs: 2000, durationS: SCALE_SECONDS, url: t.url, headers: t.headers });
+		const line = `${t.name}: ${describe(c)}; load average ${before} → ${load()}`;
+		figures.push(`scale ${line}`);
+		if (Number.isFinite(t.target)) record(`scale: ${t.name} p95 < ${t.target} ms`, c.p95 < t.target && c.result.non2xx === 0 && c.result.errors === 0, `p95 = ${c.p95.toFixed(0)} ms with ${READERS} readers at ${READERS / 2} req/s (load average ${before})`);
+	}
+	const [{ n }] = await q('SELECT COUNT(*) AS n FROM revision');
+	figures.push(`scale database: ${Number(n).toLocaleString('en')} revisions`);
+	await stop(app);
+}
+
 async function main() {
 	sql = mysql.createPool({ uri: env('DATABASE_URL'), connectionLimit: 3 });
 	const t0 = performance.now();
@@ -420,22 +486,30 @@ async function main() {
 	const cookie = await signIn('engineer@example.test');
 	const token = await createToken(cookie);
 	await stop(boot);
-	say(`load: ${READERS} connections on /queue and ${READERS} on /api/v1/revisions/:id for ${LOAD_SECONDS} s, ${UPLOADS} uploads of ~1 M triangles`);
-	await loadPhase(token, cookie);
-	say('faults: worker kill');
-	const { app, w2 } = await workerKillPhase(token);
-	const small = path.join(TMP, 'small.stl');
-	const s = towBody(5);
-	writeFileSync(small, writeBinaryStl(marchingCubes(s.field, gridFor(s.min, s.max, 0.05))));
-	say('faults: database outage');
-	await dbOutagePhase(token, cookie, small);
-	await stop(w2);
-	await stop(app);
-	say('faults: web process kill');
-	const killFiles = makeMeshes(4);
-	const last = await serverKillPhase(token, killFiles);
-	await secretsInLogs(token);
-	await stop(last);
+	if (PHASES.has('load')) {
+		say(`load: ${READERS} connections on /queue and ${READERS} on /api/v1/revisions/:id for ${LOAD_SECONDS} s, ${UPLOADS} uploads of ~1 M triangles`);
+		await loadPhase(token, cookie);
+	}
+	if (PHASES.has('faults')) {
+		say('faults: worker kill');
+		const { app, w2 } = await workerKillPhase(token);
+		const small = path.join(TMP, 'small.stl');
+		const s = towBody(5);
+		writeFileSync(small, writeBinaryStl(marchingCubes(s.field, gridFor(s.min, s.max, 0.05))));
+		say('faults: database outage');
+		await dbOutagePhase(token, cookie, small);
+		await stop(w2);
+		await stop(app);
+		say('faults: web process kill');
+		const killFiles = makeMeshes(4);
+		const last = await serverKillPhase(token, killFiles);
+		await secretsInLogs(token);
+		await stop(last);
+	}
+	if (PHASES.has('scale')) {
+		say(`scale: seed-bench, then ${READERS} paced readers per queue address for ${SCALE_SECONDS} s each`);
+		await scalePhase(token, cookie);
+	}
 	await closeDb();
 	await sql.end();
 	console.log('\n[stress] figures');

@@ -4,6 +4,7 @@ import { audit } from './audit';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
 import { revision } from './db/schema';
+import { queueChanged } from './queue-view';
 import { assertCan, loadRevisionForUser } from './revisions';
 
 export async function assignRevision(db: Db, u: SessionUser, revisionIds: number[], assigneeId: string | null): Promise<number> {
@@ -18,5 +19,6 @@ export async function assignRevision(db: Db, u: SessionUser, revisionIds: number
 			n++;
 		}
 	});
+	queueChanged();
 	return n;
 }

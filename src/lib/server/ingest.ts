@@ -8,6 +8,8 @@ import type { Db } from './db';
 import * as schema from './db/schema';
 import { part, revision, storedFile, type RevisionState } from './db/schema';
 import { enqueueCheck } from './jobs/queue';
+import { queueChanged } from './queue-view';
+import { storedMeasures } from './repair-limits';
 import { assertCan, findProjectForUser } from './revisions';
 import { DomainError } from '../domain-error';
 import type { SessionUser } from './auth';
@@ -124,7 +126,9 @@ export async function ingestRevision(db: Db, input: IngestInput): Promise<Ingest
 			const [rows] = (await conn.query('SELECT GET_LOCK(?, 60) AS got', [lockName])) as [Array<{ got: number | null }>, unknown];
 			if (rows[0]?.got !== 1) throw new DomainError('unavailable', 'The server is busy with this same file right now. Nothing was saved; try the upload again in a moment.');
 			try {
-				return await ingestLocked(cdb, input, proj, fileName, ext);
+				const res = await ingestLocked(cdb, input, proj, fileName, ext);
+				queueChanged();
+				return res;
 			} finally {
 				await conn.query('SELECT RELEASE_LOCK(?)', [lockName]).catch(() => {});
 			}
@@ -187,11 +191,13 @@ async function ingestLocked(db: Db, input: IngestInput, proj: { id: number; slug
 							note: input.note?.slice(0, 500) ?? null,
 							runId: input.runId ?? null,
 							iteration: input.iteration ?? null,
-							meta: input.meta ?? null
+							meta: input.meta ?? null,
+							// The queue's deviation column: the repair's measured move, out of its log.
+							deviation: storedMeasures({ source: input.source, repairLog: input.repairLog ?? null })?.deviation ?? null
 						})
 						.$returningId();
 					// The part row is locked above, so the newest number is also the newest revision here.
-					await tx.update(part).set({ latestRevisionId: r.id }).where(eq(part.id, pa.id));
+					await tx.update(part).set({ latestRevisionId: r.id, latestStatus: 'awaiting-check' }).where(eq(part.id, pa.id));
 					await enqueueCheck(tx, r.id, config.checkAttempts);
 					await audit(tx, u.id, 'revision', r.id, input.source === 'repair' ? 'repair-created' : 'uploaded', null, 'awaiting-check', { sha256: spooled.sha256, size: spooled.size, parent: input.parentRevisionId ?? null });
 					return { revisionId: r.id, number: Number(next), status: 'awaiting-check' as const, duplicateOf: null, projectSlug: proj.slug, partSlug: pa.slug };

@@ -27,7 +27,8 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 		failedRules: checkRun.failedRules
 	};
 	// Everything below depends only on the revision row, so the queries go out together.
-	const [runRows, activeJobs, decisions, uploaders, assignees, comments, repairJobRows, parent] = await Promise.all([
+	const newestId = ctx.part.latestRevisionId;
+	const [runRows, activeJobs, decisions, uploaders, assignees, comments, repairJobRows, parent, newest] = await Promise.all([
 		withReport
 			? db.select({ ...runColumns, report: checkRun.report }).from(checkRun).where(eq(checkRun.revisionId, id)).orderBy(desc(checkRun.id)).limit(1)
 			: db.select(runColumns).from(checkRun).where(eq(checkRun.revisionId, id)).orderBy(desc(checkRun.id)).limit(1),
@@ -52,7 +53,8 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 			.where(and(eq(job.revisionId, id), eq(job.kind, 'repair')))
 			.orderBy(desc(job.id))
 			.limit(5),
-		rev.parentRevisionId ? parentSummary(db, rev.parentRevisionId, withReport) : Promise.resolve(null)
+		rev.parentRevisionId ? parentSummary(db, rev.parentRevisionId, withReport) : Promise.resolve(null),
+		newestId !== null && newestId !== rev.id ? db.select({ id: revision.id, number: revision.number }).from(revision).where(eq(revision.id, newestId)).limit(1) : Promise.resolve([])
 	]);
 	const run = runRows[0] as (typeof runRows)[number] & { report?: string };
 	const [[rules, [profile]], [current]] = await Promise.all([
@@ -90,6 +92,8 @@ export async function revisionDetail(db: Db, u: SessionUser, id: number, opts: {
 		uploader: { id: rev.uploaderId, name: uploader?.name ?? '?' },
 		assignee: assignee ?? null,
 		part: { id: ctx.part.id, slug: ctx.part.slug, name: ctx.part.name },
+		/** The part's newer revision that replaces this one (the queue shows only the newest by default); null when this is the newest. */
+		supersededBy: newest[0] && newest[0].number > rev.number ? newest[0] : null,
 		project: {
 			id: ctx.project.id,
 			slug: ctx.project.slug,

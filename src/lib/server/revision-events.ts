@@ -2,12 +2,13 @@
 // states, to which, and who may cause it) is applied in a transaction with the revision row locked,
 // together with its audit row and its mail; jobs, pages and the API all come through here. Called
 // with a transaction, it runs as a savepoint of it, so the caller's other writes commit with it.
-import { eq } from 'drizzle-orm';
+import { and, eq } from 'drizzle-orm';
 import { audit } from './audit';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
 import { part, project, revision } from './db/schema';
 import { notifyHeld, notifyRepairAwaits, notifyReturned, notifySignedOff, type RevisionRef } from './notify';
+import { queueChanged } from './queue-view';
 import { withoutPaths } from './reasons';
 import { DomainError } from '../domain-error';
 import { can } from '../permissions';
@@ -68,7 +69,7 @@ export async function applyEvent(db: Db, revisionId: number, event: RevisionEven
 					: `Your roles (${actor.roles.join(', ') || 'none'}) do not allow this: ${words(rule.permission)}.`
 		);
 	}
-	return db.transaction(async (txx) => {
+	const applied = await db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;
 		const [cur] = await tx
 			.select({ status: revision.status, number: revision.number, partId: revision.partId, uploaderId: revision.uploaderId, parentRevisionId: revision.parentRevisionId, runId: revision.runId })
@@ -85,12 +86,19 @@ export async function applyEvent(db: Db, revisionId: number, event: RevisionEven
 			.update(revision)
 			.set({ status: rule.to, statusReason: reason, updatedAt: new Date(), ...(opts.latestCheckId !== undefined ? { latestCheckId: opts.latestCheckId } : {}) })
 			.where(eq(revision.id, revisionId));
+		// The part keeps its newest revision's status beside it for the queue's counts (a no-op for an older revision).
+		await tx
+			.update(part)
+			.set({ latestStatus: rule.to })
+			.where(and(eq(part.id, cur.partId), eq(part.latestRevisionId, revisionId)));
 		const detail = { ...(reason ? { reason } : {}), ...opts.detail };
 		await audit(tx, actor?.id ?? null, 'revision', revisionId, AUDIT_ACTION[event], cur.status, rule.to, Object.keys(detail).length ? detail : null);
 		await opts.after?.(tx, cur.status);
 		await queueEventMail(tx, event, { id: revisionId, ...cur }, opts);
 		return { from: cur.status, to: rule.to };
 	});
+	queueChanged();
+	return applied;
 }
 
 /** Who hears of the event (notify.ts writes the mail into the outbox, in this transaction). */

@@ -88,7 +88,7 @@ describe('size and units through the jobs (1 m = 1000 mm, by definition)', () =>
 		const v = await addProfile({ ...DEFAULT_GATE_RULES, expectedSize: { ...SIZE_IN_CELLS }, expectedGenus: 0 });
 		const stale = await staleRevisionIds(db, projectId);
 		expect(stale.length).toBe(2);
-		const q = await queryQueue(db, users.engineer, parseQueueFilter(new URLSearchParams('status=all&project=sensor-pods&pageSize=200')));
+		const q = await queryQueue(db, users.engineer, parseQueueFilter(new URLSearchParams('status=all&revisions=all&project=sensor-pods&pageSize=200')));
 		for (const id of stale) expect(q.rows.find((r) => r.id === id)?.staleProfile).toBe(true);
 		const d = await revisionDetail(db, users.engineer, heldId, { withReport: false });
 		expect(d.check?.currentProfileVersion).toBe(v);

@@ -183,9 +183,22 @@ export const part = mysqlTable(
 		 * shows only these by default: an older revision is superseded by it and leaves "Needs action".
 		 */
 		latestRevisionId: int('latest_revision_id').references((): AnyMySqlColumn => revision.id),
+		/**
+		 * That revision's status, written with it by applyEvent (the one status writer) and by ingest
+		 * when a new revision becomes the newest. The queue counts and pages the newest revisions
+		 * from the indexes below alone, without a join per part.
+		 */
+		latestStatus: mysqlEnum('latest_status', REVISION_STATES),
 		createdAt: createdAt()
 	},
-	(t) => [uniqueIndex('part_slug').on(t.projectId, t.slug)]
+	(t) => [
+		uniqueIndex('part_slug').on(t.projectId, t.slug),
+		// The queue over newest revisions (queue-view.ts): counts by state per project; pages in
+		// revision order, of all states or of one, each an ordered scan of an index that covers it.
+		index('part_latest_count').on(t.projectId, t.latestStatus, t.latestRevisionId),
+		index('part_latest_order').on(t.latestRevisionId, t.latestStatus, t.projectId),
+		index('part_latest_state_order').on(t.latestStatus, t.latestRevisionId, t.projectId)
+	]
 );
 
 /**
@@ -251,6 +264,12 @@ export const revision = mysqlTable(
 		runId: int('run_id').references((): AnyMySqlColumn => run.id),
 		iteration: int('iteration'),
 		meta: json('meta'),
+		/**
+		 * A repair's largest surface move from its original (repair_log.measures.deviation, model units),
+		 * copied out of the log when the repair is stored so the queue can show and sort on it without
+		 * reading the log; null for uploads.
+		 */
+		deviation: double('deviation'),
 		status: mysqlEnum('status', REVISION_STATES).notNull().default('awaiting-check'),
 		statusReason: varchar('status_reason', { length: 1000 }),
 		assigneeId: varchar('assignee_id', { length: 32 }).references(() => user.id),
@@ -264,7 +283,11 @@ export const revision = mysqlTable(
 		index('revision_status').on(t.status, t.createdAt),
 		index('revision_assignee').on(t.assigneeId),
 		index('revision_sha').on(t.partId, t.sha256),
-		index('revision_run').on(t.runId, t.id)
+		index('revision_run').on(t.runId, t.id),
+		// Covering for the queue's counts over every revision of the team's parts.
+		index('revision_part_status').on(t.partId, t.status),
+		// Repair proposals by their deviation, for the queue's deviation sort over all revisions.
+		index('revision_status_deviation').on(t.status, t.deviation)
 	]
 );
 
@@ -318,7 +341,13 @@ export const checkRun = mysqlTable(
 		durationMs: int('duration_ms').notNull(),
 		createdAt: createdAt()
 	},
-	(t) => [index('check_run_revision').on(t.revisionId, t.id), index('check_run_severity').on(t.severity)]
+	(t) => [
+		index('check_run_revision').on(t.revisionId, t.id),
+		index('check_run_severity').on(t.severity),
+		// Covers what the queue sorts and filters on, so it never reads the rows: a report of tens
+		// of KB is stored inside the row (off-page only above ~8 KB), so each row read is pages of it.
+		index('check_run_queue').on(t.id, t.severity, t.failedRules, t.thinnestWallCells, t.narrowestGapCells)
+	]
 );
 
 export const ruleResult = mysqlTable(

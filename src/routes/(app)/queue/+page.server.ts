@@ -1,16 +1,19 @@
 import { error, fail } from '@sveltejs/kit';
-import { message, superValidate } from 'sveltekit-superforms';
-import { zod4 } from 'sveltekit-superforms/adapters';
-import { eq, sql } from 'drizzle-orm';
+import { and, eq, sql } from 'drizzle-orm';
 import { unionAll } from 'drizzle-orm/mysql-core';
+import { message, superValidate, type ErrorStatus } from 'sveltekit-superforms';
+import { zod4 } from 'sveltekit-superforms/adapters';
+import { bulkSchema } from '$lib/bulk-form';
 import { requireRole } from '$lib/server/auth';
+import { bulkAct, type BulkResult } from '$lib/server/bulk';
 import { getDb } from '$lib/server/db';
-import { project, user, userRole } from '$lib/server/db/schema';
+import { project, run, user, userRole } from '$lib/server/db/schema';
 import { parseQueueFilter, queryQueue } from '$lib/server/queue-view';
-import { assignRevision } from '$lib/server/assignment';
-import { formFailure } from '$lib/server/errors';
-import { assignFormSchema } from '$lib/forms';
+import { asDomainError, httpStatus, publicMessage } from '$lib/server/errors';
 import type { Actions, PageServerLoad } from './$types';
+
+// Built once: the adapter turns the schema into the form's defaults and constraints.
+const bulkAdapter = zod4(bulkSchema);
 
 export const load: PageServerLoad = async ({ locals, url }) => {
 	const me = requireRole(locals);
@@ -30,22 +33,28 @@ export const load: PageServerLoad = async ({ locals, url }) => {
 			.innerJoin(userRole, eq(userRole.userId, user.id))
 			.where(eq(user.teamId, me.teamId))
 	).orderBy(sql`kind`, sql`name`);
-	const [queue, menuRows] = await Promise.all([queryQueue(db, me, filter), menus]);
+	const runRow = filter.run
+		? db.select({ id: run.id, name: run.name }).from(run).innerJoin(project, eq(project.id, run.projectId)).where(and(eq(run.id, filter.run), eq(project.teamId, me.teamId))).limit(1)
+		: Promise.resolve([]);
+	const [queue, menuRows, [runInfo], bulkForm] = await Promise.all([queryQueue(db, me, filter), menus, runRow, superValidate(bulkAdapter, { errors: false })]);
 	const projects = menuRows.filter((m) => m.kind === 'project').map((m) => ({ slug: m.key, name: m.name }));
 	const engineers = menuRows.filter((m) => m.kind === 'person').map((m) => ({ id: m.key, name: m.name }));
-	return { queue, filter, projects, people: engineers, assignForm: await superValidate(zod4(assignFormSchema), { id: 'assign' }) };
+	return { queue, filter, projects, people: engineers, run: runInfo ?? null, bulkForm };
 };
 
 export const actions: Actions = {
-	assign: async ({ locals, request }) => {
-		const me = requireRole(locals, 'engineer');
-		const form = await superValidate(request, zod4(assignFormSchema));
+	/** The action bar: one decision on the ticked revisions, each decided on its own (see bulk.ts). */
+	bulk: async ({ locals, request }) => {
+		const me = requireRole(locals);
+		const form = await superValidate(request, bulkAdapter);
 		if (!form.valid) return fail(400, { form });
 		try {
-			const n = await assignRevision(getDb(), me, form.data.ids, form.data.assignee || null);
-			return message(form, `${n} assigned.`);
+			const result = await bulkAct(getDb(), me, form.data);
+			return message<BulkResult | string>(form, result);
 		} catch (e) {
-			return formFailure(form, e);
+			const d = asDomainError(e);
+			if (!d) throw e;
+			return message<BulkResult | string>(form, publicMessage(d), { status: httpStatus(d) as ErrorStatus });
 		}
 	}
 };

@@ -1,7 +1,8 @@
 import { error, fail } from '@sveltejs/kit';
-import { and, asc, desc, eq, sql } from 'drizzle-orm';
+import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm';
 import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
+import { z } from 'zod';
 import { DEFAULT_GATE_RULES, gateRulesSchema } from '$lib/gate/profile';
 import { requireRole } from '$lib/server/auth';
 import { audit } from '$lib/server/audit';
@@ -21,7 +22,10 @@ async function findProject(teamId: number, slug: string) {
 	return p;
 }
 
-export const load: PageServerLoad = async ({ locals, params }) => {
+/** Parts on one page of the project page. */
+const PARTS_PER_PAGE = 50;
+
+export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const me = requireRole(locals);
 	const p = await findProject(me.teamId, params.slug);
 	const db = getDb();
@@ -31,13 +35,28 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		.leftJoin(user, eq(user.id, gateProfile.createdBy))
 		.where(eq(gateProfile.projectId, p.id))
 		.orderBy(desc(gateProfile.version));
-	const parts = await db
-		.select({ id: part.id, slug: part.slug, name: part.name, revisions: sql<number>`count(${revision.id})`, latest: sql<number>`max(${revision.id})` })
-		.from(part)
-		.leftJoin(revision, eq(revision.partId, part.id))
-		.where(eq(part.projectId, p.id))
-		.groupBy(part.id)
-		.orderBy(asc(part.name));
+	// One page of parts by name (the part_slug index gives the count; the page's revision counts are
+	// counted for its parts only), with each part's newest revision and its state from the part row.
+	const pageNo = Math.min(100_000, Math.max(1, Math.floor(Number(url.searchParams.get('page')) || 1)));
+	const [[{ n: partCount }], pageParts] = await Promise.all([
+		db.select({ n: sql<number>`count(*)` }).from(part).where(eq(part.projectId, p.id)),
+		db
+			.select({ id: part.id, slug: part.slug, name: part.name, latest: part.latestRevisionId, latestStatus: part.latestStatus })
+			.from(part)
+			.where(eq(part.projectId, p.id))
+			.orderBy(asc(part.name), asc(part.id))
+			.limit(PARTS_PER_PAGE)
+			.offset((pageNo - 1) * PARTS_PER_PAGE)
+	]);
+	const revCounts = pageParts.length
+		? await db
+				.select({ partId: revision.partId, n: sql<number>`count(*)` })
+				.from(revision)
+				.where(inArray(revision.partId, pageParts.map((x) => x.id)))
+				.groupBy(revision.partId)
+		: [];
+	const nRevs = new Map(revCounts.map((c) => [c.partId, Number(c.n)]));
+	const parts = pageParts.map((x) => ({ ...x, revisions: nRevs.get(x.id) ?? 0 }));
 	const rules = gateRulesSchema.parse(profiles[0]?.rules ?? DEFAULT_GATE_RULES);
 	return {
 		project: p,
@@ -46,7 +65,8 @@ export const load: PageServerLoad = async ({ locals, params }) => {
 		profileForm: await superValidate(profileFormFromRules(rules), zod4(profileFormSchema), { id: 'profile', errors: false }),
 		batchForm: await superValidate(zod4(batchRepairFormSchema), { id: 'batch' }),
 		profiles: profiles.map((x) => ({ ...x, rules: gateRulesSchema.parse(x.rules) })),
-		parts: parts.map((x) => ({ ...x, revisions: Number(x.revisions) })),
+		parts,
+		partsPage: { page: pageNo, pages: Math.max(1, Math.ceil(Number(partCount) / PARTS_PER_PAGE)), total: Number(partCount), perPage: PARTS_PER_PAGE },
 		recipes: await projectRecipes(db, p.id),
 		runs: (await projectRuns(db, p.id)).map((r) => ({ ...r, revisions: Number(r.revisions) })),
 		stale: (await staleRevisionIds(db, p.id)).length,

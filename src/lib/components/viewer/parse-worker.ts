@@ -1,14 +1,16 @@
 /**
- * Loads one mesh off the main thread: fetch with progress, the engine's own readers, float32
- * buffers and a three-mesh-bvh tree for picking, then the defect overlays and their draw buffers
- * (overlay-draw.ts), so the page only wraps finished arrays. Everything posted is transferred. The worker keeps a copy of the indices for the overlay stage so the mesh can be
- * posted (and drawn) before the overlays are done.
+ * Loads one mesh off the main thread: fetch with progress, then, in the order the page needs them:
+ * a large binary STL's triangles straight from the bytes (the first frame), the engine's reader
+ * (welded float32 buffers), the coarse stand-in for orbiting, the defect overlays with their draw
+ * buffers (overlay-draw.ts) and last the three-mesh-bvh picking tree (small meshes get their tree
+ * with the mesh). Everything posted is transferred; the worker keeps its own copies for the later stages.
  */
 import { BufferAttribute, BufferGeometry } from 'three';
 import { MeshBVH } from 'three-mesh-bvh';
 import { readMesh } from '$lib/mesh/read';
 import { MeshReadError } from '$lib/mesh/types';
 import { computeOverlays, overlayTransferables } from '$lib/mesh/overlays';
+import { isBinaryStlSize } from '$lib/mesh/parse-stl';
 import { clusterProxy } from './proxy';
 import { buildOverlayDraw, drawTransferables } from './overlay-draw';
 import type { BvhData, LoadFailure, LoadReply, LoadRequest } from './protocol';
@@ -66,6 +68,11 @@ async function load(req: LoadRequest): Promise<void> {
 	}
 	const fetchMs = performance.now() - t0;
 	post({ type: 'parsing' });
+	if (req.overlays !== false) {
+		const t = performance.now();
+		const preview = previewTriangles(bytes, req.fileName, req.maxFaces);
+		if (preview && preview.length / 9 > PROXY_ABOVE) post({ type: 'preview', positions: preview, ms: performance.now() - t }, [preview.buffer]);
+	}
 	const t1 = performance.now();
 	let parsed;
 	try {
@@ -82,44 +89,81 @@ async function load(req: LoadRequest): Promise<void> {
 	if (triCount > req.maxFaces) {
 		return fail('too-large', `This mesh has ${triCount.toLocaleString('en')} triangles, more than the browser view shows (${req.maxFaces.toLocaleString('en')}). The inspection report is complete and unaffected.`);
 	}
-	let positions: Float32Array, indices: Uint32Array, keptIndices: Uint32Array, bvh: BvhData;
 	const parseMs = performance.now() - t1;
-	const t2 = performance.now();
+	const large = triCount > PROXY_ABOVE;
+	let positions: Float32Array, indices: Uint32Array;
 	try {
 		positions = Float32Array.from(parsed.positions);
 		indices = parsed.indices;
-		keptIndices = req.overlays === false ? indices : indices.slice();
-		const geometry = new BufferGeometry();
-		geometry.setAttribute('position', new BufferAttribute(positions, 3));
-		geometry.setIndex(new BufferAttribute(indices, 1));
-		// indirect: the tree keeps its own triangle order, so the index buffer and face ids stay ours.
-		const tree = new MeshBVH(geometry, { indirect: true });
-		const s = MeshBVH.serialize(tree, { cloneBuffers: false }) as unknown as BvhData;
-		bvh = { version: s.version, roots: s.roots, index: null, indirectBuffer: s.indirectBuffer };
+		// Small meshes come with their picking tree at once; a large one is drawn first and its tree,
+		// stand-in and overlays follow (the page copies nothing: the worker posts copies and keeps its own).
+		const bvh = large || req.overlays === false ? null : buildBvh(positions, indices);
+		const posted = { positions: positions.slice(), indices: indices.slice() };
+		const transfer: Transferable[] = [posted.positions.buffer, posted.indices.buffer];
+		if (bvh) transfer.push(...bvhTransferables(bvh.data));
+		post({ type: 'mesh', ...posted, bvh: bvh?.data ?? null, fetchMs, parseMs, bvhMs: bvh?.ms ?? 0, bytes: bytes.length }, transfer);
 	} catch (e) {
 		if (isAllocationFailure(e)) return fail('memory', 'The browser ran out of memory while preparing this mesh for display. The inspection report is complete and unaffected.');
 		throw e;
 	}
-	const bvhMs = performance.now() - t2;
-	const t4 = performance.now();
-	// Software WebGL draws about 2–4 M triangles a second here; a stand-in keeps orbiting smooth.
-	const proxy = triCount > PROXY_ABOVE ? clusterProxy(positions, indices, PROXY_TARGET) : null;
-	const proxyMs = performance.now() - t4;
-	const transfer: Transferable[] = [positions.buffer, indices.buffer, ...bvh.roots];
-	if (bvh.indirectBuffer) transfer.push(bvh.indirectBuffer.buffer);
-	if (proxy) transfer.push(proxy.positions.buffer, proxy.indices.buffer);
-	post({ type: 'mesh', positions, indices, bvh, proxy, fetchMs, parseMs, bvhMs, proxyMs, bytes: bytes.length }, transfer);
-
 	if (req.overlays === false) return;
-	const t3 = performance.now();
 	try {
-		const overlays = computeOverlays({ positions: parsed.positions, indices: keptIndices }, req.report, { minEdgeLength: req.minEdgeLength });
+		if (large) {
+			// Software WebGL draws about 2–4 M triangles a second here; a stand-in keeps orbiting smooth.
+			const t4 = performance.now();
+			const proxy = clusterProxy(positions, indices, PROXY_TARGET);
+			if (proxy) post({ type: 'proxy', ...proxy, ms: performance.now() - t4 }, [proxy.positions.buffer, proxy.indices.buffer]);
+		}
+		const t3 = performance.now();
+		const overlays = computeOverlays({ positions: parsed.positions, indices }, req.report, { minEdgeLength: req.minEdgeLength });
 		const t5 = performance.now();
-		const draw = buildOverlayDraw(overlays, parsed.positions, keptIndices);
+		const draw = buildOverlayDraw(overlays, parsed.positions, indices);
 		post({ type: 'overlays', overlays, draw, ms: t5 - t3, drawMs: performance.now() - t5 }, [...overlayTransferables(overlays), ...drawTransferables(draw)]);
 	} catch (e) {
 		fail(isAllocationFailure(e) ? 'memory' : 'read', `Defect overlays could not be computed: ${(e as Error).message}`);
+		return;
 	}
+	if (large) {
+		try {
+			const bvh = buildBvh(positions, indices);
+			post({ type: 'bvh', bvh: bvh.data, ms: bvh.ms }, bvhTransferables(bvh.data));
+		} catch (e) {
+			fail(isAllocationFailure(e) ? 'memory' : 'read', `The picking tree could not be built: ${(e as Error).message}`);
+		}
+	}
+}
+
+/** The three-mesh-bvh tree for picking, indirect: the tree keeps its own triangle order, so the index buffer and face ids stay ours. */
+function buildBvh(positions: Float32Array, indices: Uint32Array): { data: BvhData; ms: number } {
+	const t = performance.now();
+	const geometry = new BufferGeometry();
+	geometry.setAttribute('position', new BufferAttribute(positions, 3));
+	geometry.setIndex(new BufferAttribute(indices, 1));
+	const tree = new MeshBVH(geometry, { indirect: true });
+	const s = MeshBVH.serialize(tree, { cloneBuffers: true }) as unknown as BvhData;
+	return { data: { version: s.version, roots: s.roots, index: null, indirectBuffer: s.indirectBuffer }, ms: performance.now() - t };
+}
+
+function bvhTransferables(b: BvhData): Transferable[] {
+	return b.indirectBuffer ? [...b.roots, b.indirectBuffer.buffer] : [...b.roots];
+}
+
+/**
+ * Binary STL straight from the bytes, one unwelded triangle after another (9 floats each), for the
+ * first frame while the reader welds the corners: tens of milliseconds for a million triangles.
+ * Null for anything else (ASCII STL, PLY, OBJ), which waits for the reader.
+ */
+function previewTriangles(bytes: Uint8Array, fileName: string, maxFaces: number): Float32Array | null {
+	if (!/\.stl$/i.test(fileName) || !isBinaryStlSize(bytes)) return null;
+	const dv = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+	const n = dv.getUint32(80, true);
+	if (n === 0 || n > maxFaces) return null;
+	const out = new Float32Array(9 * n);
+	for (let t = 0, o = 84 + 12; t < n; t++, o += 50) {
+		for (let k = 0; k < 9; k++) out[9 * t + k] = dv.getFloat32(o + 4 * k, true);
+	}
+	for (let i = 0; i < out.length; i++) if (!Number.isFinite(out[i])) return null;
+	return out;
 }
 
 self.onmessage = (ev: MessageEvent<LoadRequest>) => {

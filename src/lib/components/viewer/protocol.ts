@@ -32,20 +32,23 @@ export interface BvhData {
 export type LoadReply =
 	| { type: 'progress'; loaded: number; total: number | null }
 	| { type: 'parsing' }
+	/** Large binary STL only: the triangles as they are in the file (9 floats each, unwelded), drawn until the welded mesh arrives. */
+	| { type: 'preview'; positions: Float32Array; ms: number }
 	| {
 			type: 'mesh';
 			positions: Float32Array;
 			indices: Uint32Array;
-			bvh: BvhData;
-			/** Coarse stand-in drawn while the camera moves (large meshes only). */
-			proxy: { positions: Float32Array; indices: Uint32Array } | null;
+			/** Small meshes: the picking tree comes with the mesh; large ones get it in a 'bvh' message after the overlays. */
+			bvh: BvhData | null;
 			fetchMs: number;
-			proxyMs: number;
 			parseMs: number;
 			bvhMs: number;
 			bytes: number;
 	  }
+	/** Coarse stand-in drawn while the camera moves (large meshes only). */
+	| { type: 'proxy'; positions: Float32Array; indices: Uint32Array; ms: number }
 	| { type: 'overlays'; overlays: MeshOverlays; draw: OverlayDraw; ms: number; drawMs: number }
+	| { type: 'bvh'; bvh: BvhData; ms: number }
 	| { type: 'error'; kind: LoadFailure; message: string };
 
 export interface DeviationRequest {

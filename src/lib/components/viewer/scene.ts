@@ -36,13 +36,11 @@ import {
 	type Texture
 } from 'three';
 import { OrbitControls } from 'three/examples/jsm/controls/OrbitControls.js';
-import { LineSegments2 } from 'three/examples/jsm/lines/LineSegments2.js';
-import { LineSegmentsGeometry } from 'three/examples/jsm/lines/LineSegmentsGeometry.js';
-import { LineMaterial } from 'three/examples/jsm/lines/LineMaterial.js';
 import { acceleratedRaycast, computeBoundsTree, disposeBoundsTree, MeshBVH } from 'three-mesh-bvh';
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import type { BvhData } from './protocol';
 import { AxisInset } from './layers/axis-inset';
+import { thickLines } from './layers/thick-lines';
 import { PinLayer, type PinInput } from './layers/pin-layer';
 
 export type { PinInput };
@@ -78,6 +76,8 @@ BufferGeometry.prototype.disposeBoundsTree = disposeBoundsTree;
 
 const BACK_COLOUR_SCALE = 'vec3(0.62, 0.5, 0.42)';
 const FLY_MS = 400;
+/** Share of the resting resolution (per axis) moving frames of a large mesh are drawn at: a quarter of the pixels. */
+const MOVING_RESOLUTION = 0.5;
 
 const PATTERN_VERTEX = /* glsl */ `
 #include <common>
@@ -150,14 +150,8 @@ class MarkerTextures {
 	}
 }
 
-function lineObject(segments: Float32Array, colour: string, width: number, dashed: boolean, dash = 1): LineSegments2 {
-	const geom = new LineSegmentsGeometry();
-	geom.setPositions(segments);
-	const mat = new LineMaterial({ color: new Color(colour).getHex(), linewidth: width, dashed, dashSize: dash, gapSize: dash * 0.7, worldUnits: false });
-	mat.clipping = true;
-	const line = new LineSegments2(geom, mat);
-	if (dashed) line.computeLineDistances();
-	return line;
+function lineObject(segments: Float32Array, colour: string, width: number, dashed: boolean, dash = 1): Mesh {
+	return thickLines(segments, colour, width, dashed ? dash : 0);
 }
 
 /** 1-pixel GL lines: two vertices a segment and the simplest shader, for segments past the thick-line cap. */
@@ -205,6 +199,7 @@ export interface ViewerDebug {
 	gpuMemory(): GpuMemory;
 	setFlowDirection(f: [number, number, number]): void;
 	benchmark(frames?: number, moving?: boolean): FrameStats;
+	profileMoving(frames?: number): Record<string, number>;
 	render(): number;
 }
 
@@ -229,8 +224,11 @@ export class ViewerScene {
 	/** Coarse stand-in shown instead of the mesh while the camera moves. */
 	private proxy: Mesh | null = null;
 	private moving = false;
-	/** When the mesh first became visible (performance.now), for the debug hook. */
+	/** When the mesh's shaders were ready and its first frame asked for (performance.now), for the debug hook. */
 	meshShown = 0;
+	/** When the first frame with the mesh in it was finished (performance.now); waited for on the GPU when measureFirstFrame is set (the dev harness). */
+	meshDrawn = 0;
+	measureFirstFrame = false;
 	private wire: Mesh | null = null;
 	private compareMesh: Mesh | null = null;
 	private overlayGroups = new Map<OverlayKind, Group>();
@@ -256,6 +254,8 @@ export class ViewerScene {
 	private markerTextures = new MarkerTextures();
 	private anim: { from: Vector3; to: Vector3; fromT: Vector3; toT: Vector3; t0: number } | null = null;
 	private resizeObserver: ResizeObserver;
+	/** Pixel ratio at rest; moving frames of a large mesh are drawn at MOVING_RESOLUTION of it and scaled up by the browser. */
+	private restRatio = 1;
 	private compareMode: CompareMode | null = null;
 	private colourMode: ColourMode = 'plain';
 	private deviation: { distances: Float32Array; max: number } | null = null;
@@ -267,7 +267,8 @@ export class ViewerScene {
 	constructor(container: HTMLElement, flowDirection: [number, number, number]) {
 		this.container = container;
 		this.renderer = new WebGLRenderer({ antialias: false, preserveDrawingBuffer: true, powerPreference: 'high-performance' });
-		this.renderer.setPixelRatio(Math.min(window.devicePixelRatio, 2));
+		this.restRatio = Math.min(window.devicePixelRatio, 2);
+		this.renderer.setPixelRatio(this.restRatio);
 		this.renderer.setClearColor(new Color(BACKGROUND_COLOUR));
 		this.renderer.localClippingEnabled = false;
 		this.renderer.autoClear = false;
@@ -320,17 +321,67 @@ export class ViewerScene {
 		return (this.compareMode === 'side' && this.compareMesh ? w / 2 : w) / h;
 	}
 
-	setMesh(positions: Float32Array, indices: Uint32Array, bvh: BvhData | null, proxy: { positions: Float32Array; indices: Uint32Array } | null = null): void {
+	/**
+	 * A large binary STL's triangles as the file holds them (unwelded, 9 floats each), drawn until
+	 * setMesh brings the welded mesh: the first frame does not wait for the reader.
+	 */
+	setPreview(positions: Float32Array): void {
 		this.clearMesh();
 		const geom = new BufferGeometry();
 		geom.setAttribute('position', new BufferAttribute(positions, 3));
+		this.showMesh(geom, positions.length / 9);
+	}
+
+	/** The welded mesh; it takes the preview's place without a new shader or a new camera. bvh null: picking waits for setBvh. */
+	setMesh(positions: Float32Array, indices: Uint32Array, bvh: BvhData | null): void {
+		const geom = new BufferGeometry();
+		geom.setAttribute('position', new BufferAttribute(positions, 3));
 		geom.setIndex(new BufferAttribute(indices, 1));
+		if (this.mesh && !this.mesh.geometry.getIndex()) {
+			// Swap the preview's geometry: same material, already compiled, already framed.
+			const old = this.mesh.geometry;
+			geom.boundingBox = old.boundingBox;
+			geom.boundingSphere = old.boundingSphere;
+			this.mesh.geometry = geom;
+			if (this.wire) this.wire.geometry = geom;
+			old.dispose();
+			this.triCount = indices.length / 3;
+			this.shellColours = null;
+			this.applyColours();
+		} else {
+			this.clearMesh();
+			this.showMesh(geom, indices.length / 3);
+		}
+		if (bvh) this.setBvh(bvh);
+	}
+
+	get pickReady(): boolean {
+		return !!this.mesh?.geometry.boundsTree;
+	}
+
+	/** The picking tree (three-mesh-bvh, indirect); until it arrives pick() finds nothing. */
+	setBvh(bvh: BvhData): void {
+		const geom = this.mesh?.geometry;
+		if (!geom || !geom.getIndex()) return;
+		geom.boundsTree = MeshBVH.deserialize(bvh as never, geom, { setIndex: false });
+	}
+
+	/** Coarse stand-in drawn instead of the mesh while the camera moves. */
+	setProxy(positions: Float32Array, indices: Uint32Array): void {
+		this.clearProxy();
+		const pg = new BufferGeometry();
+		pg.setAttribute('position', new BufferAttribute(positions, 3));
+		pg.setIndex(new BufferAttribute(indices, 1));
+		this.proxy = new Mesh(pg, meshMaterial());
+		this.proxy.visible = false;
+		this.proxy.raycast = () => {};
+		this.scene.add(this.proxy);
+	}
+
+	private showMesh(geom: BufferGeometry, triangles: number): void {
 		geom.computeBoundingBox();
 		geom.computeBoundingSphere();
-		if (bvh) geom.boundsTree = MeshBVH.deserialize(bvh as never, geom, { setIndex: false });
-		else geom.computeBoundsTree({ indirect: true });
-		const mat = meshMaterial();
-		this.mesh = new Mesh(geom, mat);
+		this.mesh = new Mesh(geom, meshMaterial());
 		this.mesh.raycast = acceleratedRaycast;
 		// Compile the shaders without blocking (KHR_parallel_shader_compile where available): a
 		// synchronous link on software WebGL holds the page for seconds.
@@ -346,16 +397,7 @@ export class ViewerScene {
 				this.meshShown = performance.now();
 				this.requestRender();
 			});
-		if (proxy) {
-			const pg = new BufferGeometry();
-			pg.setAttribute('position', new BufferAttribute(proxy.positions, 3));
-			pg.setIndex(new BufferAttribute(proxy.indices, 1));
-			this.proxy = new Mesh(pg, meshMaterial());
-			this.proxy.visible = false;
-			this.proxy.raycast = () => {};
-			this.scene.add(this.proxy);
-		}
-		this.triCount = indices.length / 3;
+		this.triCount = triangles;
 		this.bboxMin.copy(geom.boundingBox!.min);
 		this.bboxMax.copy(geom.boundingBox!.max);
 		this.bounds.copy(geom.boundingSphere!);
@@ -364,6 +406,11 @@ export class ViewerScene {
 		this.camera.updateProjectionMatrix();
 		this.updateSection();
 		this.fit(false);
+	}
+
+	/** Bounding-box diagonal of the loaded mesh, model units. */
+	get diagonal(): number {
+		return this.bboxMax.distanceTo(this.bboxMin);
 	}
 
 	get loadedTriangles(): number {
@@ -380,13 +427,18 @@ export class ViewerScene {
 			this.mesh.geometry.disposeBoundsTree?.();
 			this.mesh.geometry.dispose();
 		}
-		if (this.proxy) {
-			this.scene.remove(this.proxy);
-			this.proxy.geometry.dispose();
-			(this.proxy.material as Material).dispose();
-		}
-		this.mesh = this.wire = this.proxy = null;
+		this.clearProxy();
+		this.mesh = this.wire = null;
 		this.shellColours = null;
+		this.meshShown = this.meshDrawn = 0;
+	}
+
+	private clearProxy(): void {
+		if (!this.proxy) return;
+		this.scene.remove(this.proxy);
+		this.proxy.geometry.dispose();
+		(this.proxy.material as Material).dispose();
+		this.proxy = null;
 	}
 
 	/** Draws the overlays from buffers the parse worker finished (overlay-draw.ts): no per-item work here. */
@@ -418,12 +470,11 @@ export class ViewerScene {
 			return [fine, moving];
 		};
 		const lines = (full: Float32Array, thick: Float32Array, moving: Float32Array, colour: string, make: (segments: Float32Array) => Object3D): Object3D[] => {
-			let fine: Object3D = make(full);
+			let fine: Object3D;
 			if (thick.length) {
-				const g = new Group();
-				g.add(thinLines(full, colour), make(thick));
-				fine = g;
-			}
+				fine = new Group();
+				fine.add(thinLines(full, colour), make(thick));
+			} else fine = make(full);
 			return lod(fine, moving.length ? make(moving) : null);
 		};
 		const markers = (all: Float32Array, moving: Float32Array, shape: MarkerShape, colour: string, size: number): Object3D[] =>
@@ -746,7 +797,7 @@ export class ViewerScene {
 
 	/** Face under a client-space point, through the BVH; clipped-away hits are skipped. */
 	pick(clientX: number, clientY: number): PickResult | null {
-		if (!this.mesh) return null;
+		if (!this.mesh?.geometry.boundsTree) return null;
 		const rect = this.renderer.domElement.getBoundingClientRect();
 		const ndc = this.toNdc(clientX, clientY, rect);
 		if (!ndc) return null;
@@ -816,8 +867,6 @@ export class ViewerScene {
 	renderNow(finish = false): number {
 		const t0 = performance.now();
 		const r = this.renderer;
-		const size = r.getSize(new Vector2());
-		const w = size.x, h = size.y;
 		const coarse = !!this.proxy && (this.moving || this.anim !== null);
 		if (this.proxy && this.mesh && this.meshShown) {
 			this.proxy.visible = coarse;
@@ -825,10 +874,15 @@ export class ViewerScene {
 			// Colour modes are per vertex of the full mesh; the stand-in shows plain while moving.
 		}
 		const movingNow = this.moving || this.anim !== null;
+		// Software rasterisers pay per pixel: while a large mesh moves, fewer pixels, sharp again at rest.
+		const ratio = this.proxy && movingNow ? this.restRatio * MOVING_RESOLUTION : this.restRatio;
+		if (r.getPixelRatio() !== ratio) r.setPixelRatio(ratio);
 		for (const l of this.lod) {
 			l.fine.visible = !movingNow;
 			l.coarse.visible = movingNow;
 		}
+		const size = r.getSize(new Vector2());
+		const w = size.x, h = size.y;
 		r.setScissorTest(false);
 		r.setViewport(0, 0, w, h);
 		r.clear();
@@ -854,12 +908,14 @@ export class ViewerScene {
 		// Axis inset, bottom left: rotates with the main camera.
 		this.inset.render(r, this.camera, this.controls.target);
 		r.setScissorTest(false);
-		if (finish) {
+		const firstWithMesh = !this.meshDrawn && !!this.mesh?.visible;
+		if (finish || (firstWithMesh && this.measureFirstFrame)) {
 			const gl = r.getContext();
 			const px = new Uint8Array(4);
 			gl.readPixels(0, 0, 1, 1, gl.RGBA, gl.UNSIGNED_BYTE, px);
 		}
 		const ms = performance.now() - t0;
+		if (firstWithMesh) this.meshDrawn = performance.now();
 		this.frameTimes.push(ms);
 		if (this.frameTimes.length > 240) this.frameTimes.shift();
 		return ms;
@@ -880,8 +936,11 @@ export class ViewerScene {
 
 	/** Orbit through `frames` renders, each waited for on the GPU; frame times in ms. */
 	benchmark(frames: number, moving = false): FrameStats {
-		this.frameTimes = [];
 		this.moving = moving;
+		// One frame first, outside the figures: it waits for whatever the GPU still had queued (a
+		// toggle's redraw) and uploads what only moving frames draw.
+		this.renderNow(true);
+		this.frameTimes = [];
 		const target = this.controls.target.clone();
 		const offset = this.camera.position.clone().sub(target);
 		const axis = this.camera.up.clone().normalize();
@@ -892,8 +951,55 @@ export class ViewerScene {
 			this.renderNow(true);
 		}
 		this.moving = false;
-		this.renderNow();
-		return this.frameStats();
+		const stats = this.frameStats();
+		// The view at rest again, outside the figures: they are the orbit's frames only.
+		this.requestRender();
+		return stats;
+	}
+
+	/**
+	 * Debug (the viewer bench): what each object drawn while the camera moves costs alone, in ms per
+	 * frame waited for on the GPU, keyed "kind/child type items".
+	 */
+	profileMoving(frames = 5): Record<string, number> {
+		const out: Record<string, number> = {};
+		this.moving = true;
+		this.renderNow(true);
+		const r = this.renderer, gl = r.getContext(), px = new Uint8Array(4);
+		const time = (label: string, obj: Object3D) => {
+			const parent = obj.parent, tmp = new Scene(), wasVisible = obj.visible;
+			obj.visible = true;
+			tmp.add(obj);
+			r.setScissorTest(false);
+			r.clear();
+			r.render(tmp, this.camera);
+			gl.readPixels(0, 0, 1, 1, gl.RGBA, gl.UNSIGNED_BYTE, px);
+			const t0 = performance.now();
+			for (let f = 0; f < frames; f++) {
+				r.clear();
+				r.render(tmp, this.camera);
+				gl.readPixels(0, 0, 1, 1, gl.RGBA, gl.UNSIGNED_BYTE, px);
+			}
+			out[label] = (performance.now() - t0) / frames;
+			obj.visible = wasVisible;
+			parent?.add(obj);
+		};
+		if (this.proxy) time(`stand-in ${this.proxy.geometry.getIndex()!.count / 3}`, this.proxy);
+		for (const [kind, g] of this.overlayGroups) {
+			if (!g.visible) continue;
+			const leaves: Object3D[] = [];
+			g.traverseVisible((o) => {
+				if ((o as Mesh).isMesh || (o as Points).isPoints || (o as LineSegments).isLineSegments) leaves.push(o);
+			});
+			leaves.forEach((leaf, i) => {
+				const geom = (leaf as Mesh).geometry as BufferGeometry & { instanceCount?: number };
+				const n = geom.instanceCount && Number.isFinite(geom.instanceCount) ? geom.instanceCount : (geom.index?.count ?? geom.getAttribute('position')?.count ?? 0);
+				time(`${kind}/${i} ${leaf.type} ${n}`, leaf);
+			});
+		}
+		this.moving = false;
+		this.requestRender();
+		return out;
 	}
 
 	/** GPU objects this viewer's renderer holds (for the leak check in the dev harness tests). */

@@ -72,6 +72,7 @@ export class ViewerState {
 		this.overlayState = 'pending';
 		this.errorMessage = '';
 		const started = performance.now();
+		this.timings = { requestedAt: started };
 		return runWorker<LoadRequest, LoadReply>(
 			parseWorker,
 			req,
@@ -79,12 +80,22 @@ export class ViewerState {
 			(m, done) => {
 				if (m.type === 'progress') this.progress = { loaded: m.loaded, total: m.total };
 				else if (m.type === 'parsing') this.status = 'parsing';
-				else if (m.type === 'mesh') {
+				else if (m.type === 'preview') {
+					s.setPreview(m.positions);
+					this.timings = { ...this.timings, previewMs: m.ms, previewAt: performance.now() };
+				} else if (m.type === 'mesh') {
 					const tMesh = performance.now();
-					s.setMesh(m.positions, m.indices, m.bvh, m.proxy);
+					s.setMesh(m.positions, m.indices, m.bvh);
 					this.triCount = m.indices.length / 3;
-					this.timings = { fetchMs: m.fetchMs, parseMs: m.parseMs, bvhMs: m.bvhMs, proxyMs: m.proxyMs, proxyTriangles: m.proxy ? m.proxy.indices.length / 3 : 0, bytes: m.bytes, toDrawnMs: performance.now() - started, meshAt: tMesh, setMeshMs: performance.now() - tMesh };
+					this.timings = { ...this.timings, fetchMs: m.fetchMs, parseMs: m.parseMs, bvhMs: m.bvhMs, bytes: m.bytes, toDrawnMs: performance.now() - started, meshAt: tMesh, setMeshMs: performance.now() - tMesh };
 					this.status = 'ready';
+				} else if (m.type === 'proxy') {
+					s.setProxy(m.positions, m.indices);
+					this.timings = { ...this.timings, proxyMs: m.ms, proxyTriangles: m.indices.length / 3 };
+				} else if (m.type === 'bvh') {
+					s.setBvh(m.bvh);
+					this.timings = { ...this.timings, bvhMs: m.ms, bvhAt: performance.now() };
+					done();
 				} else if (m.type === 'overlays') {
 					const tOv = performance.now();
 					this.overlays = m.overlays;
@@ -93,7 +104,8 @@ export class ViewerState {
 					this.sampled = { ...s.sampled };
 					this.timings = { ...this.timings, overlaysMs: m.ms, overlayDrawMs: m.drawMs, overlaysAt: tOv, setOverlaysMs: performance.now() - tOv };
 					this.overlayState = 'ready';
-					done();
+					// A large mesh's picking tree comes last; a small one's came with the mesh.
+					if (s.pickReady) done();
 				} else if (m.type === 'error') {
 					if (this.status !== 'ready') this.status = 'error';
 					this.errorMessage = m.message;

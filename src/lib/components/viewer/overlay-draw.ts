@@ -12,7 +12,7 @@ export const MARKER_CAP = 20_000;
 export const THICK_SEGMENT_CAP = 20_000;
 /** Most segments (thick) and markers a kind draws while the camera moves; an even sample stands in. */
 export const MOVING_SEGMENT_CAP = 5_000;
-export const MOVING_MARKER_CAP = 2_000;
+export const MOVING_MARKER_CAP = 1_000;
 
 export interface OverlayDraw {
 	holeCentres: Float32Array;

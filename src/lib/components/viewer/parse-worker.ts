@@ -1,8 +1,8 @@
 /**
  * Loads one mesh off the main thread: fetch with progress, then, in the order the page needs them:
  * a large binary STL's triangles straight from the bytes (the first frame), the engine's reader
- * (welded float32 buffers), the coarse stand-in for orbiting, the defect overlays with their draw
- * buffers (overlay-draw.ts) and last the three-mesh-bvh picking tree (small meshes get their tree
+ * (welded float32 buffers), the defect overlays with their draw buffers (overlay-draw.ts), the
+ * coarse stand-in for orbiting and last the three-mesh-bvh picking tree (small meshes get their tree
  * with the mesh). Everything posted is transferred; the worker keeps its own copies for the later stages.
  */
 import { BufferAttribute, BufferGeometry } from 'three';
@@ -108,17 +108,17 @@ async function load(req: LoadRequest): Promise<void> {
 	}
 	if (req.overlays === false) return;
 	try {
+		const t3 = performance.now();
+		const overlays = computeOverlays({ positions: parsed.positions, indices }, req.report, { minEdgeLength: req.minEdgeLength });
+		const t5 = performance.now();
+		const draw = buildOverlayDraw(overlays, parsed.positions, indices);
+		post({ type: 'overlays', overlays, draw, ms: t5 - t3, drawMs: performance.now() - t5 }, [...overlayTransferables(overlays), ...drawTransferables(draw)]);
 		if (large) {
 			// Software WebGL draws about 2–4 M triangles a second here; a stand-in keeps orbiting smooth.
 			const t4 = performance.now();
 			const proxy = clusterProxy(positions, indices, PROXY_TARGET);
 			if (proxy) post({ type: 'proxy', ...proxy, ms: performance.now() - t4 }, [proxy.positions.buffer, proxy.indices.buffer]);
 		}
-		const t3 = performance.now();
-		const overlays = computeOverlays({ positions: parsed.positions, indices }, req.report, { minEdgeLength: req.minEdgeLength });
-		const t5 = performance.now();
-		const draw = buildOverlayDraw(overlays, parsed.positions, indices);
-		post({ type: 'overlays', overlays, draw, ms: t5 - t3, drawMs: performance.now() - t5 }, [...overlayTransferables(overlays), ...drawTransferables(draw)]);
 	} catch (e) {
 		fail(isAllocationFailure(e) ? 'memory' : 'read', `Defect overlays could not be computed: ${(e as Error).message}`);
 		return;

@@ -25,6 +25,8 @@ export interface ViewerDebug {
 	/** ms per frame (waited for on the GPU) of each object drawn while moving, each drawn alone, keyed "layer/child type items". */
 	profileMoving(frames?: number): Record<string, number>;
 	render(): number;
+	/** One frame drawn as while dragging, left on the canvas (for a screenshot of what orbiting shows). */
+	renderMoving(): number;
 }
 
 /** Orbit through `frames` renders; the figures are the orbit's frames only. */
@@ -115,6 +117,12 @@ export function viewerDebug(s: ViewerScene, v: ViewerState): ViewerDebug {
 		setFlowDirection: (f) => s.setFlowDirection(f),
 		benchmark: (frames = 30, moving = false) => orbit(s, frames, moving),
 		profileMoving: (frames = 5) => profileMoving(s, frames),
-		render: () => s.renderNow(true)
+		render: () => s.renderNow(true),
+		renderMoving: () => {
+			s.rig.dragging = true;
+			const ms = s.renderNow(true);
+			s.rig.dragging = false;
+			return ms;
+		}
 	};
 }

@@ -4,7 +4,8 @@
  * are plain triangle meshes (thick-lines.ts), markers point sprites with a solid and a ghosted pass.
  * Level of detail: at rest every drawn segment (an even sample of THICK_SEGMENT_CAP thick, the rest
  * as 1-pixel lines); while the camera moves an even sample of MOVING_SEGMENT_CAP segments and
- * MOVING_MARKER_CAP markers per kind (one pass, without the ghost behind the surface). Marker textures are this layer's own, freed with it.
+ * MOVING_MARKER_CAP markers per kind (one pass, without the ghost behind the surface; a sampled line
+ * overlay's midpoint markers wait for rest, its moving lines show where the items are). Marker textures are this layer's own, freed with it.
  */
 import {
 	BufferAttribute,
@@ -193,6 +194,10 @@ export class OverlayLayer {
 		};
 		const markers = (all: Float32Array, moving: Float32Array, shape: MarkerShape, colour: string, size: number): Object3D[] =>
 			lod(markerPoints(tex, all, shape, colour, size), moving.length ? markerPointsLight(tex, moving, shape, colour, size) : null);
+		// Markers at the midpoints of a line overlay's segments: while moving, when the overlay is
+		// sampled, its moving lines already show where the items are, so the markers wait for rest.
+		const lineMarkers = (all: Float32Array, moving: Float32Array, shape: MarkerShape, colour: string, size: number): Object3D[] =>
+			lod(markerPoints(tex, all, shape, colour, size), moving.length ? new Group() : null);
 		const none = new Float32Array(0);
 		if (o.holeSegments.length) add('holes', ...lines(o.holeSegments, none, d.holeSegmentsMoving, st.holes.colour, (seg) => thickLines(seg, st.holes.colour, 4.5, dash)), markerPoints(tex, d.holeCentres, st.holes.marker, st.holes.colour, 26));
 		if (o.nonManifoldEdgeSegments.length) {
@@ -206,7 +211,7 @@ export class OverlayLayer {
 			add(
 				'nonManifoldEdges',
 				...lines(o.nonManifoldEdgeSegments, d.nonManifoldEdgeSegmentsThick, d.nonManifoldEdgeSegmentsMoving, st.nonManifoldEdges.colour, cased),
-				...markers(d.nonManifoldEdgeMidpoints, d.nonManifoldEdgeMidpointsMoving, st.nonManifoldEdges.marker, st.nonManifoldEdges.colour, 20)
+				...lineMarkers(d.nonManifoldEdgeMidpoints, d.nonManifoldEdgeMidpointsMoving, st.nonManifoldEdges.marker, st.nonManifoldEdges.colour, 20)
 			);
 		}
 		if (o.nonManifoldVertexPoints.length) add('nonManifoldVertices', markerPoints(tex, o.nonManifoldVertexPoints, st.nonManifoldVertices.marker, st.nonManifoldVertices.colour, 24));
@@ -221,7 +226,7 @@ export class OverlayLayer {
 			add(
 				'shortEdges',
 				...lines(o.shortEdgeSegments, d.shortEdgeSegmentsThick, d.shortEdgeSegmentsMoving, st.shortEdges.colour, (seg) => thickLines(seg, st.shortEdges.colour, 5)),
-				...markers(d.shortEdgeMidpoints, d.shortEdgeMidpointsMoving, st.shortEdges.marker, st.shortEdges.colour, 12)
+				...lineMarkers(d.shortEdgeMidpoints, d.shortEdgeMidpointsMoving, st.shortEdges.marker, st.shortEdges.colour, 12)
 			);
 		}
 		if (o.degenerateFaces.length) add('degenerateFaces', ...markers(d.degenerateCentres, d.degenerateCentresMoving, st.degenerateFaces.marker, st.degenerateFaces.colour, 20));

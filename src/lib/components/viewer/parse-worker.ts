@@ -1,7 +1,7 @@
 /**
- * Loads one mesh off the main thread: fetch with progress, then, in the order the page needs them:
- * a large binary STL's triangles straight from the bytes (the first frame), the engine's reader
- * (welded float32 buffers), the defect overlays with their draw buffers (overlay-draw.ts), the
+ * Loads one mesh off the main thread: the bytes (fetched here with progress, or handed over by the
+ * page, which fetched them and drew their triangles while this module loaded), then, in the order
+ * the page needs them: the engine's reader (welded float32 buffers), the defect overlays with their draw buffers (overlay-draw.ts), the
  * coarse stand-in for orbiting and last the three-mesh-bvh picking tree (small meshes get their tree
  * with the mesh). Everything posted is transferred; the worker keeps its own copies for the later stages.
  */
@@ -10,12 +10,11 @@ import { MeshBVH } from 'three-mesh-bvh';
 import { readMesh } from '$lib/mesh/read';
 import { MeshReadError } from '$lib/mesh/types';
 import { computeOverlays, overlayTransferables } from '$lib/mesh/overlays';
-import { isBinaryStlSize } from '$lib/mesh/parse-stl';
+import { fetchBytes } from './fetch-mesh';
 import { clusterProxy } from './proxy';
 import { buildOverlayDraw, drawTransferables } from './overlay-draw';
-import type { BvhData, LoadFailure, LoadReply, LoadRequest } from './protocol';
+import { PROXY_ABOVE, type BvhData, type LoadFailure, type LoadReply, type LoadRequest } from './protocol';
 
-const PROXY_ABOVE = 300_000;
 // Drawn while the camera moves. At 40,000 triangles a moving frame of the bench part took 76 ms with every overlay off (13 fps, software WebGL on a loaded 2-core machine).
 const PROXY_TARGET = 40_000;
 
@@ -29,50 +28,19 @@ function isAllocationFailure(e: unknown): boolean {
 	return e instanceof RangeError && /alloc|array buffer|invalid array length|invalid typed array length/i.test(e.message);
 }
 
-async function fetchBytes(url: string): Promise<Uint8Array> {
-	const res = await fetch(url, { credentials: 'same-origin' });
-	if (!res.ok) throw new Error(`the server answered ${res.status} ${res.statusText} for the mesh file`);
-	const header = res.headers.get('content-length');
-	const total = header && !res.headers.get('content-encoding') ? Number(header) : null;
-	if (!res.body) return new Uint8Array(await res.arrayBuffer());
-	const reader = res.body.getReader();
-	let buf = total ? new Uint8Array(total) : new Uint8Array(1 << 20);
-	let loaded = 0, lastPost = 0;
-	for (;;) {
-		const { done, value } = await reader.read();
-		if (done) break;
-		if (loaded + value.length > buf.length) {
-			const grown = new Uint8Array(Math.max(2 * buf.length, loaded + value.length));
-			grown.set(buf.subarray(0, loaded));
-			buf = grown;
-		}
-		buf.set(value, loaded);
-		loaded += value.length;
-		const now = performance.now();
-		if (now - lastPost > 50) {
-			post({ type: 'progress', loaded, total });
-			lastPost = now;
-		}
-	}
-	post({ type: 'progress', loaded, total: total ?? loaded });
-	return buf.subarray(0, loaded);
-}
-
 async function load(req: LoadRequest): Promise<void> {
 	const t0 = performance.now();
 	let bytes: Uint8Array;
-	try {
-		bytes = await fetchBytes(req.url);
-	} catch (e) {
-		return fail('fetch', `Could not download the mesh: ${(e as Error).message}.`);
+	if (req.bytes) bytes = req.bytes;
+	else {
+		try {
+			bytes = await fetchBytes(req.url, (loaded, total) => post({ type: 'progress', loaded, total }));
+		} catch (e) {
+			return fail('fetch', `Could not download the mesh: ${(e as Error).message}.`);
+		}
 	}
-	const fetchMs = performance.now() - t0;
+	const fetchMs = req.fetchMs ?? performance.now() - t0;
 	post({ type: 'parsing' });
-	if (req.overlays !== false) {
-		const t = performance.now();
-		const preview = previewTriangles(bytes, req.fileName, req.maxFaces);
-		if (preview && preview.length / 9 > PROXY_ABOVE) post({ type: 'preview', positions: preview, ms: performance.now() - t }, [preview.buffer]);
-	}
 	const t1 = performance.now();
 	let parsed;
 	try {
@@ -146,24 +114,6 @@ function buildBvh(positions: Float32Array, indices: Uint32Array): { data: BvhDat
 
 function bvhTransferables(b: BvhData): Transferable[] {
 	return b.indirectBuffer ? [...b.roots, b.indirectBuffer.buffer] : [...b.roots];
-}
-
-/**
- * Binary STL straight from the bytes, one unwelded triangle after another (9 floats each), for the
- * first frame while the reader welds the corners: tens of milliseconds for a million triangles.
- * Null for anything else (ASCII STL, PLY, OBJ), which waits for the reader.
- */
-function previewTriangles(bytes: Uint8Array, fileName: string, maxFaces: number): Float32Array | null {
-	if (!/\.stl$/i.test(fileName) || !isBinaryStlSize(bytes)) return null;
-	const dv = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-	const n = dv.getUint32(80, true);
-	if (n === 0 || n > maxFaces) return null;
-	const out = new Float32Array(9 * n);
-	for (let t = 0, o = 84 + 12; t < n; t++, o += 50) {
-		for (let k = 0; k < 9; k++) out[9 * t + k] = dv.getFloat32(o + 4 * k, true);
-	}
-	for (let i = 0; i < out.length; i++) if (!Number.isFinite(out[i])) return null;
-	return out;
 }
 
 self.onmessage = (ev: MessageEvent<LoadRequest>) => {

@@ -5,6 +5,8 @@ import type { OverlayDraw } from './overlay-draw';
 
 /** Largest mesh the browser view loads; the report still shows above this. */
 export const VIEWER_MAX_FACES = 6_000_000;
+/** Meshes above this many triangles are drawn first from the file's own triangles, get a stand-in for orbiting and their picking tree last. */
+export const PROXY_ABOVE = 300_000;
 
 export interface LoadRequest {
 	type: 'load';
@@ -17,6 +19,9 @@ export interface LoadRequest {
 	maxFaces: number;
 	/** false: mesh only (a compare revision needs no overlays). Default true. */
 	overlays?: boolean;
+	/** The file's bytes when the page fetched them (then url is not fetched again), and how long that took. */
+	bytes?: Uint8Array;
+	fetchMs?: number;
 }
 
 export type LoadFailure = 'fetch' | 'read' | 'too-large' | 'memory';
@@ -32,8 +37,6 @@ export interface BvhData {
 export type LoadReply =
 	| { type: 'progress'; loaded: number; total: number | null }
 	| { type: 'parsing' }
-	/** Large binary STL only: the triangles as they are in the file (9 floats each, unwelded), drawn until the welded mesh arrives. */
-	| { type: 'preview'; positions: Float32Array; ms: number }
 	| {
 			type: 'mesh';
 			positions: Float32Array;

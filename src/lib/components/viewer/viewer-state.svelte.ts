@@ -8,9 +8,10 @@ import type { InspectionReport } from '$lib/mesh/report';
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import { KIND_ORDER, type OverlayKind } from './palette';
 import type { OverlayDraw } from './overlay-draw';
-import type { CellFieldReply, CellFieldRequest, DeviationReply, DeviationRequest, LoadReply, LoadRequest } from './protocol';
+import { PROXY_ABOVE, type CellFieldReply, type CellFieldRequest, type DeviationReply, type DeviationRequest, type LoadReply, type LoadRequest } from './protocol';
 import type { CompareMode, PickResult, SectionAxis, ViewerScene } from './scene';
 import { runWorker } from './worker-task';
+import { fetchBytes, previewTriangles } from './fetch-mesh';
 
 export type ViewerStatus = 'loading' | 'parsing' | 'ready' | 'error';
 export type OverlayState = 'pending' | 'ready' | 'failed';
@@ -63,7 +64,11 @@ export class ViewerState {
 		return this.progress.total ? Math.min(1, this.progress.loaded / this.progress.total) : null;
 	}
 
-	/** Fetches, parses and draws the mesh, then its overlays. */
+	/**
+	 * Fetches, parses and draws the mesh, then its overlays. The page fetches the bytes itself while
+	 * the parse worker's module loads, draws a large binary STL from its own triangles at once and
+	 * hands the bytes over (transferred) for the reader.
+	 */
 	loadMesh(s: ViewerScene, req: LoadRequest): () => void {
 		this.status = 'loading';
 		this.progress = { loaded: 0, total: null };
@@ -73,17 +78,38 @@ export class ViewerState {
 		this.errorMessage = '';
 		const started = performance.now();
 		this.timings = { requestedAt: started };
-		return runWorker<LoadRequest, LoadReply>(
+		let stopped = false;
+		const request = fetchBytes(req.url, (loaded, total) => {
+			if (!stopped) this.progress = { loaded, total };
+		}).then(
+			(bytes) => {
+				const fetchMs = performance.now() - started;
+				if (stopped) return null;
+				this.status = 'parsing';
+				const t = performance.now();
+				const preview = previewTriangles(bytes, req.fileName, PROXY_ABOVE + 1, req.maxFaces);
+				if (preview) {
+					s.setPreview(preview);
+					this.timings = { ...this.timings, previewMs: performance.now() - t, previewAt: performance.now() };
+				}
+				return { request: { ...req, bytes, fetchMs }, transfer: [bytes.buffer as ArrayBuffer] };
+			},
+			(e: Error) => {
+				if (stopped) return null;
+				this.status = 'error';
+				this.errorMessage = `Could not download the mesh: ${e.message}.`;
+				this.overlayState = 'failed';
+				return null;
+			}
+		);
+		const stop = runWorker<LoadRequest, LoadReply>(
 			parseWorker,
-			req,
+			request,
 			[],
 			(m, done) => {
 				if (m.type === 'progress') this.progress = { loaded: m.loaded, total: m.total };
 				else if (m.type === 'parsing') this.status = 'parsing';
-				else if (m.type === 'preview') {
-					s.setPreview(m.positions);
-					this.timings = { ...this.timings, previewMs: m.ms, previewAt: performance.now() };
-				} else if (m.type === 'mesh') {
+				else if (m.type === 'mesh') {
 					const tMesh = performance.now();
 					s.setMesh(m.positions, m.indices, m.bvh);
 					this.triCount = m.indices.length / 3;
@@ -119,6 +145,10 @@ export class ViewerState {
 				this.overlayState = 'failed';
 			}
 		);
+		return () => {
+			stopped = true;
+			stop();
+		};
 	}
 
 	/** A report that arrives after the mesh (or is replaced) brings its own self-intersection sample. */

@@ -84,7 +84,8 @@ export class ViewerState {
 		}).then(
 			(bytes) => {
 				const fetchMs = performance.now() - started;
-				if (stopped) return null;
+				// Stopped, or the worker already failed (it may crash while its module loads).
+				if (stopped || this.overlayState === 'failed') return null;
 				this.status = 'parsing';
 				const t = performance.now();
 				const preview = previewTriangles(bytes, req.fileName, PROXY_ABOVE + 1, req.maxFaces);

@@ -14,12 +14,21 @@ describe('buildFindings', () => {
 		const holes = groups.find((g) => g.kind === 'holes')!;
 		expect(holes.count).toBe(report.boundaryLoops);
 		expect(holes.items).toHaveLength(2);
-		// Faces 0 (z = 0) and 2 (z = 1) removed: each hole is a right triangle with legs 1, perimeter 2 + √2 ≈ 3.41 (analytic), lying on a bbox plane.
+		// Faces 0 (z = 0) and 2 (z = 1) removed: each hole is a right triangle with legs 1, perimeter 2 + √2 ≈ 3.414 (analytic; 4 significant digits, format.ts), lying on a bbox plane.
 		expect(holes.items[0].label).toBe('hole 1, 3.414 mm around, flat on z-min');
 		expect('segments' in holes.items[0].target && holes.items[0].target.segments?.length).toBe(18);
 		const si = groups.find((g) => g.kind === 'selfIntersections')!;
 		expect(si.count).toBeNull();
 		expect(si.note).toBe('not checked');
+	});
+
+	it('writes lengths and points with the project formatter, in the unit that reads plainly', () => {
+		// A cube of 1 µm in a metre project: the hole's perimeter (2 + √2) µm (analytic) moves to the first
+		// prefixed unit where it reads plainly (format.ts), not 3.41e-6 m.
+		const mesh = withoutFaces(unitCube(), [0]);
+		const tiny = { ...mesh, positions: Float64Array.from(mesh.positions, (x) => x * 1e-6) };
+		const groups = buildFindings(null, computeOverlays(tiny, null), 'm', Math.sqrt(3) * 1e-6);
+		expect(groups.find((g) => g.kind === 'holes')!.items[0].label).toBe('hole 1, 0.003414 mm around');
 	});
 
 	it('marks counts as the viewer\'s own when there is no report', () => {

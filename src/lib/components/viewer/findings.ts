@@ -2,7 +2,7 @@
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import { loopForHole } from '$lib/mesh/overlays';
 import type { InspectionReport } from '$lib/mesh/report';
-import { fmtMeasure } from '$lib/format';
+import { fmtMeasure, fmtPoint } from '$lib/format';
 import { KIND_ORDER, KIND_STYLE, type OverlayKind } from './palette';
 
 /** Where a finding sits: a point, a radius to frame, and what to highlight. */
@@ -34,9 +34,12 @@ export interface FindingGroup {
 
 export const SUB_ITEMS_LISTED = 50;
 
-/** Lengths in the viewer through the app's one formatter (units always; SI prefixes at the extremes). */
-export function fmtLength(x: number, units: string): string {
-	return Number.isFinite(x) ? fmtMeasure(x, units, 1) : '–';
+/**
+ * A length as the project writes lengths everywhere (format.ts: 4 significant digits, always a unit,
+ * round-off below what float32 resolves at the part's size written 0); scale is the part's size.
+ */
+export function fmtLength(x: number, units: string, scale?: number | null): string {
+	return fmtMeasure(x, units, 1, { scale });
 }
 
 function segTarget(seg: Float32Array, s: number): FindingTarget {
@@ -54,7 +57,9 @@ function segLength(seg: Float32Array, s: number): number {
 	return Math.hypot(seg[o + 3] - seg[o], seg[o + 4] - seg[o + 1], seg[o + 5] - seg[o + 2]);
 }
 
-export function buildFindings(report: InspectionReport | null, o: MeshOverlays | null, units: string): FindingGroup[] {
+/** scale: the part's size (bounding-box diagonal) in units, for the round-off rule of the lengths. */
+export function buildFindings(report: InspectionReport | null, o: MeshOverlays | null, units: string, scale?: number | null): FindingGroup[] {
+	const len = (x: number) => fmtLength(x, units, scale);
 	const groups: FindingGroup[] = [];
 	const viewerNote = report ? null : 'viewer';
 	for (const kind of KIND_ORDER) {
@@ -74,13 +79,13 @@ export function buildFindings(report: InspectionReport | null, o: MeshOverlays |
 							if (l >= 0) segments = o.holeSegments.subarray(6 * o.holes[l].segStart, 6 * (o.holes[l].segStart + o.holes[l].edgeCount));
 						}
 						const plane = h.onBboxPlane ? `, flat on ${h.onBboxPlane}` : '';
-						items.push({ key: `holes:${i}`, label: `hole ${i + 1}, ${fmtLength(h.perimeter, units)} around${plane}`, target: { center: h.centroid, radius: Math.max(d / 2, 1e-9), segments } });
+						items.push({ key: `holes:${i}`, label: `hole ${i + 1}, ${len(h.perimeter)} around${plane}`, target: { center: h.centroid, radius: Math.max(d / 2, 1e-9), segments } });
 					});
 					total = report.boundaryLoops;
 				} else if (o) {
 					o.holes.forEach((h, i) => {
 						const segments = o.holeSegments.subarray(6 * h.segStart, 6 * (h.segStart + h.edgeCount));
-						items.push({ key: `holes:${i}`, label: `hole ${i + 1}, ${fmtLength(h.perimeter, units)} around`, target: { center: h.centroid, radius: h.perimeter / Math.PI / 2, segments } });
+						items.push({ key: `holes:${i}`, label: `hole ${i + 1}, ${len(h.perimeter)} around`, target: { center: h.centroid, radius: h.perimeter / Math.PI / 2, segments } });
 					});
 					total = o.holes.length;
 				}
@@ -91,7 +96,7 @@ export function buildFindings(report: InspectionReport | null, o: MeshOverlays |
 				if (o) {
 					const n = o.nonManifoldEdgeSegments.length / 6;
 					for (let s = 0; s < n && s < SUB_ITEMS_LISTED; s++) {
-						items.push({ key: `nme:${s}`, label: `edge ${s + 1}, ${fmtLength(segLength(o.nonManifoldEdgeSegments, s), units)} long`, target: segTarget(o.nonManifoldEdgeSegments, s) });
+						items.push({ key: `nme:${s}`, label: `edge ${s + 1}, ${len(segLength(o.nonManifoldEdgeSegments, s))} long`, target: segTarget(o.nonManifoldEdgeSegments, s) });
 					}
 					total = o.nonManifoldEdgeCount;
 				}
@@ -103,7 +108,7 @@ export function buildFindings(report: InspectionReport | null, o: MeshOverlays |
 					const pts = o.nonManifoldVertexPoints;
 					for (let i = 0; i < pts.length / 3 && i < SUB_ITEMS_LISTED; i++) {
 						const c: [number, number, number] = [pts[3 * i], pts[3 * i + 1], pts[3 * i + 2]];
-						items.push({ key: `nmv:${i}`, label: `vertex ${i + 1} at (${c.map((x) => x.toPrecision(4)).join(', ')})`, target: { center: c, radius: 0 } });
+						items.push({ key: `nmv:${i}`, label: `vertex ${i + 1} at ${fmtPoint(c, units, { scale })}`, target: { center: c, radius: 0 } });
 					}
 					total = o.nonManifoldVertexCount;
 				}
@@ -127,11 +132,11 @@ export function buildFindings(report: InspectionReport | null, o: MeshOverlays |
 			}
 			case 'shortEdges': {
 				count = report ? report.shortEdges : (o?.shortEdgeCount ?? null);
-				if (report && report.tolerances.minEdgeLength > 0) note = `under ${fmtLength(report.tolerances.minEdgeLength, units)}`;
+				if (report && report.tolerances.minEdgeLength > 0) note = `under ${len(report.tolerances.minEdgeLength)}`;
 				if (o) {
 					const n = o.shortEdgeSegments.length / 6;
 					for (let s = 0; s < n && s < SUB_ITEMS_LISTED; s++) {
-						items.push({ key: `se:${s}`, label: `edge ${s + 1}, ${fmtLength(segLength(o.shortEdgeSegments, s), units)}`, target: segTarget(o.shortEdgeSegments, s) });
+						items.push({ key: `se:${s}`, label: `edge ${s + 1}, ${len(segLength(o.shortEdgeSegments, s))}`, target: segTarget(o.shortEdgeSegments, s) });
 					}
 					total = o.shortEdgeCount;
 				}
@@ -200,7 +205,7 @@ export interface CellFindingGroup {
  * faces under the threshold, largest first, as the report lists them. Empty when the check ran
  * without a cell size.
  */
-export function buildCellFindings(report: InspectionReport | null, units: string): CellFindingGroup[] {
+export function buildCellFindings(report: InspectionReport | null, units: string, scale?: number | null): CellFindingGroup[] {
 	const c = report?.cellSizeChecks;
 	if (!c) return [];
 	const cellsText = (x: number) => `${x.toLocaleString('en-US', { maximumSignificantDigits: 2 })} cells`;
@@ -215,7 +220,7 @@ export function buildCellFindings(report: InspectionReport | null, units: string
 			const seg = Float32Array.of(...worst.from, ...worst.to);
 			items.push({
 				key: `${which}:min`,
-				label: `${which === 'wall' ? 'thinnest wall' : 'narrowest gap'}: ${fmtMeasure(worst.value, units, 1)} (${cellsText(worst.cells)}), faces ${worst.face} and ${worst.otherFace}`,
+				label: `${which === 'wall' ? 'thinnest wall' : 'narrowest gap'}: ${fmtMeasure(worst.value, units, 1, { scale })} (${cellsText(worst.cells)}), faces ${worst.face} and ${worst.otherFace}`,
 				target: {
 					center: [0.5 * (worst.from[0] + worst.to[0]), 0.5 * (worst.from[1] + worst.to[1]), 0.5 * (worst.from[2] + worst.to[2])],
 					radius: Math.max(worst.value, 3 * c.cellSize),
@@ -227,7 +232,7 @@ export function buildCellFindings(report: InspectionReport | null, units: string
 		regions.forEach((g, i) => {
 			items.push({
 				key: `${which}:region:${i}`,
-				label: `${noun} region ${i + 1}: ${fmtMeasure(g.min, units, 1)} (${cellsText(g.minCells)}) at least, ${g.faces.toLocaleString('en')} faces, ${fmtMeasure(g.area, units, 2)}`,
+				label: `${noun} region ${i + 1}: ${fmtMeasure(g.min, units, 1, { scale })} (${cellsText(g.minCells)}) at least, ${g.faces.toLocaleString('en')} faces, ${fmtMeasure(g.area, units, 2, { scale })}`,
 				// The region's size from its area: a disc of that area, at least a few cells across.
 				target: { center: [g.centroid[0], g.centroid[1], g.centroid[2]], radius: Math.max(Math.sqrt(g.area / Math.PI), 2 * c.cellSize), faces: Uint32Array.of(g.minFace) }
 			});

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { boxSegments, buildOverlayDraw, drawTransferables, faceCentres, faceIndex, MARKER_CAP, midpoints } from './overlay-draw';
+import { boxSegments, buildOverlayDraw, drawTransferables, faceCentres, faceIndex, MARKER_CAP, midpoints, lineQuads } from './overlay-draw';
 import { computeOverlays } from '../../mesh/overlays';
 import { unitCube, withoutFaces } from '../../mesh/testing/test-meshes';
 
@@ -39,5 +39,33 @@ describe('overlay draw buffers', () => {
 		expect(d.sampled).toEqual({});
 		const list = drawTransferables(d);
 		expect(new Set(list).size).toBe(list.length);
+	});
+});
+
+describe('lineQuads', () => {
+	// The vertex shader's corner rule (layers/thick-lines.ts) done by hand in the screen plane:
+	// half the width across the segment times the side, and half the width back past the corner's own end.
+	const corner = (q: ReturnType<typeof lineQuads>, v: number, w: number): [number, number] => {
+		const [x, y] = [q.position[3 * v], q.position[3 * v + 1]];
+		let dx = q.other[3 * v] - x, dy = q.other[3 * v + 1] - y;
+		const l = Math.hypot(dx, dy) || 1;
+		dx /= l;
+		dy /= l;
+		return [x + (-dy * q.side[v] - dx) * 0.5 * w, y + (dx * q.side[v] - dy) * 0.5 * w];
+	};
+	const area = (a: number[], b: number[], c: number[]) => 0.5 * ((b[0] - a[0]) * (c[1] - a[1]) - (c[0] - a[0]) * (b[1] - a[1]));
+
+	it('makes two triangles a segment that tile its (length + width) × width rectangle without overlap', () => {
+		const q = lineQuads(Float32Array.of(0, 0, 0, 10, 0, 0, 10, 0, 0, 10, 5, 0));
+		expect(q.position).toHaveLength(24);
+		expect(q.index).toEqual(Uint32Array.of(0, 1, 2, 0, 2, 3, 4, 5, 6, 4, 6, 7));
+		// Dashes run on along the segments: 0 → 10 on the first, 10 → 15 on the second.
+		expect([...q.distance]).toEqual([0, 0, 10, 10, 10, 10, 15, 15]);
+		for (const [s, len] of [[0, 10], [1, 5]]) {
+			const c = [0, 1, 2, 3].map((k) => corner(q, 4 * s + k, 2));
+			const a1 = area(c[0], c[1], c[2]), a2 = area(c[0], c[2], c[3]);
+			expect(Math.sign(a1)).toBe(Math.sign(a2));
+			expect(Math.abs(a1) + Math.abs(a2)).toBeCloseTo((len + 2) * 2, 9);
+		}
 	});
 });

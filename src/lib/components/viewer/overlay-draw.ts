@@ -12,7 +12,7 @@ export const MARKER_CAP = 20_000;
 export const THICK_SEGMENT_CAP = 20_000;
 /** Most segments (thick) and markers a kind draws while the camera moves; an even sample stands in. */
 export const MOVING_SEGMENT_CAP = 5_000;
-export const MOVING_MARKER_CAP = 2_000;
+export const MOVING_MARKER_CAP = 1_000;
 
 export interface OverlayDraw {
 	holeCentres: Float32Array;
@@ -155,4 +155,45 @@ export function buildOverlayDraw(o: MeshOverlays, positions: ArrayLike<number>, 
 
 export function drawTransferables(d: OverlayDraw): ArrayBuffer[] {
 	return [d.holeCentres, d.nonManifoldEdgeMidpoints, d.shortEdgeMidpoints, d.degenerateCentres, d.selfIntersectionIndex, d.flippedIndex, d.floatingIndex, d.floatingBoxSegments, d.floatingCentres, d.holeSegmentsMoving, d.nonManifoldEdgeSegmentsMoving, d.shortEdgeSegmentsMoving, d.nonManifoldEdgeSegmentsThick, d.shortEdgeSegmentsThick, d.nonManifoldEdgeMidpointsMoving, d.shortEdgeMidpointsMoving, d.degenerateCentresMoving].map((a) => a.buffer as ArrayBuffer);
+}
+
+/**
+ * Screen-space thick lines as one plain triangle geometry (no instancing: software WebGL pays about
+ * 25 µs per instance, so 5,000 instanced segments took 122 ms a frame). Four corners a segment, each
+ * with its own end (position), the other end, a side (−1, +1) and the distance along the segments
+ * for dashes; two triangles a segment in index. The vertex shader (layers/thick-lines.ts) pushes
+ * each corner out by half the width across the segment and back past its own end, so even a
+ * segment shorter than a pixel shows as a dot of the line's width.
+ */
+export interface LineQuads {
+	position: Float32Array;
+	other: Float32Array;
+	side: Float32Array;
+	distance: Float32Array;
+	index: Uint32Array;
+}
+
+export function lineQuads(segments: Float32Array): LineQuads {
+	const n = (segments.length / 6) | 0;
+	const position = new Float32Array(12 * n), other = new Float32Array(12 * n);
+	const side = new Float32Array(4 * n), distance = new Float32Array(4 * n), index = new Uint32Array(6 * n);
+	let along = 0;
+	for (let s = 0; s < n; s++) {
+		const o = 6 * s, v = 4 * s;
+		const len = Math.hypot(segments[o + 3] - segments[o], segments[o + 4] - segments[o + 1], segments[o + 5] - segments[o + 2]);
+		// Corners 0, 1 at the start, 2, 3 at the end, each pair on sides −1, +1: seen from the end,
+		// "across" turns round, so this order goes once round the quad.
+		for (let c = 0; c < 4; c++) {
+			const atEnd = c >= 2;
+			for (let a = 0; a < 3; a++) {
+				position[3 * (v + c) + a] = segments[o + (atEnd ? 3 : 0) + a];
+				other[3 * (v + c) + a] = segments[o + (atEnd ? 0 : 3) + a];
+			}
+			side[v + c] = c % 2 === 0 ? -1 : 1;
+			distance[v + c] = atEnd ? along + len : along;
+		}
+		along += len;
+		index.set([v, v + 1, v + 2, v, v + 2, v + 3], 6 * s);
+	}
+	return { position, other, side, distance, index };
 }

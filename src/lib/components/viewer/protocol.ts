@@ -5,6 +5,8 @@ import type { OverlayDraw } from './overlay-draw';
 
 /** Largest mesh the browser view loads; the report still shows above this. */
 export const VIEWER_MAX_FACES = 6_000_000;
+/** Meshes above this many triangles are drawn first from the file's own triangles, get a stand-in for orbiting and their picking tree last. */
+export const PROXY_ABOVE = 300_000;
 
 export interface LoadRequest {
 	type: 'load';
@@ -17,6 +19,9 @@ export interface LoadRequest {
 	maxFaces: number;
 	/** false: mesh only (a compare revision needs no overlays). Default true. */
 	overlays?: boolean;
+	/** The file's bytes when the page fetched them (then url is not fetched again), and how long that took. */
+	bytes?: Uint8Array;
+	fetchMs?: number;
 }
 
 export type LoadFailure = 'fetch' | 'read' | 'too-large' | 'memory';
@@ -36,16 +41,17 @@ export type LoadReply =
 			type: 'mesh';
 			positions: Float32Array;
 			indices: Uint32Array;
-			bvh: BvhData;
-			/** Coarse stand-in drawn while the camera moves (large meshes only). */
-			proxy: { positions: Float32Array; indices: Uint32Array } | null;
+			/** Small meshes: the picking tree comes with the mesh; large ones get it in a 'bvh' message after the overlays. */
+			bvh: BvhData | null;
 			fetchMs: number;
-			proxyMs: number;
 			parseMs: number;
 			bvhMs: number;
 			bytes: number;
 	  }
+	/** Coarse stand-in drawn while the camera moves (large meshes only). */
+	| { type: 'proxy'; positions: Float32Array; indices: Uint32Array; ms: number }
 	| { type: 'overlays'; overlays: MeshOverlays; draw: OverlayDraw; ms: number; drawMs: number }
+	| { type: 'bvh'; bvh: BvhData; ms: number }
 	| { type: 'error'; kind: LoadFailure; message: string };
 
 export interface DeviationRequest {

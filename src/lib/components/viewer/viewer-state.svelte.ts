@@ -8,9 +8,10 @@ import type { InspectionReport } from '$lib/mesh/report';
 import type { MeshOverlays } from '$lib/mesh/overlays';
 import { KIND_ORDER, type OverlayKind } from './palette';
 import type { OverlayDraw } from './overlay-draw';
-import type { CellFieldReply, CellFieldRequest, DeviationReply, DeviationRequest, LoadReply, LoadRequest } from './protocol';
+import { PROXY_ABOVE, type CellFieldReply, type CellFieldRequest, type DeviationReply, type DeviationRequest, type LoadReply, type LoadRequest } from './protocol';
 import type { CompareMode, PickResult, SectionAxis, ViewerScene } from './scene';
 import { runWorker } from './worker-task';
+import { fetchBytes, previewTriangles } from './fetch-mesh';
 
 export type ViewerStatus = 'loading' | 'parsing' | 'ready' | 'error';
 export type OverlayState = 'pending' | 'ready' | 'failed';
@@ -63,7 +64,11 @@ export class ViewerState {
 		return this.progress.total ? Math.min(1, this.progress.loaded / this.progress.total) : null;
 	}
 
-	/** Fetches, parses and draws the mesh, then its overlays. */
+	/**
+	 * Fetches, parses and draws the mesh, then its overlays. The page fetches the bytes itself while
+	 * the parse worker's module loads, draws a large binary STL from its own triangles at once and
+	 * hands the bytes over (transferred) for the reader.
+	 */
 	loadMesh(s: ViewerScene, req: LoadRequest): () => void {
 		this.status = 'loading';
 		this.progress = { loaded: 0, total: null };
@@ -72,19 +77,52 @@ export class ViewerState {
 		this.overlayState = 'pending';
 		this.errorMessage = '';
 		const started = performance.now();
-		return runWorker<LoadRequest, LoadReply>(
+		this.timings = { requestedAt: started };
+		let stopped = false;
+		const request = fetchBytes(req.url, (loaded, total) => {
+			if (!stopped) this.progress = { loaded, total };
+		}).then(
+			(bytes) => {
+				const fetchMs = performance.now() - started;
+				// Stopped, or the worker already failed (it may crash while its module loads).
+				if (stopped || this.overlayState === 'failed') return null;
+				this.status = 'parsing';
+				const t = performance.now();
+				const preview = previewTriangles(bytes, req.fileName, PROXY_ABOVE + 1, req.maxFaces);
+				if (preview) {
+					s.setPreview(preview);
+					this.timings = { ...this.timings, previewMs: performance.now() - t, previewAt: performance.now() };
+				}
+				return { request: { ...req, bytes, fetchMs }, transfer: [bytes.buffer as ArrayBuffer] };
+			},
+			(e: Error) => {
+				if (stopped) return null;
+				this.status = 'error';
+				this.errorMessage = `Could not download the mesh: ${e.message}.`;
+				this.overlayState = 'failed';
+				return null;
+			}
+		);
+		const stop = runWorker<LoadRequest, LoadReply>(
 			parseWorker,
-			req,
+			request,
 			[],
 			(m, done) => {
 				if (m.type === 'progress') this.progress = { loaded: m.loaded, total: m.total };
 				else if (m.type === 'parsing') this.status = 'parsing';
 				else if (m.type === 'mesh') {
 					const tMesh = performance.now();
-					s.setMesh(m.positions, m.indices, m.bvh, m.proxy);
+					s.setMesh(m.positions, m.indices, m.bvh);
 					this.triCount = m.indices.length / 3;
-					this.timings = { fetchMs: m.fetchMs, parseMs: m.parseMs, bvhMs: m.bvhMs, proxyMs: m.proxyMs, proxyTriangles: m.proxy ? m.proxy.indices.length / 3 : 0, bytes: m.bytes, toDrawnMs: performance.now() - started, meshAt: tMesh, setMeshMs: performance.now() - tMesh };
+					this.timings = { ...this.timings, fetchMs: m.fetchMs, parseMs: m.parseMs, bvhMs: m.bvhMs, bytes: m.bytes, toDrawnMs: performance.now() - started, meshAt: tMesh, setMeshMs: performance.now() - tMesh };
 					this.status = 'ready';
+				} else if (m.type === 'proxy') {
+					s.setProxy(m.positions, m.indices);
+					this.timings = { ...this.timings, proxyMs: m.ms, proxyTriangles: m.indices.length / 3 };
+				} else if (m.type === 'bvh') {
+					s.setBvh(m.bvh);
+					this.timings = { ...this.timings, bvhMs: m.ms, bvhAt: performance.now() };
+					done();
 				} else if (m.type === 'overlays') {
 					const tOv = performance.now();
 					this.overlays = m.overlays;
@@ -93,7 +131,8 @@ export class ViewerState {
 					this.sampled = { ...s.sampled };
 					this.timings = { ...this.timings, overlaysMs: m.ms, overlayDrawMs: m.drawMs, overlaysAt: tOv, setOverlaysMs: performance.now() - tOv };
 					this.overlayState = 'ready';
-					done();
+					// A large mesh's picking tree comes last; a small one's came with the mesh.
+					if (s.pickReady) done();
 				} else if (m.type === 'error') {
 					if (this.status !== 'ready') this.status = 'error';
 					this.errorMessage = m.message;
@@ -107,6 +146,10 @@ export class ViewerState {
 				this.overlayState = 'failed';
 			}
 		);
+		return () => {
+			stopped = true;
+			stop();
+		};
 	}
 
 	/** A report that arrives after the mesh (or is replaced) brings its own self-intersection sample. */

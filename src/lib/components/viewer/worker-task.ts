@@ -5,7 +5,8 @@
  */
 export function runWorker<Request, Reply>(
 	make: () => Worker,
-	request: Request,
+	/** The request, or a promise of it with its transfer list (the worker starts at once, the request follows). */
+	request: Request | Promise<{ request: Request; transfer: Transferable[] } | null>,
 	transfer: Transferable[],
 	onReply: (reply: Reply, done: () => void) => void,
 	onCrash: (message: string) => void
@@ -25,6 +26,13 @@ export function runWorker<Request, Reply>(
 		onCrash(e.message || 'unknown error');
 		done();
 	};
-	worker.postMessage(request, transfer);
+	if (request instanceof Promise) {
+		// The worker's module loads meanwhile; null: nothing to ask (the caller already reported why).
+		request.then((r) => {
+			if (ended) return;
+			if (r) worker.postMessage(r.request, r.transfer);
+			else done();
+		});
+	} else worker.postMessage(request, transfer);
 	return done;
 }

@@ -1,0 +1,376 @@
+/**
+ * The part itself: the mesh (first the file's own triangles of a large binary STL, then the welded
+ * mesh in their place), its coarse stand-in drawn while the camera moves, wireframe, the colourings
+ * (plain, by shell, deviation, wall or gap in cells; per vertex) and picking through the
+ * three-mesh-bvh tree. Face subsets for the overlays share its position buffer.
+ */
+import {
+	Box3,
+	BufferAttribute,
+	BufferGeometry,
+	DoubleSide,
+	Float32BufferAttribute,
+	Group,
+	Mesh,
+	MeshBasicMaterial,
+	MeshLambertMaterial,
+	Plane,
+	Raycaster,
+	Sphere,
+	Triangle,
+	Vector2,
+	Vector3,
+	type Camera,
+	type Material
+} from 'three';
+import { acceleratedRaycast, computeBoundsTree, disposeBoundsTree, MeshBVH } from 'three-mesh-bvh';
+import type { BvhData } from '../protocol';
+import { faceIndex } from '../overlay-draw';
+import { hexRgb, MESH_COLOUR, rampColour, SHELL_COLOURS } from '../palette';
+
+BufferGeometry.prototype.computeBoundsTree = computeBoundsTree;
+BufferGeometry.prototype.disposeBoundsTree = disposeBoundsTree;
+
+/** wall, gap: thickness or gap width in target cells (setCellField). */
+export type ColourMode = 'plain' | 'shells' | 'deviation' | 'wall' | 'gap';
+
+export interface MeshHit {
+	point: [number, number, number];
+	face: number;
+	shell: number;
+	/** Deviation at the point (interpolated from the face's vertices) while the deviation colouring is shown. */
+	deviation?: number;
+	/** Wall thickness or gap width at the point, in cells, while that colouring is shown. */
+	cells?: number;
+}
+
+const BACK_COLOUR_SCALE = 'vec3(0.62, 0.5, 0.42)';
+
+export function meshMaterial(colour = MESH_COLOUR): MeshLambertMaterial {
+	const mat = new MeshLambertMaterial({ color: colour, flatShading: true, side: DoubleSide, polygonOffset: true, polygonOffsetFactor: 1, polygonOffsetUnits: 1 });
+	mat.onBeforeCompile = (shader) => {
+		// Back faces (seen through holes, cuts or flipped faces) in a warm dark tone.
+		shader.fragmentShader = shader.fragmentShader.replace('#include <opaque_fragment>', `if (!gl_FrontFacing) outgoingLight *= ${BACK_COLOUR_SCALE};\n#include <opaque_fragment>`);
+	};
+	return mat;
+}
+
+export class MeshLayer {
+	readonly group = new Group();
+	/** When the mesh's shaders were ready and its first frame asked for (performance.now). */
+	shownAt = 0;
+	private mesh: Mesh | null = null;
+	private proxy: Mesh | null = null;
+	private wire: Mesh | null = null;
+	private triCount = 0;
+	private faceShell: Int32Array | null = null;
+	private colourMode: ColourMode = 'plain';
+	private deviation: { distances: Float32Array; max: number } | null = null;
+	/** Per-vertex wall and gap in cells, and the top of the colour scale (cells). */
+	private cellField: { wall: Float32Array; gap: Float32Array; scaleCells: number } | null = null;
+	private shellColours: Float32Array | null = null;
+	private raycaster = new Raycaster();
+
+	/**
+	 * compile: the renderer's compileAsync for an object (a synchronous link on software WebGL holds
+	 * the page for seconds). onShown: the mesh can be drawn. onBounds: a new mesh's extent.
+	 */
+	constructor(
+		private compile: (obj: Mesh) => Promise<unknown>,
+		private onShown: () => void,
+		private onBounds: (box: Box3, sphere: Sphere) => void
+	) {}
+
+	get triangles(): number {
+		return this.triCount;
+	}
+
+	get pickReady(): boolean {
+		return !!this.mesh?.geometry.boundsTree;
+	}
+
+	/** Whether the mesh can be drawn (its shaders are ready). */
+	get visible(): boolean {
+		return !!this.mesh?.visible;
+	}
+
+	/** A large binary STL's triangles as the file holds them (unwelded, 9 floats each), drawn until setMesh brings the welded mesh. */
+	setPreview(positions: Float32Array): void {
+		this.clear();
+		const geom = new BufferGeometry();
+		geom.setAttribute('position', new BufferAttribute(positions, 3));
+		this.show(geom, positions.length / 9);
+	}
+
+	/** The welded mesh; it takes the preview's place without a new shader or a new camera. bvh null: picking waits for setBvh. */
+	setMesh(positions: Float32Array, indices: Uint32Array, bvh: BvhData | null): void {
+		const geom = new BufferGeometry();
+		geom.setAttribute('position', new BufferAttribute(positions, 3));
+		geom.setIndex(new BufferAttribute(indices, 1));
+		if (this.mesh && !this.mesh.geometry.getIndex()) {
+			const old = this.mesh.geometry;
+			geom.boundingBox = old.boundingBox;
+			geom.boundingSphere = old.boundingSphere;
+			this.mesh.geometry = geom;
+			if (this.wire) this.wire.geometry = geom;
+			old.dispose();
+			this.triCount = indices.length / 3;
+			this.shellColours = null;
+			this.applyColours();
+		} else {
+			this.clear();
+			this.show(geom, indices.length / 3);
+		}
+		if (bvh) this.setBvh(bvh);
+	}
+
+	/** The picking tree (three-mesh-bvh, indirect); until it arrives pick() finds nothing. */
+	setBvh(bvh: BvhData): void {
+		const geom = this.mesh?.geometry;
+		if (!geom || !geom.getIndex()) return;
+		geom.boundsTree = MeshBVH.deserialize(bvh as never, geom, { setIndex: false });
+	}
+
+	/** Coarse stand-in drawn instead of the mesh while the camera moves. */
+	setProxy(positions: Float32Array, indices: Uint32Array): void {
+		this.clearProxy();
+		const pg = new BufferGeometry();
+		pg.setAttribute('position', new BufferAttribute(positions, 3));
+		pg.setIndex(new BufferAttribute(indices, 1));
+		this.proxy = new Mesh(pg, meshMaterial());
+		this.proxy.visible = false;
+		this.proxy.raycast = () => {};
+		this.group.add(this.proxy);
+	}
+
+	get hasProxy(): boolean {
+		return !!this.proxy;
+	}
+
+	/** The stand-in instead of the mesh (plain colour: the colourings are per vertex of the full mesh). */
+	setCoarse(coarse: boolean): void {
+		if (!this.proxy || !this.mesh || !this.shownAt) return;
+		this.proxy.visible = coarse;
+		this.mesh.visible = !coarse;
+		if (this.wire) this.wire.visible = this.wire.userData.on && !coarse;
+	}
+
+	/** Shell of each face (from the overlays), for the colouring by shell and the picked face's shell. */
+	setFaceShells(faceShell: Int32Array | null): void {
+		this.faceShell = faceShell;
+		this.shellColours = null;
+		if (this.colourMode === 'shells') this.applyColours();
+	}
+
+	private show(geom: BufferGeometry, triangles: number): void {
+		geom.computeBoundingBox();
+		geom.computeBoundingSphere();
+		const mesh = new Mesh(geom, meshMaterial());
+		mesh.raycast = acceleratedRaycast;
+		mesh.visible = false;
+		this.mesh = mesh;
+		this.group.add(mesh);
+		this.compile(mesh)
+			.catch(() => {})
+			.then(() => {
+				if (this.mesh !== mesh) return;
+				mesh.visible = true;
+				this.shownAt = performance.now();
+				this.onShown();
+			});
+		this.triCount = triangles;
+		this.onBounds(geom.boundingBox!, geom.boundingSphere!);
+	}
+
+	private clear(): void {
+		for (const m of [this.mesh, this.wire]) {
+			if (!m) continue;
+			this.group.remove(m);
+			(m.material as Material).dispose();
+		}
+		if (this.mesh) {
+			this.mesh.geometry.disposeBoundsTree?.();
+			this.mesh.geometry.dispose();
+		}
+		this.clearProxy();
+		this.mesh = this.wire = null;
+		this.shellColours = null;
+		this.shownAt = 0;
+	}
+
+	private clearProxy(): void {
+		if (!this.proxy) return;
+		this.group.remove(this.proxy);
+		this.proxy.geometry.dispose();
+		(this.proxy.material as Material).dispose();
+		this.proxy = null;
+	}
+
+	setWireframe(on: boolean): void {
+		if (!this.mesh) return;
+		if (on && !this.wire) {
+			this.wire = new Mesh(this.mesh.geometry, new MeshBasicMaterial({ color: '#0c1117', wireframe: true, transparent: true, opacity: 0.45 }));
+			this.wire.raycast = () => {};
+			this.group.add(this.wire);
+		}
+		if (this.wire) {
+			this.wire.userData.on = on;
+			this.wire.visible = on;
+		}
+	}
+
+	setColourMode(mode: ColourMode): void {
+		this.colourMode = mode;
+		this.applyColours();
+	}
+
+	get colour(): ColourMode {
+		return this.colourMode;
+	}
+
+	setDeviation(distances: Float32Array | null, max: number): void {
+		this.deviation = distances ? { distances, max } : null;
+		if (this.colourMode === 'deviation') this.applyColours();
+	}
+
+	get hasDeviation(): boolean {
+		return !!this.deviation;
+	}
+
+	/** Wall and gap per vertex in cells; scaleCells is the value drawn at the bright end of the ramp. */
+	setCellField(field: { wall: Float32Array; gap: Float32Array; scaleCells: number } | null): void {
+		this.cellField = field;
+		if (this.colourMode === 'wall' || this.colourMode === 'gap') this.applyColours();
+	}
+
+	private applyColours(): void {
+		if (!this.mesh) return;
+		const geom = this.mesh.geometry;
+		const mat = this.mesh.material as MeshLambertMaterial;
+		const vertCount = geom.getAttribute('position').count;
+		const idx = geom.getIndex();
+		let colours: Float32Array | null = null;
+		if (this.colourMode === 'shells' && this.faceShell && idx) {
+			if (!this.shellColours) {
+				const rgb = SHELL_COLOURS.map(hexRgb);
+				const ia = idx.array as Uint32Array;
+				colours = new Float32Array(3 * vertCount).fill(0.55);
+				for (let t = 0; t < this.triCount; t++) {
+					const s = this.faceShell[t];
+					if (s < 0) continue;
+					const c = rgb[s % rgb.length];
+					for (let k = 0; k < 3; k++) colours.set(c, 3 * ia[3 * t + k]);
+				}
+				this.shellColours = colours;
+			}
+			colours = this.shellColours;
+		} else if (this.colourMode === 'deviation' && this.deviation && this.deviation.distances.length === vertCount) {
+			colours = new Float32Array(3 * vertCount);
+			const inv = this.deviation.max > 0 ? 1 / this.deviation.max : 0;
+			for (let v = 0; v < vertCount; v++) rampColour(this.deviation.distances[v] * inv, colours, 3 * v);
+		} else if ((this.colourMode === 'wall' || this.colourMode === 'gap') && this.cellField && this.cellField.wall.length === vertCount) {
+			// Thin (dark end of the ramp) to wide enough (bright end) at scaleCells and above.
+			const f = this.colourMode === 'wall' ? this.cellField.wall : this.cellField.gap;
+			const inv = 1 / this.cellField.scaleCells;
+			colours = new Float32Array(3 * vertCount);
+			for (let v = 0; v < vertCount; v++) rampColour(f[v] * inv, colours, 3 * v);
+		}
+		if (colours) {
+			geom.setAttribute('color', new Float32BufferAttribute(colours, 3));
+			mat.vertexColors = true;
+			mat.color.set('#ffffff');
+		} else {
+			geom.deleteAttribute('color');
+			mat.vertexColors = false;
+			mat.color.set(MESH_COLOUR);
+		}
+		mat.needsUpdate = true;
+	}
+
+	/** First face hit along a ray from the camera through ndc, through the BVH; with a section, hits on the cut-away side are skipped. */
+	pick(ndc: Vector2, camera: Camera, section: Plane | null): MeshHit | null {
+		if (!this.mesh?.geometry.boundsTree) return null;
+		this.raycaster.setFromCamera(ndc, camera);
+		(this.raycaster as Raycaster & { firstHitOnly?: boolean }).firstHitOnly = !section;
+		const wasVisible = this.mesh.visible;
+		this.mesh.visible = true;
+		const hits = this.raycaster.intersectObject(this.mesh, false);
+		this.mesh.visible = wasVisible;
+		for (const h of hits) {
+			if (section && section.distanceToPoint(h.point) < 0) continue;
+			const face = h.faceIndex ?? -1;
+			const hit: MeshHit = { point: [h.point.x, h.point.y, h.point.z], face, shell: this.faceShell && face >= 0 ? this.faceShell[face] : -1 };
+			if (this.colourMode === 'deviation' && this.deviation && h.face) hit.deviation = this.fieldAt(this.deviation.distances, h.point, h.face.a, h.face.b, h.face.c);
+			if ((this.colourMode === 'wall' || this.colourMode === 'gap') && this.cellField && h.face) {
+				hit.cells = this.fieldAt(this.colourMode === 'wall' ? this.cellField.wall : this.cellField.gap, h.point, h.face.a, h.face.b, h.face.c);
+			}
+			return hit;
+		}
+		return null;
+	}
+
+	/** A per-vertex field at a point of face a, b, c (barycentric). */
+	private fieldAt(d: Float32Array, p: Vector3, a: number, b: number, c: number): number {
+		const pos = this.mesh!.geometry.getAttribute('position');
+		const va = new Vector3().fromBufferAttribute(pos, a), vb = new Vector3().fromBufferAttribute(pos, b), vc = new Vector3().fromBufferAttribute(pos, c);
+		const w = Triangle.getBarycoord(p, va, vb, vc, new Vector3());
+		if (!w) return (d[a] + d[b] + d[c]) / 3;
+		return w.x * d[a] + w.y * d[b] + w.z * d[c];
+	}
+
+	/** Centre and size of the listed faces (their corners' bounding box), for flying to them. */
+	faceBounds(faces: Uint32Array): { center: [number, number, number]; radius: number } | null {
+		const idxAttr = this.mesh?.geometry.getIndex();
+		if (!this.mesh || !idxAttr) return null;
+		const min = [Infinity, Infinity, Infinity], max = [-Infinity, -Infinity, -Infinity];
+		const p = this.mesh.geometry.getAttribute('position').array as Float32Array;
+		const idx = idxAttr.array as Uint32Array;
+		for (let i = 0; i < faces.length; i++) {
+			for (let k = 0; k < 3; k++) {
+				const v3 = 3 * idx[3 * faces[i] + k];
+				for (let a = 0; a < 3; a++) {
+					min[a] = Math.min(min[a], p[v3 + a]);
+					max[a] = Math.max(max[a], p[v3 + a]);
+				}
+			}
+		}
+		return { center: [0.5 * (min[0] + max[0]), 0.5 * (min[1] + max[1]), 0.5 * (min[2] + max[2])], radius: 0.5 * Math.hypot(max[0] - min[0], max[1] - min[1], max[2] - min[2]) };
+	}
+
+	/** Index buffer (3 per face) of the listed face ids of the welded mesh. */
+	faceIndexOf(faces: Uint32Array): Uint32Array {
+		const idx = this.mesh?.geometry.getIndex();
+		return idx ? faceIndex(idx.array as Uint32Array, faces) : new Uint32Array(0);
+	}
+
+	/** A mesh of some faces, from an index buffer into this mesh's vertices; it shares the position buffer (one upload, no copy). */
+	faceSubset(index: Uint32Array, mat: Material): Mesh | null {
+		if (!this.mesh) return null;
+		const geom = new BufferGeometry();
+		geom.setAttribute('position', this.mesh.geometry.getAttribute('position'));
+		geom.setIndex(new BufferAttribute(index, 1));
+		geom.userData.sharesPosition = true;
+		const m = new Mesh(geom, mat);
+		m.renderOrder = 2;
+		m.raycast = () => {};
+		return m;
+	}
+
+	/** Positions and indices of the welded mesh: the live arrays behind the GPU buffers, not copies; callers copy before transferring. */
+	buffers(): { positions: Float32Array; indices: Uint32Array } | null {
+		const g = this.mesh?.geometry;
+		const idx = g?.getIndex();
+		if (!g || !idx) return null;
+		return { positions: g.getAttribute('position').array as Float32Array, indices: idx.array as Uint32Array };
+	}
+
+	/** The objects drawn while the camera moves, for the bench's per-object figures. */
+	movingObjects(): Mesh[] {
+		return this.proxy ? [this.proxy] : this.mesh ? [this.mesh] : [];
+	}
+
+	dispose(): void {
+		this.clear();
+		this.group.removeFromParent();
+	}
+}

@@ -7,7 +7,9 @@
 //   scale:  the database grown by scripts/seed-bench.ts to 100,000 revisions in 500 runs; STRESS_READERS
 //           readers at a human pace on the queue page and /api/v1/queue (default view, sorted by
 //           severity, filtered by a rule) and on the run page when the build has one.
-// STRESS_PHASES (load,faults,scale) picks phases; scale runs last since it grows the database.
+//   ingest: a generator run of STRESS_RUN_FILES (1,000) distinct ~20 k-triangle meshes sent through the
+//           run route by 8 concurrent pipeline clients: files accepted per second, time to the last verdict.
+// STRESS_PHASES (load,faults,ingest,scale) picks phases; scale runs last since it grows the database.
 import { spawn, type ChildProcess } from 'node:child_process';
 import { createWriteStream, existsSync, openAsBlob, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import http from 'node:http';
@@ -36,7 +38,7 @@ const LOAD_SECONDS = Number(process.env.STRESS_SECONDS ?? 80);
 const CELL = Number(process.env.STRESS_CELL ?? 0.0062); // tow body at this cell size: ~1.0 M triangles
 const P95_TARGET_MS = 300;
 const RUN_PAGE_TARGET_MS = 500;
-const PHASES = new Set((process.env.STRESS_PHASES ?? 'load,faults,scale').split(',').map((x) => x.trim()));
+const PHASES = new Set((process.env.STRESS_PHASES ?? 'load,faults,ingest,scale').split(',').map((x) => x.trim()));
 const SCALE_SECONDS = Number(process.env.STRESS_SCALE_SECONDS ?? 30);
 
 const results: { name: string; ok: boolean; detail: string }[] = [];
@@ -424,6 +426,62 @@ async function secretsInLogs(token: string) {
  * human pace (one request every 2 s each) for SCALE_SECONDS, one address at a time, with no check
  * workers running (the bench rows have no files to check).
  */
+const RUN_FILES = Number(process.env.STRESS_RUN_FILES ?? 1000);
+
+/**
+ * A run of RUN_FILES samples through POST /api/v1/projects/{project}/runs/{run}/files (raw body,
+ * bearer token, part from the file name, metadata per file), 8 clients at once as a generator's
+ * upload pool would send them; the app checks with two engine threads (CHECK_WORKERS=2).
+ */
+async function ingestPhase(token: string) {
+	const s = towBody(3);
+	// The tow body at a grid of 0.05 gives about 8 k triangles; triangles grow with 1/h².
+	const probe = marchingCubes(s.field, gridFor(s.min, s.max, 0.05));
+	const h = 0.05 * Math.sqrt(probe.indices.length / 3 / 20_000);
+	const mesh = marchingCubes(s.field, gridFor(s.min, s.max, h));
+	const tris = mesh.indices.length / 3;
+	const bodies = Array.from({ length: RUN_FILES }, (_, i) => writeBinaryStl(mesh, `stress run sample ${i} ${Date.now()}`));
+	process.env.RUN_DIGEST_SETTLE_MS ??= '3000';
+	const app = startApp('ingest', 2);
+	await waitHttp();
+	const runName = `stress-run-${Date.now().toString(36)}`;
+	const ids: number[] = [];
+	let failed = 0;
+	let next = 0;
+	const t0 = performance.now();
+	const lat: number[] = [];
+	await Promise.all(
+		Array.from({ length: 8 }, async () => {
+			for (let i = next++; i < RUN_FILES; i = next++) {
+				const t1 = performance.now();
+				const res = await fetch(`${BASE}/api/v1/projects/keel-bulbs/runs/${runName}/files?fileName=sample-${String(i).padStart(4, '0')}.stl`, {
+					method: 'POST',
+					headers: { authorization: `Bearer ${token}`, 'content-type': 'application/octet-stream', 'x-shellgate-run-kind': 'samples', 'x-shellgate-meta': JSON.stringify({ sample: i, seed: 1000 + i }) },
+					body: bodies[i]
+				}).catch(() => null);
+				lat.push(performance.now() - t1);
+				const j = res ? ((await res.json().catch(() => ({}))) as { id?: number }) : {};
+				if (res?.status === 201 && j.id) ids.push(j.id);
+				else failed++;
+			}
+		})
+	);
+	const acceptS = (performance.now() - t0) / 1000;
+	const states = await waitChecks(ids, 30 * 60_000);
+	const lastS = (performance.now() - t0) / 1000;
+	const pending = ids.filter((id) => ['awaiting-check', 'checking'].includes(states.get(id) ?? 'awaiting-check')).length;
+	lat.sort((a, b) => a - b);
+	const mb = bodies[0].length / 1e6;
+	figures.push(
+		`ingest: ${RUN_FILES} × ${tris.toLocaleString('en')} triangles (${mb.toFixed(1)} MB each) into one run, 8 clients: all accepted in ${acceptS.toFixed(1)} s (${(ids.length / acceptS).toFixed(0)} files/s; upload p50 ${lat[Math.floor(lat.length / 2)].toFixed(0)} ms, p95 ${lat[Math.floor(lat.length * 0.95)].toFixed(0)} ms), last verdict ${lastS.toFixed(1)} s after the first upload (${(ids.length / lastS).toFixed(1)} checked/s with 2 engine threads); load average ${readFileSync('/proc/loadavg', 'utf8').split(' ')[0]}`
+	);
+	record(`ingest: ${RUN_FILES} files of a run accepted and checked`, failed === 0 && ids.length === RUN_FILES && pending === 0, `${ids.length} accepted, ${failed} refused or failed, ${pending} still unchecked`);
+	await sleep(Number(process.env.RUN_DIGEST_SETTLE_MS) + 4000);
+	const [dig] = await q("SELECT COUNT(*) AS n FROM mail_outbox WHERE subject LIKE ?", [`%${runName}%`]);
+	figures.push(`ingest: ${Number(dig.n)} digest mail(s) queued for the run (settle time ${process.env.RUN_DIGEST_SETTLE_MS ?? 'default'} ms)`);
+	await stop(app);
+}
+
 async function scalePhase(token: string, cookie: string) {
 	const t0 = performance.now();
 	const seeded = await new Promise<{ code: number | null; out: string }>((resolve) => {
@@ -505,6 +563,10 @@ async function main() {
 		const last = await serverKillPhase(token, killFiles);
 		await secretsInLogs(token);
 		await stop(last);
+	}
+	if (PHASES.has('ingest')) {
+		say(`ingest: a run of ${RUN_FILES} meshes through the run route`);
+		await ingestPhase(token);
 	}
 	if (PHASES.has('scale')) {
 		say(`scale: seed-bench, then ${READERS} paced readers per queue address for ${SCALE_SECONDS} s each`);

@@ -15,9 +15,9 @@ import { createHash } from 'node:crypto';
 import mysql from 'mysql2/promise';
 import { DEFAULT_GATE_RULES } from '../src/lib/gate/profile';
 import { blockingFailures, evaluateGate, severityScore } from '../src/lib/gate/rules';
-import { keelBulb, towBody } from '../src/lib/mesh/implicit-shapes';
+import { keelBulb, towBody } from '../src/lib/mesh/testing/implicit-shapes';
 import { inspectBytes } from '../src/lib/mesh/inspect';
-import { gridFor, marchingCubes } from '../src/lib/mesh/marching-cubes';
+import { gridFor, marchingCubes } from '../src/lib/mesh/testing/marching-cubes';
 import type { MeshBuffers } from '../src/lib/mesh/types';
 import { writeBinaryStl } from '../src/lib/mesh/write';
 

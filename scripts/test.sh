@@ -102,6 +102,8 @@ want() { case " $STAGES_WANTED " in *" $1 "*) return 0 ;; *) return 1 ;; esac; }
 UNIT_FILES=() E2E_FILES=()
 for f in ${TEST_FILES:-}; do case $f in *.e2e.ts) E2E_FILES+=("$f") ;; *) UNIT_FILES+=("$f") ;; esac; done
 if want check; then run_stage svelte-check npm run check || true; fi
+# svelte-check does not see scripts/: every script's imports must still resolve (bundled, not run).
+if want check; then run_stage "script imports" npx esbuild scripts/*.ts scripts/stress/*.ts --bundle --platform=node --format=esm --packages=external --log-level=error --outdir="$TMP/script-check" || true; fi
 # The command line's tests run the built one (dist-cli/, git-ignored), so it is built first.
 if want unit; then run_stage "command line build" node scripts/build-cli.mjs && run_stage vitest npx vitest run --passWithNoTests "${UNIT_FILES[@]}" || true; fi
 want e2e || { [ "${#FAILED[@]}" = 0 ] || { warn "failed: ${FAILED[*]}"; exit 1; }; exit 0; }

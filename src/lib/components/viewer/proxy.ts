@@ -4,6 +4,8 @@
  * triangles whose corners fall in fewer than three cells are dropped. O(V + F), one Map over
  * occupied cells. Topology is not kept; the stand-in is for looking only, never for picking.
  */
+import { pointBounds } from '$lib/mesh/bounds';
+
 export interface ProxyMesh {
 	positions: Float32Array;
 	indices: Uint32Array;
@@ -13,16 +15,7 @@ export function clusterProxy(positions: Float32Array, indices: Uint32Array, targ
 	const triCount = (indices.length / 3) | 0;
 	const vertCount = (positions.length / 3) | 0;
 	if (triCount <= targetTris || vertCount === 0) return null;
-	let x0 = Infinity, y0 = Infinity, z0 = Infinity, x1 = -Infinity, y1 = -Infinity, z1 = -Infinity;
-	for (let v = 0; v < vertCount; v++) {
-		const x = positions[3 * v], y = positions[3 * v + 1], z = positions[3 * v + 2];
-		if (x < x0) x0 = x;
-		if (x > x1) x1 = x;
-		if (y < y0) y0 = y;
-		if (y > y1) y1 = y;
-		if (z < z0) z0 = z;
-		if (z > z1) z1 = z;
-	}
+	const [x0, y0, z0, x1, y1] = pointBounds(positions);
 	// Mean edge length from a strided sample sets the cell: triangle count scales with 1 / cell².
 	let sum = 0, n = 0;
 	const stride = Math.max(1, Math.floor(triCount / 2000));

@@ -31,6 +31,7 @@ type Hook = {
 	benchmark: (frames: number, moving: boolean) => Stats;
 	profileMoving: (frames: number) => Record<string, number>;
 	renderMoving: () => number;
+	firstDrawProbe: () => Record<string, number>;
 };
 // Goals from the viewer's issue, on this part in headless software WebGL: mesh < 2 s and overlays
 // < 3 s after the HTML, orbit ≥ 15 fps with every overlay on. Printed beside the figures, not asserted.
@@ -78,7 +79,8 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 		const still = h.benchmark(5, false);
 		const orbit = h.benchmark(60, true);
 		const profile = h.profileMoving(5);
-		return { profile, triangles: h.triangles, html: nav.responseEnd, timings: h.timings, still, orbit };
+		const probe = h.firstDrawProbe();
+		return { profile, probe, triangles: h.triangles, html: nav.responseEnd, timings: h.timings, still, orbit };
 	});
 	// What orbiting shows: one frame drawn as while dragging, left on the canvas.
 	await page.evaluate(() => (window as unknown as { __shellgateViewer: Hook }).__shellgateViewer.renderMoving());
@@ -107,6 +109,7 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 	console.log(
 		[
 			`first mesh frame after the HTML: ${s(r.timings.meshDrawnAt - r.html)}, drawn and waited for on the GPU (worker asked at ${s(r.timings.requestedAt - r.html)}; ${r.timings.previewAt ? `from the file's triangles, handed to the page at ${s(r.timings.previewAt - r.html)}; ` : ''}welded mesh at ${s(r.timings.meshAt - r.html)}; fetch ${r.timings.fetchMs?.toFixed(0)} ms, unwelded triangles ${r.timings.previewMs?.toFixed(0) ?? '–'} ms, reader ${r.timings.parseMs?.toFixed(0)} ms)`,
+			`timeline after the HTML: worker asked ${s(r.timings.requestedAt - r.html)}, bytes in ${s(r.timings.requestedAt + r.timings.fetchMs - r.html)}, file's triangles to the scene ${r.timings.previewAt ? s(r.timings.previewAt - r.html) : '–'}, shaders ready ${s(r.timings.meshShownAt - r.html)}, first frame drawn ${s(r.timings.meshDrawnAt - r.html)} (that frame ${r.timings.firstFrameMs?.toFixed(0)} ms), welded mesh ${s(r.timings.meshAt - r.html)}`,
 			`stand-in ${r.timings.proxyTriangles} triangles in ${r.timings.proxyMs?.toFixed(0)} ms; picking tree ${r.timings.bvhMs?.toFixed(0)} ms, ready at ${s(r.timings.bvhAt - r.html)}`,
 			`overlays drawn after the HTML: ${s(r.timings.overlaysAt + r.timings.setOverlaysMs - r.html)} (worker: overlays ${r.timings.overlaysMs?.toFixed(0)} ms, draw buffers ${r.timings.overlayDrawMs?.toFixed(0)} ms; page: geometries ${r.timings.setOverlaysMs?.toFixed(0)} ms)`,
 			`drawn as samples: ${sampled.join('; ') || 'none'}`,
@@ -116,6 +119,7 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 			`orbit, 60 steps, every overlay on: mean ${r.orbit.meanMs.toFixed(0)} ms, p95 ${r.orbit.p95Ms.toFixed(0)} ms, max ${r.orbit.maxMs.toFixed(0)} ms, ${(1000 / r.orbit.meanMs).toFixed(1)} fps (goal 15)`,
 			`every overlay off: still frame ${bare.still.meanMs.toFixed(0)} ms; orbit mean ${bare.orbit.meanMs.toFixed(0)} ms, p95 ${bare.orbit.p95Ms.toFixed(0)} ms, ${(1000 / bare.orbit.meanMs).toFixed(1)} fps`,
 			`orbit (20 steps) with one overlay on: ${alone.join(', ')}`,
+			`first draw of the whole mesh, new to the GPU (upload included) / drawn again: ${['welded', 'unwelded', 'welded again'].map((k) => `${k} ${r.probe[`${k} first`]?.toFixed(0)} / ${r.probe[`${k} second`]?.toFixed(0)} ms`).join('; ')}`,
 			`each object drawn while moving, alone: ${Object.entries(r.profile).map(([k, ms]) => `${k}: ${ms.toFixed(0)} ms`).join('; ')}`
 		].join('\n')
 	);

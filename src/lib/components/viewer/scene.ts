@@ -41,6 +41,8 @@ export class ViewerScene {
 	private bboxMax = new Vector3();
 	/** When the first frame with the mesh in it was finished (performance.now); waited for on the GPU when measureFirstFrame is set (the dev harness). */
 	meshDrawn = 0;
+	/** How long that first frame took (upload and raster included when measureFirstFrame is set). */
+	firstFrameMs = 0;
 	measureFirstFrame = false;
 
 	constructor(container: HTMLElement, flowDirection: [number, number, number]) {
@@ -243,6 +245,7 @@ export class ViewerScene {
 	/** What one frame draws; the host times it. */
 	private draw(finish: boolean): void {
 		const r = this.host.renderer;
+		const t0 = performance.now();
 		if (this.rig.step()) this.requestRender();
 		const moving = this.rig.moving;
 		const coarse = moving && this.mesh.hasProxy;
@@ -278,6 +281,7 @@ export class ViewerScene {
 		if (!this.meshDrawn && this.mesh.visible) {
 			if (this.measureFirstFrame && !finish) this.host.finish();
 			this.meshDrawn = performance.now();
+			this.firstFrameMs = this.meshDrawn - t0;
 		}
 	}
 

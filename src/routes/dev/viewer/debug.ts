@@ -4,7 +4,8 @@
  * times and what each object drawn while moving costs alone. Lives with the harness, not in the
  * viewer: production pages never install it.
  */
-import { Scene, type BufferGeometry, type Mesh, type Object3D } from 'three';
+import { BufferAttribute, BufferGeometry, Mesh, Scene, type Object3D } from 'three';
+import { meshMaterial } from '$lib/components/viewer/layers/mesh-layer';
 import type { FrameStats, GpuMemory, ViewerScene } from '$lib/components/viewer/scene';
 import type { ViewerState } from '$lib/components/viewer/viewer-state.svelte';
 
@@ -27,6 +28,49 @@ export interface ViewerDebug {
 	render(): number;
 	/** One frame drawn as while dragging, left on the canvas (for a screenshot of what orbiting shows). */
 	renderMoving(): number;
+	/**
+	 * What a first frame of the loaded mesh costs, each geometry new to the GPU: welded and indexed,
+	 * and the same triangles unwelded (9 floats each, as a binary STL holds them). ms for the first
+	 * draw (upload included) and a second one (raster only), each waited for on the GPU.
+	 */
+	firstDrawProbe(): Record<string, number>;
+}
+
+function firstDrawProbe(s: ViewerScene): Record<string, number> {
+	const b = s.meshBuffers();
+	if (!b) return {};
+	const r = s.host.renderer;
+	const out: Record<string, number> = {};
+	const unwelded = new Float32Array(3 * b.indices.length);
+	for (let i = 0; i < b.indices.length; i++) {
+		const v = 3 * b.indices[i];
+		unwelded[3 * i] = b.positions[v];
+		unwelded[3 * i + 1] = b.positions[v + 1];
+		unwelded[3 * i + 2] = b.positions[v + 2];
+	}
+	const mat = meshMaterial();
+	for (const [label, indexed] of [['welded', true], ['unwelded', false], ['welded again', true]] as const) {
+		const g = new BufferGeometry();
+		g.setAttribute('position', new BufferAttribute(indexed ? b.positions.slice() : unwelded, 3));
+		if (indexed) g.setIndex(new BufferAttribute(b.indices.slice(), 1));
+		g.boundingSphere = s.mesh.movingObjects()[0]?.geometry.boundingSphere ?? null;
+		const tmp = new Scene();
+		tmp.add(new Mesh(g, mat));
+		const once = () => {
+			const t0 = performance.now();
+			r.setScissorTest(false);
+			r.clear();
+			r.render(tmp, s.rig.camera);
+			s.host.finish();
+			return performance.now() - t0;
+		};
+		out[`${label} first`] = once();
+		out[`${label} second`] = once();
+		g.dispose();
+	}
+	mat.dispose();
+	s.requestRender();
+	return out;
 }
 
 /** Orbit through `frames` renders; the figures are the orbit's frames only. */
@@ -98,7 +142,7 @@ export function viewerDebug(s: ViewerScene, v: ViewerState): ViewerDebug {
 			return { position: s.cameraPosition(), target: s.cameraTarget(), animating: s.animating };
 		},
 		get timings() {
-			return { ...v.timings, meshShownAt: s.meshShown, meshDrawnAt: s.meshDrawn };
+			return { ...v.timings, meshShownAt: s.meshShown, meshDrawnAt: s.meshDrawn, firstFrameMs: s.firstFrameMs };
 		},
 		get overlaysReady() {
 			return v.overlayState === 'ready';
@@ -118,6 +162,7 @@ export function viewerDebug(s: ViewerScene, v: ViewerState): ViewerDebug {
 		benchmark: (frames = 30, moving = false) => orbit(s, frames, moving),
 		profileMoving: (frames = 5) => profileMoving(s, frames),
 		render: () => s.renderNow(true),
+		firstDrawProbe: () => firstDrawProbe(s),
 		renderMoving: () => {
 			s.rig.dragging = true;
 			const ms = s.renderNow(true);

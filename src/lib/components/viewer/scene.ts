@@ -44,6 +44,11 @@ export class ViewerScene {
 	/** How long that first frame took (upload and raster included when measureFirstFrame is set). */
 	firstFrameMs = 0;
 	measureFirstFrame = false;
+	private drawnWaiters: (() => void)[] = [];
+	/** Resolves once a frame with the mesh in it has been drawn. */
+	meshFrame(): Promise<void> {
+		return this.meshDrawn ? Promise.resolve() : new Promise((ok) => this.drawnWaiters.push(ok));
+	}
 
 	constructor(container: HTMLElement, flowDirection: [number, number, number]) {
 		this.host = new RendererHost(container, (finish) => this.draw(finish), () => this.rig.setAspect(this.viewAspect()));
@@ -53,6 +58,18 @@ export class ViewerScene {
 			(obj) => this.host.renderer.compileAsync(obj, this.rig.camera, this.scene),
 			() => this.requestRender(),
 			(box, sphere) => this.onBounds(box, sphere)
+		);
+		this.mesh.warmUp(
+			(obj, scene, camera) => this.host.renderer.compileAsync(obj, camera, scene),
+			(scene, camera) => {
+				// Drawn and cleared in one task: nothing of it reaches the screen.
+				const r = this.host.renderer;
+				if (this.host.isDisposed) return;
+				r.setScissorTest(false);
+				r.render(scene, camera);
+				r.clear();
+				this.requestRender();
+			}
 		);
 		this.overlays = new OverlayLayer(this.mesh);
 		this.compare = new CompareLayer(this.scene);
@@ -282,6 +299,7 @@ export class ViewerScene {
 			if (this.measureFirstFrame && !finish) this.host.finish();
 			this.meshDrawn = performance.now();
 			this.firstFrameMs = this.meshDrawn - t0;
+			for (const f of this.drawnWaiters.splice(0)) f();
 		}
 	}
 

@@ -142,7 +142,7 @@ export function viewerDebug(s: ViewerScene, v: ViewerState): ViewerDebug {
 			return { position: s.cameraPosition(), target: s.cameraTarget(), animating: s.animating };
 		},
 		get timings() {
-			return { ...v.timings, meshShownAt: s.meshShown, meshDrawnAt: s.meshDrawn, firstFrameMs: s.firstFrameMs };
+			return { ...v.timings, meshShownAt: s.meshShown, meshDrawnAt: s.meshDrawn, firstFrameMs: s.firstFrameMs, warmedAt: s.mesh.warmedAt, warmUpMs: s.mesh.warmUpMs };
 		},
 		get overlaysReady() {
 			return v.overlayState === 'ready';

@@ -13,6 +13,8 @@ import {
 	Group,
 	Mesh,
 	MeshBasicMaterial,
+	OrthographicCamera,
+	Scene,
 	MeshLambertMaterial,
 	Plane,
 	Raycaster,
@@ -23,10 +25,12 @@ import {
 	type Camera,
 	type Material
 } from 'three';
+import { pointBounds } from '$lib/mesh/bounds';
 import { acceleratedRaycast, computeBoundsTree, disposeBoundsTree, MeshBVH } from 'three-mesh-bvh';
 import type { BvhData } from '../protocol';
 import { faceIndex } from '../overlay-draw';
 import { hexRgb, MESH_COLOUR, rampColour, SHELL_COLOURS } from '../palette';
+import { addLights } from './compare-layer';
 
 BufferGeometry.prototype.computeBoundsTree = computeBoundsTree;
 BufferGeometry.prototype.disposeBoundsTree = disposeBoundsTree;
@@ -55,6 +59,42 @@ export function meshMaterial(colour = MESH_COLOUR): MeshLambertMaterial {
 	return mat;
 }
 
+/**
+ * Bounding box and sphere of a position buffer, as three.js computes them (the sphere about the
+ * box's centre, through the farthest point) in two plain loops: three.js's own go through the
+ * attribute's accessors and took about 100 ms of the first frame for 3 million vertices.
+ */
+export function positionBounds(positions: Float32Array): { box: Box3; sphere: Sphere } {
+	const [x0, y0, z0, x1, y1, z1] = pointBounds(positions);
+	const box = new Box3(new Vector3(x0, y0, z0), new Vector3(x1, y1, z1));
+	const cx = 0.5 * (x0 + x1), cy = 0.5 * (y0 + y1), cz = 0.5 * (z0 + z1);
+	let r2 = 0;
+	for (let i = 0; i + 2 < positions.length; i += 3) {
+		const dx = positions[i] - cx, dy = positions[i + 1] - cy, dz = positions[i + 2] - cz;
+		const d2 = dx * dx + dy * dy + dz * dz;
+		if (d2 > r2) r2 = d2;
+	}
+	if (positions.length < 3) box.makeEmpty();
+	return { box, sphere: new Sphere(new Vector3(cx, cy, cz), positions.length < 3 ? -1 : Math.sqrt(r2)) };
+}
+
+/**
+ * A triangle a few pixels wide in the mesh's own material and lights, for warmUp: software WebGL
+ * (SwiftShader) builds a program's machine code at its first draw, not when it is linked.
+ */
+function warmUpScene(): { scene: Scene; camera: OrthographicCamera; mesh: Mesh } {
+	const geom = new BufferGeometry();
+	geom.setAttribute('position', new BufferAttribute(new Float32Array([0, 0, 0, 0.01, 0, 0, 0, 0.01, 0]), 3));
+	const mesh = new Mesh(geom, meshMaterial());
+	mesh.frustumCulled = false;
+	const camera = new OrthographicCamera(-1, 1, 1, -1, 0.1, 10);
+	camera.position.set(0, 0, 1);
+	const scene = new Scene();
+	addLights(scene);
+	scene.add(mesh);
+	return { scene, camera, mesh };
+}
+
 export class MeshLayer {
 	readonly group = new Group();
 	/** When the mesh's shaders were ready and its first frame asked for (performance.now). */
@@ -70,6 +110,11 @@ export class MeshLayer {
 	private cellField: { wall: Float32Array; gap: Float32Array; scaleCells: number } | null = null;
 	private shellColours: Float32Array | null = null;
 	private raycaster = new Raycaster();
+	/** The warm-up triangle, kept until a mesh's own program is compiled (freeing it earlier would free the shared program). */
+	private warm: Mesh | null = null;
+	/** When the warm-up draw was done and how long it took (performance.now, ms; 0 until then). */
+	warmedAt = 0;
+	warmUpMs = 0;
 
 	/**
 	 * compile: the renderer's compileAsync for an object (a synchronous link on software WebGL holds
@@ -80,6 +125,33 @@ export class MeshLayer {
 		private onShown: () => void,
 		private onBounds: (box: Box3, sphere: Sphere) => void
 	) {}
+
+	/**
+	 * Draws a tiny triangle with the mesh's material once, then clears, while the file downloads:
+	 * the program and the software rasteriser's code for it are ready before the mesh arrives, so
+	 * the first frame of the mesh is upload and raster only. draw: renders a scene with a camera.
+	 */
+	warmUp(compile: (obj: Mesh, scene: Scene, camera: OrthographicCamera) => Promise<unknown>, draw: (scene: Scene, camera: OrthographicCamera) => void): void {
+		const w = warmUpScene();
+		this.warm = w.mesh;
+		compile(w.mesh, w.scene, w.camera)
+			.catch(() => {})
+			.then(() => {
+				if (this.warm !== w.mesh || this.shownAt) return;
+				const t = performance.now();
+				draw(w.scene, w.camera);
+				this.warmedAt = performance.now();
+				this.warmUpMs = this.warmedAt - t;
+			});
+	}
+
+	private freeWarmUp(): void {
+		if (!this.warm) return;
+		this.warm.geometry.dispose();
+		(this.warm.material as Material).dispose();
+		this.warm.removeFromParent();
+		this.warm = null;
+	}
 
 	get triangles(): number {
 		return this.triCount;
@@ -163,8 +235,9 @@ export class MeshLayer {
 	}
 
 	private show(geom: BufferGeometry, triangles: number): void {
-		geom.computeBoundingBox();
-		geom.computeBoundingSphere();
+		const { box, sphere } = positionBounds(geom.getAttribute('position').array as Float32Array);
+		geom.boundingBox = box;
+		geom.boundingSphere = sphere;
 		const mesh = new Mesh(geom, meshMaterial());
 		mesh.raycast = acceleratedRaycast;
 		mesh.visible = false;
@@ -174,6 +247,7 @@ export class MeshLayer {
 			.catch(() => {})
 			.then(() => {
 				if (this.mesh !== mesh) return;
+				this.freeWarmUp();
 				mesh.visible = true;
 				this.shownAt = performance.now();
 				this.onShown();
@@ -371,6 +445,7 @@ export class MeshLayer {
 
 	dispose(): void {
 		this.clear();
+		this.freeWarmUp();
 		this.group.removeFromParent();
 	}
 }

@@ -52,8 +52,10 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 	}
 	console.log(`part: ${report.faces} triangles, ${report.shortEdges} short edges, generated and checked (or read back) in ${((performance.now() - t) / 1000).toFixed(1)} s`);
 	const reportJson = JSON.stringify(report);
+	let fileRequests = 0;
 	const server = createServer((req, res) => {
 		const stl = req.url?.startsWith('/part.stl');
+		if (stl) fileRequests++;
 		res.writeHead(200, { 'content-type': stl ? 'application/octet-stream' : 'application/json', 'access-control-allow-origin': '*', 'content-length': stl ? bytes.length : Buffer.byteLength(reportJson) });
 		res.end(stl ? bytes : reportJson);
 	});
@@ -110,6 +112,7 @@ test('viewer bench: a million-triangle part with every edge short', async ({ pag
 		[
 			`first mesh frame after the HTML: ${s(r.timings.meshDrawnAt - r.html)}, drawn and waited for on the GPU (worker asked at ${s(r.timings.requestedAt - r.html)}; ${r.timings.previewAt ? `from the file's triangles, handed to the page at ${s(r.timings.previewAt - r.html)}; ` : ''}welded mesh at ${s(r.timings.meshAt - r.html)}; fetch ${r.timings.fetchMs?.toFixed(0)} ms, unwelded triangles ${r.timings.previewMs?.toFixed(0) ?? '–'} ms (read ${r.timings.previewReadMs?.toFixed(0) ?? '–'} ms), reader ${r.timings.parseMs?.toFixed(0)} ms)`,
 			`timeline after the HTML: warm-up draw ${r.timings.warmedAt ? `${s(r.timings.warmedAt - r.html)} (${r.timings.warmUpMs.toFixed(0)} ms)` : '–'}, worker asked ${s(r.timings.requestedAt - r.html)}, bytes in ${s(r.timings.requestedAt + r.timings.fetchMs - r.html)}, file's triangles to the scene ${r.timings.previewAt ? s(r.timings.previewAt - r.html) : '–'}, shaders ready ${s(r.timings.meshShownAt - r.html)}, first frame drawn ${s(r.timings.meshDrawnAt - r.html)} (that frame ${r.timings.firstFrameMs?.toFixed(0)} ms), welded mesh ${s(r.timings.meshAt - r.html)}`,
+			`requests for the file: ${fileRequests}`,
 			`stand-in ${r.timings.proxyTriangles} triangles in ${r.timings.proxyMs?.toFixed(0)} ms; picking tree ${r.timings.bvhMs?.toFixed(0)} ms, ready at ${s(r.timings.bvhAt - r.html)}`,
 			`overlays drawn after the HTML: ${s(r.timings.overlaysAt + r.timings.setOverlaysMs - r.html)} (worker: overlays ${r.timings.overlaysMs?.toFixed(0)} ms, draw buffers ${r.timings.overlayDrawMs?.toFixed(0)} ms; page: geometries ${r.timings.setOverlaysMs?.toFixed(0)} ms)`,
 			`drawn as samples: ${sampled.join('; ') || 'none'}`,

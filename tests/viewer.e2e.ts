@@ -215,3 +215,26 @@ test('opening and closing a second viewer, and flow changes, leave every rendere
 	expect(await memory(0)).toEqual(first);
 	await page.screenshot({ path: shot('viewer-two-viewers'), fullPage: true });
 });
+
+test('a binary STL over 300,000 triangles is drawn from its own triangles first, then welded, with overlays, stand-in and picking', async ({ page }) => {
+	// The large-part path (viewer-state.svelte.ts): file's triangles, first frame, then the reader.
+	const bytes = Buffer.from(writeBinaryStl(defectSampler(0.0105)));
+	const faces = (bytes.length - 84) / 50;
+	expect(faces).toBeGreaterThan(300_000);
+	await page.route('**/large-part.stl', (route) => route.fulfill({ status: 200, contentType: 'application/octet-stream', body: bytes }));
+	await page.goto(`/dev/viewer?url=${encodeURIComponent('/large-part.stl')}&name=large-part.stl&report=0`);
+	await overlaysDrawn(page);
+	const t = await page.evaluate(() => (window as unknown as { __shellgateViewer: Hook & { timings: Record<string, number> } }).__shellgateViewer.timings);
+	expect(t.previewAt).toBeGreaterThan(0);
+	// The reader was asked after that first frame, and the welded mesh took the file's triangles' place.
+	expect(t.meshDrawnAt).toBeGreaterThanOrEqual(t.previewAt);
+	expect(t.meshAt).toBeGreaterThan(t.meshDrawnAt);
+	expect((await hook(page)).triangles).toBe(faces);
+	await expect.poll(() => page.evaluate(() => (window as unknown as { __shellgateViewer: Hook & { timings: Record<string, number> } }).__shellgateViewer.timings.bvhAt ?? 0), { timeout: 60_000 }).toBeGreaterThan(0);
+	const after = await page.evaluate(() => (window as unknown as { __shellgateViewer: Hook & { timings: Record<string, number> } }).__shellgateViewer.timings);
+	expect(after.proxyTriangles).toBeGreaterThan(0);
+	const box = (await page.getByTestId('viewer-canvas').boundingBox())!;
+	await page.mouse.click(box.x + box.width / 2, box.y + box.height / 2);
+	await expect(page.getByTestId('harness-last-pick')).toContainText(/face \d+ shell \d+/);
+	await page.screenshot({ path: shot('viewer-large-part') });
+});

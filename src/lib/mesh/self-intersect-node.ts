@@ -168,7 +168,7 @@ function runJob(input: WorkerInput): SelfIntersectionResult {
 	}
 	barrier(ctrl, 4, threads);
 	const bvh = bvhFromStore(store, Atomics.load(ctrl, CTRL_NODES));
-	const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh };
+	const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh, clear: null };
 	return findInPrepared(
 		prep,
 		{ sampleLimit: input.sampleLimit, taskTarget: input.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } },
@@ -470,7 +470,8 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions, pool
 			faceOf: new Uint32Array(data.faceOf, 0, liveCount),
 			verts: new Uint32Array(data.verts, 0, 3 * liveCount),
 			box: new Float32Array(data.box, 0, 6 * liveCount),
-			bvh: bvhFromStore(store, nodeCount)
+			bvh: bvhFromStore(store, nodeCount),
+			clear: null
 		};
 		const part = findInPrepared(prep, { sampleLimit, taskTarget: data.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } });
 		helperParts.push(part);
@@ -492,6 +493,7 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions, pool
 				buildMs,
 				traverseMs: Math.max(...parts.map((p) => p.stats?.traverseMs ?? 0)),
 				candidatePairs: parts.reduce((s, p) => s + (p.stats?.candidatePairs ?? 0), 0),
+				clearSkips: parts.reduce((s, p) => s + (p.stats?.clearSkips ?? 0), 0),
 				exactTests: parts.reduce((s, p) => s + (p.stats?.exactTests ?? 0), 0),
 				tasks: parts.reduce((s, p) => s + (p.stats?.tasks ?? 0), 0)
 			}

@@ -83,7 +83,9 @@ export function vertexFaces(indices: Uint32Array, vertCount: number, live: Uint8
 
 /**
  * clear[v] = 1 when vertex v is clear (see the file comment), else 0, for v in [from, to), from the
- * fans vertexFaces made. Returns how many of them are clear.
+ * fans vertexFaces made. `seen` is scratch, one entry per vertex, holding no value in from + 1 …
+ * to (zeros, or what calls on other vertex ranges left: link vertices of v are stamped v + 1);
+ * made when not given. Returns how many of them are clear.
  */
 export function clearVertices(
 	positions: Float64Array,
@@ -92,13 +94,13 @@ export function clearVertices(
 	faces: Uint32Array,
 	from: number,
 	to: number,
-	clear: Uint8Array
+	clear: Uint8Array,
+	seen: Uint32Array = new Uint32Array(positions.length / 3)
 ): number {
 	// Link pairs of the fan faces, then the link cycle w_0 … w_{k−1}.
 	const px = new Int32Array(FAN_MAX), py = new Int32Array(FAN_MAX), w = new Int32Array(FAN_MAX);
 	const wx = new Float64Array(FAN_MAX), wy = new Float64Array(FAN_MAX), wz = new Float64Array(FAN_MAX);
 	const du = new Float64Array(FAN_MAX), dv = new Float64Array(FAN_MAX);
-	const seen = new Uint32Array(positions.length / 3);
 	let count = 0;
 	for (let v = from; v < to; v++) {
 		clear[v] = 0;
@@ -119,7 +121,7 @@ export function clearVertices(
 			}
 		}
 		// Walk the link: face 0 gives w_0, w_1; each next face is the unused one holding w_t. Link
-		// vertices are stamped with v + 1 to see that none comes twice.
+		// vertices are stamped with v + 1 in `seen` to see that none comes twice.
 		const stamp = v + 1;
 		w[0] = px[0];
 		w[1] = py[0];

@@ -186,9 +186,8 @@ function runJob(input: WorkerInput): SelfIntersectionResult {
 		const built = buildBvhSorted(new Uint32Array(input.sortedCodes, 0, liveCount), slots.box, LEAF_SIZE, store);
 		Atomics.store(ctrl, CTRL_NODES, built.nodeCount);
 	}
-	const seen = new Uint32Array(vertCount);
 	for (let c = Atomics.add(ctrl, CTRL_CLEAR, 1); c * CLEAR_CHUNK < vertCount; c = Atomics.add(ctrl, CTRL_CLEAR, 1)) {
-		clearVertices(mesh.positions, mesh.indices, fanStart, fanFaces, c * CLEAR_CHUNK, Math.min(vertCount, (c + 1) * CLEAR_CHUNK), clear, seen);
+		clearVertices(mesh.positions, mesh.indices, fanStart, fanFaces, c * CLEAR_CHUNK, Math.min(vertCount, (c + 1) * CLEAR_CHUNK), clear);
 	}
 	barrier(ctrl, 4, threads);
 	// Tree and clear flags are complete: the calling thread may join (help()).

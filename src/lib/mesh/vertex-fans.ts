@@ -83,9 +83,7 @@ export function vertexFaces(indices: Uint32Array, vertCount: number, live: Uint8
 
 /**
  * clear[v] = 1 when vertex v is clear (see the file comment), else 0, for v in [from, to), from the
- * fans vertexFaces made. `seen` is scratch, one entry per vertex, holding no value in from + 1 …
- * to (zeros, or what calls on other vertex ranges left: link vertices of v are stamped v + 1);
- * made when not given. Returns how many of them are clear.
+ * fans vertexFaces made. Returns how many of them are clear.
  */
 export function clearVertices(
 	positions: Float64Array,
@@ -94,8 +92,7 @@ export function clearVertices(
 	faces: Uint32Array,
 	from: number,
 	to: number,
-	clear: Uint8Array,
-	seen: Uint32Array = new Uint32Array(positions.length / 3)
+	clear: Uint8Array
 ): number {
 	// Link pairs of the fan faces, then the link cycle w_0 … w_{k−1}.
 	const px = new Int32Array(FAN_MAX), py = new Int32Array(FAN_MAX), w = new Int32Array(FAN_MAX);
@@ -120,14 +117,11 @@ export function clearVertices(
 				py[m] = b;
 			}
 		}
-		// Walk the link: face 0 gives w_0, w_1; each next face is the unused one holding w_t. Link
-		// vertices are stamped with v + 1 in `seen` to see that none comes twice.
-		const stamp = v + 1;
+		// Walk the link: face 0 gives w_0, w_1; each next face is the unused one holding w_t, and no
+		// link vertex may come twice.
 		w[0] = px[0];
 		w[1] = py[0];
-		seen[px[0]] = stamp;
-		let ok = seen[py[0]] !== stamp;
-		seen[py[0]] = stamp;
+		let ok = true;
 		let used = 1;
 		for (let t = 1; t < k && ok; t++) {
 			const cur = w[t];
@@ -140,9 +134,8 @@ export function clearVertices(
 			used |= 1 << m;
 			const other = px[m] === cur ? py[m] : px[m];
 			if (t < k - 1) {
+				for (let b = 0; b <= t; b++) if (w[b] === other) ok = false;
 				w[t + 1] = other;
-				ok = seen[other] !== stamp;
-				seen[other] = stamp;
 			} else ok = other === w[0];
 		}
 		if (!ok) continue;

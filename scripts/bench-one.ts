@@ -160,7 +160,7 @@ async function selfIntersectCase(bytes: Uint8Array, fileName: string, threads: n
 	return {
 		wallMs,
 		stages: { buildBvh: s.buildMs, traverse: s.traverseMs },
-		extra: { pairs: r.pairs, candidatePairs: s.candidatePairs, exactTests: s.exactTests }
+		extra: { pairs: r.pairs, candidatePairs: s.candidatePairs, clearSkips: s.clearSkips, exactTests: s.exactTests }
 	};
 }
 

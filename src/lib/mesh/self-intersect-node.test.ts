@@ -139,4 +139,31 @@ describe('findSelfIntersectionsParallel', () => {
 			expect(got.stats!.candidatePairs).toBe(want.stats!.candidatePairs);
 		}
 	});
+
+	it('counts crossing spheres as the single-threaded search does, passing over the same pairs at clear vertices, also after a mesh of other vertices reused the pool buffers', async () => {
+		// Two marching-cubes spheres overlapping: most vertices clear, hundreds of counted pairs.
+		const s = sphere(1);
+		const a = marchingCubes(s.field, gridFor(s.min, s.max, 0.06));
+		const b = marchingCubes((x, y, z) => s.field(x - 0.7, y, z), gridFor([-0.3, -1, -1], [1.7, 1, 1], 0.06));
+		const va = a.positions.length / 3;
+		const positions = new Float64Array(a.positions.length + b.positions.length);
+		positions.set(a.positions);
+		positions.set(b.positions, a.positions.length);
+		const indices = new Uint32Array(a.indices.length + b.indices.length);
+		indices.set(a.indices);
+		for (let k = 0; k < b.indices.length; k++) indices[a.indices.length + k] = b.indices[k] + va;
+		const crossing = { positions, indices };
+		for (const m of [crossing, soup(19, 3000), crossing]) {
+			const want = findSelfIntersections(m, { sampleLimit: 1e9 });
+			for (const threads of [1, 2, 3]) {
+				const got = await findSelfIntersectionsParallel(m, { threads, sampleLimit: 1e9 });
+				expect(got.pairs).toBe(want.pairs);
+				expect(got.sample.map((x) => [x.a, x.b])).toEqual(want.sample.map((x) => [x.a, x.b]));
+				expect(got.stats!.clearSkips).toBe(want.stats!.clearSkips);
+			}
+		}
+		const want = findSelfIntersections(crossing);
+		expect(want.pairs).toBeGreaterThan(100);
+		expect(want.stats!.clearSkips).toBeGreaterThan(want.stats!.candidatePairs / 2);
+	});
 });

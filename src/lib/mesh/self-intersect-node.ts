@@ -11,10 +11,12 @@
  * load plain JavaScript.
  *
  * Work split: the mesh buffers are copied once into SharedArrayBuffers. The workers share the
- * setup (each encodes a share of the faces; worker 0 sorts; each gathers a share of the slots,
- * with Atomics barriers between the steps), worker 0 builds the BVH into shared node arrays, then
- * each makes the same deterministic task list (self-intersect.ts `makeTasks`) and takes tasks from a shared Atomics counter until none
- * are left. A failing worker rejects the promise and all workers are terminated, so none waits
+ * setup, with Atomics barriers between the steps: each encodes a share of the faces; worker 0
+ * sorts while the last worker lists the faces around each vertex (vertex-fans.ts); each gathers a
+ * share of the slots; worker 0 builds the BVH into shared node arrays while the others find the
+ * clear vertices in chunks from a shared counter (worker 0 joins when the tree is done). Then
+ * each makes the same deterministic task list (self-intersect.ts `makeTasks`) and takes tasks
+ * from a shared Atomics counter until none are left. A failing worker rejects the promise and all workers are terminated, so none waits
  * forever at a barrier. Tasks partition the face-pair space, so the shard
  * counts sum exactly to the single-threaded count. Samples are merged, sorted by face ids, capped.
  *
@@ -48,6 +50,7 @@ import {
 	type SlotArrays
 } from './self-intersect';
 import type { MeshBuffers } from './types';
+import { clearVertices, vertexFaces } from './vertex-fans';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
 import { validateMesh } from './validate';
 
@@ -71,6 +74,11 @@ interface SharedBuffers {
 	faceOf: SharedArrayBuffer;
 	verts: SharedArrayBuffer;
 	box: SharedArrayBuffer;
+	/** Live faces around each vertex (vertex-fans.ts vertexFaces): vertexCount + 1 starts, 3 × faces entries. */
+	fanStart: SharedArrayBuffer;
+	fanFaces: SharedArrayBuffer;
+	/** Per vertex: 1 = clear (vertex-fans.ts). */
+	clear: SharedArrayBuffer;
 	/** BVH nodes, built once by worker 0 and read by all (sized for bvhMaxNodes(faceCount)). */
 	nodeFirstChild: SharedArrayBuffer;
 	nodeStart: SharedArrayBuffer;
@@ -87,7 +95,7 @@ interface WorkerInput extends SharedBuffers {
 	threads: number;
 	faceCount: number;
 	positionCount: number;
-	/** Int32: [0] next task, [1..4] barriers, [5] live face count, [6] BVH node count. */
+	/** Int32: [0] next task, [1..4] barriers, [5] live face count, [6] BVH node count, [7] 1 once all setup is done, [8] next clear-vertex chunk. */
 	control: SharedArrayBuffer;
 	sampleLimit: number;
 	taskTarget: number;
@@ -99,7 +107,10 @@ interface WorkerOutput {
 	error?: string;
 }
 
-const CTRL_TASK = 0, CTRL_LIVE = 5, CTRL_NODES = 6;
+const CTRL_TASK = 0, CTRL_LIVE = 5, CTRL_NODES = 6, CTRL_READY = 7, CTRL_CLEAR = 8;
+
+/** Vertices per chunk of the clear-vertex pass, handed out by a shared counter. */
+const CLEAR_CHUNK = 8192;
 
 /** Blocks until all `threads` workers reached barrier `slot` (each slot is used once). */
 function barrier(ctrl: Int32Array, slot: number, threads: number): void {
@@ -125,8 +136,15 @@ function runJob(input: WorkerInput): SelfIntersectionResult {
 		positions: new Float64Array(input.positions, 0, input.positionCount),
 		indices: new Uint32Array(input.indices, 0, 3 * faceCount)
 	};
+	const vertCount = input.positionCount / 3;
 	const live = new Uint8Array(input.live);
 	const rawCodes = new Uint32Array(input.rawCodes);
+	const fanStart = new Uint32Array(input.fanStart, 0, vertCount + 1);
+	const fanFaces = new Uint32Array(input.fanFaces, 0, 3 * faceCount);
+	const clear = new Uint8Array(input.clear, 0, vertCount);
+	// The last worker makes the vertex fans while worker 0 sorts, and clears vertices while worker 0
+	// builds the tree (with one worker, worker 0 does both).
+	const fanWorker = threads - 1;
 	const [f0, f1] = share(0, faceCount, index, threads);
 	encodeFaces(mesh, codeFrame(mesh.positions), f0, f1, live, rawCodes);
 	barrier(ctrl, 1, threads);
@@ -144,6 +162,7 @@ function runJob(input: WorkerInput): SelfIntersectionResult {
 		);
 		Atomics.store(ctrl, CTRL_LIVE, liveCount);
 	}
+	if (index === fanWorker) vertexFaces(mesh.indices, vertCount, live, fanStart, fanFaces);
 	barrier(ctrl, 2, threads);
 	const liveCount = Atomics.load(ctrl, CTRL_LIVE);
 	const slots: SlotArrays = {
@@ -154,8 +173,9 @@ function runJob(input: WorkerInput): SelfIntersectionResult {
 	const [s0, s1] = share(0, liveCount, index, threads);
 	gatherSlots(mesh, new Uint32Array(input.slotFace, 0, liveCount), s0, s1, slots);
 	barrier(ctrl, 3, threads);
-	// One tree for all: worker 0 builds it into the shared node arrays while the others wait, which
-	// frees their core for the caller's own stages and saves each a copy of the nodes.
+	// One tree for all: worker 0 builds it into the shared node arrays while the others clear
+	// vertices in chunks from a shared counter, which worker 0 joins once the tree is built; one
+	// tree saves each worker a copy of the nodes.
 	const store: BvhNodeStore = {
 		firstChild: new Int32Array(input.nodeFirstChild),
 		start: new Uint32Array(input.nodeStart),
@@ -166,9 +186,14 @@ function runJob(input: WorkerInput): SelfIntersectionResult {
 		const built = buildBvhSorted(new Uint32Array(input.sortedCodes, 0, liveCount), slots.box, LEAF_SIZE, store);
 		Atomics.store(ctrl, CTRL_NODES, built.nodeCount);
 	}
+	for (let c = Atomics.add(ctrl, CTRL_CLEAR, 1); c * CLEAR_CHUNK < vertCount; c = Atomics.add(ctrl, CTRL_CLEAR, 1)) {
+		clearVertices(mesh.positions, mesh.indices, fanStart, fanFaces, c * CLEAR_CHUNK, Math.min(vertCount, (c + 1) * CLEAR_CHUNK), clear);
+	}
 	barrier(ctrl, 4, threads);
+	// Tree and clear flags are complete: the calling thread may join (help()).
+	if (index === 0) Atomics.store(ctrl, CTRL_READY, 1);
 	const bvh = bvhFromStore(store, Atomics.load(ctrl, CTRL_NODES));
-	const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh };
+	const prep: PreparedMesh = { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh, clear };
 	return findInPrepared(
 		prep,
 		{ sampleLimit: input.sampleLimit, taskTarget: input.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } },
@@ -215,6 +240,9 @@ function newScratch(faces: number, coords: number): SharedScratch {
 		faceOf: sab(4 * faces),
 		verts: sab(12 * faces),
 		box: sab(24 * faces),
+		fanStart: sab(4 * (Math.floor(coords / 3) + 1)),
+		fanFaces: sab(12 * faces),
+		clear: sab(Math.floor(coords / 3)),
 		nodeFirstChild: sab(4 * nodes),
 		nodeStart: sab(4 * nodes),
 		nodeCount: sab(4 * nodes),
@@ -222,7 +250,7 @@ function newScratch(faces: number, coords: number): SharedScratch {
 	};
 }
 
-/** Largest mesh whose buffers a pool keeps (about 90 bytes per face: 270 MB at this size); larger runs get buffers of their own. */
+/** Largest mesh whose buffers a pool keeps (about 105 bytes per face of a closed mesh: 315 MB at this size); larger runs get buffers of their own. */
 const KEEP_FACES_MAX = 3_000_000;
 
 let nextJob = 1;
@@ -392,7 +420,7 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions, pool
 		positions: posBuf,
 		positionCount: mesh.positions.length,
 		indices: idxBuf,
-		control: new SharedArrayBuffer(4 * 8),
+		control: new SharedArrayBuffer(4 * 16),
 		sampleLimit,
 		taskTarget: Math.max(DEFAULT_TASK_TARGET, 64 * threads)
 	};
@@ -452,9 +480,9 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions, pool
 	const help = (): number => {
 		if (settled || opts.signal?.aborted) return 0;
 		const ctrl = new Int32Array(data.control);
-		// The node count is stored after the tree is complete (runJob); 0 means not built yet.
+		// Set once the tree and the clear flags are complete (runJob); 0 means setup is still running.
+		if (Atomics.load(ctrl, CTRL_READY) === 0) return 0;
 		const nodeCount = Atomics.load(ctrl, CTRL_NODES);
-		if (nodeCount === 0) return 0;
 		const liveCount = Atomics.load(ctrl, CTRL_LIVE);
 		const store: BvhNodeStore = {
 			firstChild: new Int32Array(data.nodeFirstChild),
@@ -470,7 +498,8 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions, pool
 			faceOf: new Uint32Array(data.faceOf, 0, liveCount),
 			verts: new Uint32Array(data.verts, 0, 3 * liveCount),
 			box: new Float32Array(data.box, 0, 6 * liveCount),
-			bvh: bvhFromStore(store, nodeCount)
+			bvh: bvhFromStore(store, nodeCount),
+			clear: new Uint8Array(data.clear, 0, data.positionCount / 3)
 		};
 		const part = findInPrepared(prep, { sampleLimit, taskTarget: data.taskTarget, shard: { nextTask: () => Atomics.add(ctrl, CTRL_TASK, 1) } });
 		helperParts.push(part);
@@ -492,6 +521,7 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions, pool
 				buildMs,
 				traverseMs: Math.max(...parts.map((p) => p.stats?.traverseMs ?? 0)),
 				candidatePairs: parts.reduce((s, p) => s + (p.stats?.candidatePairs ?? 0), 0),
+				clearSkips: parts.reduce((s, p) => s + (p.stats?.clearSkips ?? 0), 0),
 				exactTests: parts.reduce((s, p) => s + (p.stats?.exactTests ?? 0), 0),
 				tasks: parts.reduce((s, p) => s + (p.stats?.tasks ?? 0), 0)
 			}

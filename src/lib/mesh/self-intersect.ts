@@ -22,9 +22,15 @@
  * Pairs sharing one vertex skip the segment tests when either opposite edge stays strictly on one
  * side of the other plane (the faces then meet only at the shared vertex).
  *
+ * Neighbours: most candidate pairs of a fine closed mesh share a vertex. Pairs sharing a vertex
+ * whose fan is clear (vertex-fans.ts: one closed fan that an exact coordinate projection lays out
+ * once around the vertex) provably do not count under the rule above and are passed over without
+ * a test; every other pair gets the exact test, so counts do not depend on it.
+ *
  * Memory per face: 3 vertex ids, the face id and a float32 box rounded outward (40 bytes), plus
- * about 0.4 BVH nodes of 36 bytes; corners are read from `positions` per pair. Touching fresh pages
- * is what setup time is made of on small VMs, so nothing else is copied.
+ * about 0.4 BVH nodes of 36 bytes; corners are read from `positions` per pair. The fans take 12
+ * bytes per face and 5 per vertex while the clear flags (1 byte per vertex) are found. Touching
+ * fresh pages is what setup time is made of on small VMs, so nothing else is copied.
  *
  * Splitting work: `faceRange` filters by the lower face index; `shard` splits the traversal into
  * tasks (used by self-intersect-node.ts). Both partition the pairs exactly.
@@ -35,6 +41,7 @@ import type { MeshBuffers } from './types';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
 import { validateMesh } from './validate';
 import { pointBounds } from './bounds';
+import { clearVertices, vertexFaces } from './vertex-fans';
 
 // Bound once (see predicates.ts: some loaders make each use of an import a getter call).
 const ccw2 = ccw2Import;
@@ -55,8 +62,10 @@ export interface SelfIntersectionSample {
 export interface SelfIntersectionStats {
 	buildMs: number;
 	traverseMs: number;
-	/** Triangle pairs whose boxes overlapped (each tested by the exact rule). */
+	/** Triangle pairs whose boxes overlapped (tested by the exact rule unless settled by a clear vertex). */
 	candidatePairs: number;
+	/** Candidate pairs sharing a clear vertex (vertex-fans.ts): settled without a test. */
+	clearSkips: number;
 	/** Calls that fell through the float filter to the exact predicate, plus exact line tests. */
 	exactTests: number;
 	/** Tasks this call ran (see `shard`). */
@@ -105,6 +114,11 @@ export interface PreparedMesh {
 	/** 6 per slot: closed box, float32 rounded outward (conservative; the exact test decides). */
 	box: Float32Array;
 	bvh: FlatBvh<Float32Array>;
+	/**
+	 * Per vertex: 1 when its fan can hold no counted pair (vertex-fans.ts), so pairs sharing that
+	 * vertex are passed over untested; null tests every pair.
+	 */
+	clear: Uint8Array | null;
 }
 
 /**
@@ -263,8 +277,9 @@ export const LEAF_SIZE = 8;
 /**
  * Gathers the non-degenerate faces and builds the hierarchy. Throws on malformed buffers.
  * Passes: validation; per face in file order (degeneracy, Morton code of the box centre); radix
- * sort; one gather into Morton order, from which boxes, planes and node bounds are computed
- * reading memory in sequence. self-intersect-node.ts runs the same passes split over workers.
+ * sort; one gather into Morton order, from which boxes and node bounds are computed reading
+ * memory in sequence; the faces around each vertex and the clear vertices (vertex-fans.ts).
+ * self-intersect-node.ts runs the same passes split over workers.
  */
 export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 	validateMesh(mesh);
@@ -277,7 +292,13 @@ export function prepareMesh(mesh: MeshBuffers): PreparedMesh {
 	const slots = allocSlotArrays(liveCount);
 	gatherSlots(mesh, slotFace, 0, liveCount, slots);
 	const bvh = buildBvhSorted(codes, slots.box, LEAF_SIZE);
-	return { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh };
+	const vertCount = mesh.positions.length / 3;
+	const fanStart = new Uint32Array(vertCount + 1);
+	const fanFaces = new Uint32Array(3 * liveCount);
+	vertexFaces(mesh.indices, vertCount, live, fanStart, fanFaces);
+	const clear = new Uint8Array(vertCount);
+	clearVertices(mesh.positions, mesh.indices, fanStart, fanFaces, 0, vertCount, clear);
+	return { faceCount, liveCount, degenerateSkipped: faceCount - liveCount, positions: mesh.positions, ...slots, bvh, clear };
 }
 
 /**
@@ -596,7 +617,9 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 	const sample: SelfIntersectionSample[] = [];
 	let pairs = 0;
 	let candidates = 0;
+	let clearSkips = 0;
 	let taskRuns = 0;
+	const clear = prep.clear ?? new Uint8Array(prep.positions.length / 3);
 
 	const tasks = makeTasks(bvh, opts.taskTarget ?? DEFAULT_TASK_TARGET);
 	const taskCount = tasks.length / 2;
@@ -672,6 +695,10 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 					(bounds[nb6] > maxX || bounds[nb6 + 3] < minX || bounds[nb6 + 1] > maxY || bounds[nb6 + 4] < minY || bounds[nb6 + 2] > maxZ || bounds[nb6 + 5] < minZ)
 				) continue;
 				let loaded = false;
+				const i3 = 3 * i;
+				const a0 = verts[i3], a1 = verts[i3 + 1], a2 = verts[i3 + 2];
+				const c0 = clear[a0], c1 = clear[a1], c2 = clear[a2];
+				const anyClear = c0 | c1 | c2;
 				for (let j = same ? i + 1 : sb; j < eb; j++) {
 					const j6 = 6 * j;
 					if (box[j6] > maxX || box[j6 + 3] < minX || box[j6 + 1] > maxY || box[j6 + 4] < minY || box[j6 + 2] > maxZ || box[j6 + 5] < minZ) continue;
@@ -680,6 +707,19 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 						if (lo < rangeFrom || lo >= rangeTo) continue;
 					}
 					candidates++;
+					if (anyClear) {
+						// A pair sharing a clear vertex (one or two shared, never three: vertex-fans.ts) cannot count.
+						const j3 = 3 * j;
+						const b0 = verts[j3], b1 = verts[j3 + 1], b2 = verts[j3 + 2];
+						if (
+							(c0 && (a0 === b0 || a0 === b1 || a0 === b2)) ||
+							(c1 && (a1 === b0 || a1 === b1 || a1 === b2)) ||
+							(c2 && (a2 === b0 || a2 === b1 || a2 === b2))
+						) {
+							clearSkips++;
+							continue;
+						}
+					}
 					if (!loaded) {
 						loadTriangle(ctx, 0, verts[3 * i], verts[3 * i + 1], verts[3 * i + 2]);
 						loaded = true;
@@ -708,7 +748,7 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 		sample,
 		degenerateSkipped: prep.degenerateSkipped,
 		ms: buildMs + traverseMs,
-		stats: { buildMs, traverseMs, candidatePairs: candidates, exactTests: ctx.exact, tasks: taskRuns }
+		stats: { buildMs, traverseMs, candidatePairs: candidates, clearSkips, exactTests: ctx.exact, tasks: taskRuns }
 	};
 }
 

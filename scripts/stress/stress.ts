@@ -535,7 +535,7 @@ async function uploadToVerdict(token: string, bytes: Uint8Array, name: string, p
 	// Where the time went, from the rows' own timestamps (MariaDB and this process share the clock).
 	const [t] = await q(
 		`SELECT j.created_at AS queued, (SELECT MIN(a.at) FROM audit_event a WHERE a.entity = 'revision' AND a.entity_id = CAST(j.revision_id AS CHAR) AND a.action = 'check-started') AS claimed,
-		 cr.created_at AS written, cr.duration_ms AS engine, j.finished_at AS finished, LENGTH(cr.report) AS report_bytes
+		 cr.created_at AS written, cr.duration_ms AS engine, j.finished_at AS finished, LENGTH(cr.report) AS report_bytes, JSON_EXTRACT(cr.report, '$.timings') AS timings
 		 FROM job j JOIN check_run cr ON cr.revision_id = j.revision_id WHERE j.revision_id = ? AND j.kind = 'check' ORDER BY j.id DESC, cr.id DESC LIMIT 1`,
 		[up.id]
 	);
@@ -552,7 +552,8 @@ async function uploadToVerdict(token: string, bytes: Uint8Array, name: string, p
 		writtenAt: at(t?.written),
 		finishedAt: at(t?.finished),
 		engineMs: Number(t?.engine ?? NaN),
-		reportBytes: Number(t?.report_bytes ?? NaN)
+		reportBytes: Number(t?.report_bytes ?? NaN),
+		stages: (typeof t?.timings === 'string' ? JSON.parse(t.timings) : (t?.timings ?? {})) as Record<string, number>
 	};
 }
 
@@ -603,6 +604,13 @@ async function latencyPhase(token: string) {
 		);
 		figures.push(
 			`latency breakdown, medians from the rows' timestamps (ms after the upload began): job queued ${f(pct(sum('queuedAt'), 50))}, acknowledged ${f(pct(sum('ackMs'), 50))}, claimed ${f(pct(sum('claimedAt'), 50))}, check row written ${f(pct(sum('writtenAt'), 50))} (engine's own total ${f(pct(sum('engineMs'), 50))}), job finished ${f(pct(sum('finishedAt'), 50))}, verdict seen ${f(pct(sum('verdictMs'), 50))}; report ${(pct(sum('reportBytes'), 50) / 1024).toFixed(0)} KB`
+		);
+		const stageNames = Object.keys(first.stages).filter((k) => k !== 'total');
+		figures.push(
+			`latency engine stages, first check after the start / median of the rest (ms): ${stageNames.map((k) => `${k} ${f(first.stages[k])}/${f(pct(rest.map((r) => r.stages[k] ?? NaN), 50))}`).join(', ')}; verdicts of checks 1-4: ${runs
+				.slice(0, 4)
+				.map((r) => f(r.verdictMs))
+				.join(', ')} ms`
 		);
 		figures.push(
 			`latency memory (MALLOC_TRIM_THRESHOLD_=${trim}): app RSS ${f(rssWarm)} MB warm, ${f(rss90)} MB after the 90 k checks, ${f(rssBig)} MB after a 1 M check (verdict ${f(big.verdictMs)} ms, engine ${f(big.engineMs)} ms), ${f(rssIdle)} MB 9 s later (thread retired and replaced), ${f(rssEnd)} MB after one more 90 k check (verdict ${f(after.verdictMs)} ms, engine ${f(after.engineMs)} ms)`

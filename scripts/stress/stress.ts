@@ -9,7 +9,11 @@
 //           severity, filtered by a rule) and on the run page when the build has one.
 //   ingest: a generator run of STRESS_RUN_FILES (1,000) distinct ~20 k-triangle meshes sent through the
 //           run route by 8 concurrent pipeline clients: files accepted per second, time to the last verdict.
-// STRESS_PHASES (load,faults,ingest,scale) picks phases; scale runs last since it grows the database.
+//   latency: one pipeline client on a warm server, one 90 k-triangle upload at a time: upload acknowledged
+//           and verdict available, p50/p95, the first check after the start on its own; then a 1 M check
+//           and the process's resident memory after it and once the engine thread that ran it retired,
+//           for each glibc trim threshold in STRESS_TRIM_THRESHOLDS.
+// STRESS_PHASES (load,faults,ingest,latency,scale) picks phases; scale runs last since it grows the database.
 import { spawn, type ChildProcess } from 'node:child_process';
 import { createWriteStream, existsSync, openAsBlob, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import http from 'node:http';
@@ -38,7 +42,7 @@ const LOAD_SECONDS = Number(process.env.STRESS_SECONDS ?? 80);
 const CELL = Number(process.env.STRESS_CELL ?? 0.0062); // tow body at this cell size: ~1.0 M triangles
 const P95_TARGET_MS = 300;
 const RUN_PAGE_TARGET_MS = 500;
-const PHASES = new Set((process.env.STRESS_PHASES ?? 'load,faults,ingest,scale').split(',').map((x) => x.trim()));
+const PHASES = new Set((process.env.STRESS_PHASES ?? 'load,faults,ingest,latency,scale').split(',').map((x) => x.trim()));
 const SCALE_SECONDS = Number(process.env.STRESS_SCALE_SECONDS ?? 30);
 
 const results: { name: string; ok: boolean; detail: string }[] = [];
@@ -52,12 +56,12 @@ function record(name: string, ok: boolean, detail: string) {
 
 // ---------- processes ----------
 const logs: string[] = [];
-function startApp(tag: string, checkWorkers: number): ChildProcess {
+function startApp(tag: string, checkWorkers: number, extraEnv: Record<string, string> = {}): ChildProcess {
 	const log = path.join(TMP, `app-${tag}.log`);
 	logs.push(log);
 	const out = createWriteStream(log);
 	const p = spawn(process.execPath, ['build'], {
-		env: { ...process.env, PORT: String(PORT), HOST: '127.0.0.1', ORIGIN: BASE, BODY_SIZE_LIMIT: 'Infinity', CHECK_WORKERS: String(checkWorkers) },
+		env: { ...process.env, PORT: String(PORT), HOST: '127.0.0.1', ORIGIN: BASE, BODY_SIZE_LIMIT: 'Infinity', CHECK_WORKERS: String(checkWorkers), ...extraEnv },
 		stdio: ['ignore', 'pipe', 'pipe']
 	});
 	p.stdout!.pipe(out);
@@ -146,12 +150,12 @@ async function createToken(cookie: string): Promise<string> {
 }
 
 /** Uploads a file as a pipeline does (raw body, bearer token); returns the revision id. */
-async function upload(token: string, file: string, name: string, part = 'keel-bulb-a', project = 'keel-bulbs'): Promise<{ id: number; ms: number; status: number }> {
+async function upload(token: string, file: string | Uint8Array, name: string, part = 'keel-bulb-a', project = 'keel-bulbs'): Promise<{ id: number; ms: number; status: number }> {
 	const t0 = performance.now();
 	const res = await fetch(`${BASE}/api/v1/projects/${project}/parts/${part}/revisions?fileName=${encodeURIComponent(name)}`, {
 		method: 'POST',
 		headers: { authorization: `Bearer ${token}`, 'content-type': 'application/octet-stream' },
-		body: await openAsBlob(file)
+		body: typeof file === 'string' ? await openAsBlob(file) : (file as Uint8Array<ArrayBuffer>)
 	});
 	const j = (await res.json().catch(() => ({}))) as { id?: number; message?: string };
 	if (res.status >= 300) throw new Error(`upload ${name}: ${res.status} ${j.message ?? ''}`);
@@ -261,6 +265,36 @@ async function pacedReaders(o: { readers: number; periodMs: number; durationS: n
 function describe(c: Cannon): string {
 	const r = c.result;
 	return `${r.requests.total} requests in ${r.duration} s (${r.requests.average.toFixed(0)} req/s), p50 ${c.p50.toFixed(0)} ms, p95 ${c.p95.toFixed(0)} ms, p99 ${c.p99.toFixed(0)} ms, max ${r.latency.max} ms; ${r.non2xx} non-2xx, ${r.errors} errors, ${r.timeouts} timeouts, ${r.connections} connections`;
+}
+
+/**
+ * A marching-cubes tow body of about `targetTris` triangles: triangles grow with 1/cell², so one
+ * coarse probe at `probeCell` picks the cell size. Seed 1 with a probe at 0.04 is the bench's own
+ * recipe (scripts/bench.ts), so the 90 k body here is the bench's 90 k case.
+ */
+function towBodyNear(targetTris: number, seed: number, probeCell: number) {
+	const s = towBody(seed);
+	const probe = marchingCubes(s.field, gridFor(s.min, s.max, probeCell));
+	const h = probeCell * Math.sqrt(probe.indices.length / 3 / targetTris);
+	return marchingCubes(s.field, gridFor(s.min, s.max, h));
+}
+
+const pct = (xs: number[], p: number) => {
+	const s = [...xs].sort((a, b) => a - b);
+	return s[Math.min(s.length - 1, Math.floor((p / 100) * s.length))] ?? NaN;
+};
+const loadAvg = () => readFileSync('/proc/loadavg', 'utf8').split(' ').slice(0, 3).join(' ');
+const rssMb = (pid: number) => Number(/VmRSS:\s+(\d+)/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'))?.[1] ?? NaN) / 1024;
+
+/** Until a line matching `re` is in the log file; null after `ms`. */
+async function waitLog(file: string, re: RegExp, ms: number): Promise<RegExpExecArray | null> {
+	const t0 = Date.now();
+	while (Date.now() - t0 < ms) {
+		const m = existsSync(file) ? re.exec(readFileSync(file, 'utf8')) : null;
+		if (m) return m;
+		await sleep(100);
+	}
+	return null;
 }
 
 // ---------- phases ----------
@@ -434,11 +468,7 @@ const RUN_FILES = Number(process.env.STRESS_RUN_FILES ?? 1000);
  * upload pool would send them; the app checks with two engine threads (CHECK_WORKERS=2).
  */
 async function ingestPhase(token: string) {
-	const s = towBody(3);
-	// The tow body at a grid of 0.05 gives about 8 k triangles; triangles grow with 1/h².
-	const probe = marchingCubes(s.field, gridFor(s.min, s.max, 0.05));
-	const h = 0.05 * Math.sqrt(probe.indices.length / 3 / 20_000);
-	const mesh = marchingCubes(s.field, gridFor(s.min, s.max, h));
+	const mesh = towBodyNear(20_000, 3, 0.05);
 	const tris = mesh.indices.length / 3;
 	const bodies = Array.from({ length: RUN_FILES }, (_, i) => writeBinaryStl(mesh, `stress run sample ${i} ${Date.now()}`));
 	process.env.RUN_DIGEST_SETTLE_MS ??= '3000';
@@ -480,6 +510,118 @@ async function ingestPhase(token: string) {
 	const [dig] = await q("SELECT COUNT(*) AS n FROM mail_outbox WHERE subject LIKE ?", [`%${runName}%`]);
 	figures.push(`ingest: ${Number(dig.n)} digest mail(s) queued for the run (settle time ${process.env.RUN_DIGEST_SETTLE_MS ?? 'default'} ms)`);
 	await stop(app);
+}
+
+const LATENCY_RUNS = Number(process.env.STRESS_LATENCY_RUNS ?? 20);
+/** How often the latency phase looks for the verdict (a primary-key read in MariaDB, not through the app). */
+const VERDICT_POLL_MS = 5;
+
+/** One upload, then its verdict: the revision row polled in MariaDB, then confirmed once through the API. */
+async function uploadToVerdict(token: string, bytes: Uint8Array, name: string, part: string) {
+	const t0 = performance.now();
+	const epoch0 = Date.now();
+	const up = await upload(token, bytes, name, part, 'keel-bulbs');
+	const ackMs = performance.now() - t0;
+	let status = 'awaiting-check';
+	for (let i = 0; i < 60_000 && ['awaiting-check', 'checking'].includes(status); i++) {
+		const [r] = await q('SELECT status FROM revision WHERE id = ?', [up.id]);
+		status = String(r?.status);
+		if (['awaiting-check', 'checking'].includes(status)) await sleep(VERDICT_POLL_MS);
+	}
+	const verdictMs = performance.now() - t0;
+	const res = await fetch(`${BASE}/api/v1/revisions/${up.id}?report=0`, { headers: { authorization: `Bearer ${token}` } });
+	const api = (await res.json()) as { status?: string };
+	const apiMs = performance.now() - t0;
+	// Where the time went, from the rows' own timestamps (MariaDB and this process share the clock).
+	const [t] = await q(
+		`SELECT j.created_at AS queued, (SELECT MIN(a.at) FROM audit_event a WHERE a.entity = 'revision' AND a.entity_id = CAST(j.revision_id AS CHAR) AND a.action = 'check-started') AS claimed,
+		 cr.created_at AS written, cr.duration_ms AS engine, j.finished_at AS finished, LENGTH(cr.report) AS report_bytes, JSON_EXTRACT(cr.report, '$.timings') AS timings
+		 FROM job j JOIN check_run cr ON cr.revision_id = j.revision_id WHERE j.revision_id = ? AND j.kind = 'check' ORDER BY j.id DESC, cr.id DESC LIMIT 1`,
+		[up.id]
+	);
+	const at = (d: unknown) => (d instanceof Date ? d.getTime() - epoch0 : NaN);
+	return {
+		id: up.id,
+		status,
+		apiStatus: api.status,
+		ackMs,
+		verdictMs,
+		apiMs,
+		queuedAt: at(t?.queued),
+		claimedAt: at(t?.claimed),
+		writtenAt: at(t?.written),
+		finishedAt: at(t?.finished),
+		engineMs: Number(t?.engine ?? NaN),
+		reportBytes: Number(t?.report_bytes ?? NaN),
+		stages: (typeof t?.timings === 'string' ? JSON.parse(t.timings) : (t?.timings ?? {})) as Record<string, number>
+	};
+}
+
+/**
+ * Upload to verdict on a warm server, one upload at a time, as a pipeline that waits for each
+ * verdict sends them. Per trim threshold: a fresh app (CHECK_WORKERS=1), its engine thread warm,
+ * then LATENCY_RUNS distinct copies of the bench's 90 k tow body; the first is the first check
+ * after the start. Then one 1 M upload, and the app's resident memory after its verdict and once
+ * the engine thread that ran it retired (5 s idle) and a fresh warm one took its place.
+ */
+async function latencyPhase(token: string) {
+	const tG = performance.now();
+	const m90 = towBodyNear(90_000, 1, 0.04);
+	const shape = towBody(1);
+	const m1m = marchingCubes(shape.field, gridFor(shape.min, shape.max, CELL));
+	const tris90 = m90.indices.length / 3;
+	figures.push(`latency meshes: ${tris90.toLocaleString('en')} triangles (${(writeBinaryStl(m90).length / 1e6).toFixed(1)} MB) and ${(m1m.indices.length / 3).toLocaleString('en')} triangles, made in ${((performance.now() - tG) / 1000).toFixed(1)} s`);
+	const thresholds = (process.env.STRESS_TRIM_THRESHOLDS ?? process.env.MALLOC_TRIM_THRESHOLD_ ?? '1073741824').split(',').map((x) => x.trim()).filter(Boolean);
+	let copy = 0;
+	const body = (m: typeof m90) => writeBinaryStl(m, `stress latency copy ${copy++} ${Date.now()}`);
+	for (const trim of thresholds) {
+		const tag = `latency-trim-${trim}`;
+		const t0 = performance.now();
+		const app = startApp(tag, 1, { MALLOC_TRIM_THRESHOLD_: trim });
+		await waitHttp();
+		const warm = await waitLog(path.join(TMP, `app-${tag}.log`), /engine threads warm in (\d+) ms/, 120_000);
+		const startedS = (performance.now() - t0) / 1000;
+		const rssWarm = rssMb(app.pid!);
+		const runs: Awaited<ReturnType<typeof uploadToVerdict>>[] = [];
+		for (let i = 0; i < LATENCY_RUNS; i++) runs.push(await uploadToVerdict(token, body(m90), `latency-${i}.stl`, `latency-90k-${trim}`));
+		const rss90 = rssMb(app.pid!);
+		const big = await uploadToVerdict(token, body(m1m), 'latency-1m.stl', `latency-1m-${trim}`);
+		const rssBig = rssMb(app.pid!);
+		// The thread that ran the 1 M file retires after 5 s idle; its replacement warms up beside.
+		await sleep(5000 + 4000);
+		const rssIdle = rssMb(app.pid!);
+		const after = await uploadToVerdict(token, body(m90), 'latency-after-1m.stl', `latency-90k-${trim}`);
+		const rssEnd = rssMb(app.pid!);
+		await stop(app);
+		const [first, ...rest] = runs;
+		const f = (x: number) => x.toFixed(0);
+		const ps = (xs: number[]) => `p50 ${f(pct(xs, 50))} ms, p95 ${f(pct(xs, 95))} ms`;
+		const sum = (k: 'ackMs' | 'verdictMs' | 'apiMs' | 'queuedAt' | 'claimedAt' | 'writtenAt' | 'finishedAt' | 'engineMs' | 'reportBytes') => rest.map((r) => r[k]);
+		figures.push(
+			`latency (MALLOC_TRIM_THRESHOLD_=${trim}): app answering and engine thread warm ${startedS.toFixed(1)} s after start (warm-up ${warm?.[1] ?? '?'} ms); ${tris90.toLocaleString('en')}-triangle uploads one at a time, ${rest.length} after the first: ` +
+				`acknowledged ${ps(sum('ackMs'))}; verdict ${ps(sum('verdictMs'))} (MariaDB polled every ${VERDICT_POLL_MS} ms; through the API ${ps(sum('apiMs'))}); ` +
+				`first check after the start: acknowledged ${f(first.ackMs)} ms, verdict ${f(first.verdictMs)} ms (engine ${f(first.engineMs)} ms); load average ${loadAvg()}`
+		);
+		figures.push(
+			`latency breakdown, medians from the rows' timestamps (ms after the upload began): job queued ${f(pct(sum('queuedAt'), 50))}, acknowledged ${f(pct(sum('ackMs'), 50))}, claimed ${f(pct(sum('claimedAt'), 50))}, check row written ${f(pct(sum('writtenAt'), 50))} (engine's own total ${f(pct(sum('engineMs'), 50))}), job finished ${f(pct(sum('finishedAt'), 50))}, verdict seen ${f(pct(sum('verdictMs'), 50))}; report ${(pct(sum('reportBytes'), 50) / 1024).toFixed(0)} KB`
+		);
+		const stageNames = Object.keys(first.stages).filter((k) => k !== 'total');
+		figures.push(
+			`latency engine stages, first check after the start / median of the rest (ms): ${stageNames.map((k) => `${k} ${f(first.stages[k])}/${f(pct(rest.map((r) => r.stages[k] ?? NaN), 50))}`).join(', ')}; verdicts of checks 1-4: ${runs
+				.slice(0, 4)
+				.map((r) => f(r.verdictMs))
+				.join(', ')} ms`
+		);
+		figures.push(
+			`latency memory (MALLOC_TRIM_THRESHOLD_=${trim}): app RSS ${f(rssWarm)} MB warm, ${f(rss90)} MB after the 90 k checks, ${f(rssBig)} MB after a 1 M check (verdict ${f(big.verdictMs)} ms, engine ${f(big.engineMs)} ms), ${f(rssIdle)} MB 9 s later (thread retired and replaced), ${f(rssEnd)} MB after one more 90 k check (verdict ${f(after.verdictMs)} ms, engine ${f(after.engineMs)} ms)`
+		);
+		const all = [...runs, big, after];
+		record(
+			`latency (trim ${trim}): every upload got its verdict`,
+			all.every((r) => !['awaiting-check', 'checking'].includes(r.status) && r.apiStatus === r.status),
+			`${all.length} uploads, states ${[...new Set(all.map((r) => r.status))].join(', ')}, API agreed on ${all.filter((r) => r.apiStatus === r.status).length}`
+		);
+	}
 }
 
 async function scalePhase(token: string, cookie: string) {
@@ -563,6 +705,10 @@ async function main() {
 		const last = await serverKillPhase(token, killFiles);
 		await secretsInLogs(token);
 		await stop(last);
+	}
+	if (PHASES.has('latency')) {
+		say(`latency: ${LATENCY_RUNS} uploads of a 90 k mesh to their verdicts, one at a time, then a 1 M check and the memory after it`);
+		await latencyPhase(token);
 	}
 	if (PHASES.has('ingest')) {
 		say(`ingest: a run of ${RUN_FILES} meshes through the run route`);

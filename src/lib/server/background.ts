@@ -7,6 +7,7 @@ import { sendRunDigests } from './run-digest';
 import { config } from './config';
 import { closeEngineThreads, warmEngineThreads } from './jobs/check';
 import { runWorkerLoop } from './jobs/runner';
+import { JobWake } from './jobs/wake';
 
 const KEY = Symbol.for('shellgate.background');
 
@@ -30,15 +31,25 @@ export function startBackground(): void {
 		}
 	}, 1000);
 	timer.unref();
-	// In-process check workers (CHECK_WORKERS, default 1; 0 leaves checks to `npm run worker`).
+	// In-process check workers (CHECK_WORKERS, default 1; 0 leaves checks to `npm run worker`),
+	// woken at once by a job this process queues (an upload, re-check or repair).
 	const controller = new AbortController();
-	for (let i = 0; i < config.checkWorkers; i++) void runWorkerLoop({ db: getDb, signal: controller.signal });
+	const wake = new JobWake();
+	if (config.checkWorkers > 0) wake.listen();
+	for (let i = 0; i < config.checkWorkers; i++) void runWorkerLoop({ db: getDb, signal: controller.signal, wake });
 	// Engine threads start and warm up now, so the first check after a start is not the slow one.
-	if (config.checkWorkers > 0) warmEngineThreads().catch(() => {});
+	if (config.checkWorkers > 0) {
+		const t0 = performance.now();
+		warmEngineThreads().then(
+			() => console.log(`[shellgate] engine threads warm in ${Math.round(performance.now() - t0)} ms`),
+			(e) => console.error('[shellgate] warming the engine threads failed:', (e as Error)?.message ?? e)
+		);
+	}
 	// adapter-node emits this after it stops accepting requests (SIGTERM/SIGINT): stop the loops and
 	// close the pool so the process can exit by itself.
 	process.once('sveltekit:shutdown' as 'exit', () => {
 		controller.abort();
+		wake.close();
 		clearInterval(timer);
 		void closeDb();
 		void closeEngineThreads();

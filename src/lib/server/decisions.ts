@@ -7,6 +7,7 @@ import { config } from './config';
 import type { Db } from './db';
 import { decision, gateProfile } from './db/schema';
 import { enqueueCheck } from './jobs/queue';
+import { jobsQueued } from './jobs/wake';
 import { repairSignOffGuard, type OverrideInput } from './repair-limits';
 import { applyEvent } from './revision-events';
 import { assertCan, latestCheck, type RevisionContext } from './revisions';
@@ -69,4 +70,5 @@ export async function signOff(db: Db, u: SessionUser, ctx: RevisionContext, note
 export async function recheck(db: Db, u: SessionUser, ctx: RevisionContext): Promise<void> {
 	assertCan(u, 'recheck');
 	await applyEvent(db, ctx.rev.id, 'recheck', { actor: u, after: (tx) => enqueueCheck(tx, ctx.rev.id, config.checkAttempts) });
+	jobsQueued();
 }

@@ -8,6 +8,7 @@ import type { Db } from './db';
 import * as schema from './db/schema';
 import { part, revision, storedFile, type RevisionState } from './db/schema';
 import { enqueueCheck } from './jobs/queue';
+import { jobsQueued } from './jobs/wake';
 import { queueChanged } from './queue-view';
 import { storedMeasures } from './repair-limits';
 import { assertCan, findProjectForUser } from './revisions';
@@ -128,6 +129,8 @@ export async function ingestRevision(db: Db, input: IngestInput): Promise<Ingest
 			try {
 				const res = await ingestLocked(cdb, input, proj, fileName, ext);
 				queueChanged();
+				// The check job is committed: this process's check loops start on it now.
+				if (res.duplicateOf === null) jobsQueued();
 				return res;
 			} finally {
 				await conn.query('SELECT RELEASE_LOCK(?)', [lockName]).catch(() => {});

@@ -8,6 +8,7 @@ import { config } from './config';
 import type { Db } from './db';
 import { job, part, recipe, revision } from './db/schema';
 import { enqueueRepair } from './jobs/queue';
+import { jobsQueued } from './jobs/wake';
 import type { RepairPayload } from './jobs/repair';
 import { assertCan, findProjectForUser, loadRevisionForUser } from './revisions';
 import { DomainError } from '../domain-error';
@@ -44,6 +45,7 @@ export async function proposeRepair(db: Db, u: SessionUser, revisionId: number, 
 		await enqueueRepair(tx, ctx.rev.id, payload, config.checkAttempts);
 		await audit(tx, u.id, 'revision', ctx.rev.id, 'repair-requested', null, null, { recipe: recipeName, steps: steps.length });
 	});
+	jobsQueued();
 }
 
 export async function saveRecipe(db: Db, u: SessionUser, projectSlug: string, name: string, steps: RepairStep[]): Promise<number> {

@@ -10,6 +10,8 @@ import { useFreshDatabase } from '../testing/db';
 import { fixture, seededUsers, uploadBytes } from '../testing/fixtures';
 import { processCheckJob } from './check';
 import { claimJob } from './queue';
+import { runWorkerLoop } from './runner';
+import { JobWake } from './wake';
 import { recheck } from '../decisions';
 import { loadRevisionForUser } from '../revisions';
 
@@ -163,5 +165,34 @@ describe('check jobs on the real MariaDB', () => {
 		const audits = await db.select().from(auditEvent).where(eq(auditEvent.entityId, String(up.revisionId)));
 		expect(audits.map((a) => a.action)).toContain('check-incomplete');
 		expect(audits.map((a) => a.action)).not.toContain('unreadable');
+	});
+
+	it('a worker loop idle on an empty queue starts on an upload of its own process at once, not after its idle poll', async () => {
+		const db = getDb();
+		const wake = new JobWake().listen();
+		const stop = new AbortController();
+		const outcomes: string[] = [];
+		// An idle poll far longer than the test waits: only the wake-up can start this check.
+		const loop = runWorkerLoop({ db: getDb, workerId: 'woken-worker', idleMs: 10 * 60_000, wake, signal: stop.signal, onResult: (_id, o) => outcomes.push(o) });
+		try {
+			// Let the loop find the queue empty and go to sleep.
+			await new Promise((r) => setTimeout(r, 300));
+			const base = new TextDecoder().decode(fixture('cube-closed-ascii.stl'));
+			const up = await uploadBytes(db, users.designer, new TextEncoder().encode(base + '\n'.repeat(20)), 'woken.stl', 'sensor-pods', 'woken-pod');
+			let status = 'awaiting-check';
+			for (let i = 0; i < 600 && ['awaiting-check', 'checking'].includes(status); i++) {
+				await new Promise((r) => setTimeout(r, 50));
+				[{ status }] = await db.select({ status: revision.status }).from(revision).where(eq(revision.id, up.revisionId));
+			}
+			expect(status).toBe('clear');
+			expect(outcomes).toEqual(['done']);
+			const [j] = await db.select().from(job).where(eq(job.revisionId, up.revisionId));
+			expect(j.workerId).toBe('woken-worker');
+			expect(j.attempts).toBe(1);
+		} finally {
+			stop.abort();
+			wake.close();
+			await loop;
+		}
 	});
 });

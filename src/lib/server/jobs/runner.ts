@@ -1,16 +1,21 @@
-// Worker loops: claim a job, process it, repeat; sleep briefly when the queue is empty. The loop
-// itself only does database I/O; the engine always runs in a worker thread (see check.ts).
+// Worker loops: claim a job, process it, repeat; when the queue is empty, sleep until this process
+// queues a job (wake.ts) or `idleMs` passed, whichever comes first. The loop itself only does
+// database I/O; the engine always runs in a worker thread (see check.ts).
 import { hostname } from 'node:os';
 import { config } from '../config';
 import type { Db } from '../db';
 import { processCheckJob } from './check';
 import { processRepairJob } from './repair';
 import { claimJob } from './queue';
+import { JobWake } from './wake';
 
 export interface WorkerLoopOptions {
 	db: () => Db;
 	workerId?: string;
+	/** Longest sleep on an empty queue, for jobs queued by other processes (default 500 ms). */
 	idleMs?: number;
+	/** Ends an idle sleep early when this process queues a job; the loops' owner listens and closes it. */
+	wake?: JobWake;
 	signal: AbortSignal;
 	onResult?: (jobId: number, outcome: string) => void;
 }
@@ -33,11 +38,14 @@ const sleep = (ms: number, signal: AbortSignal) =>
 export async function runWorkerLoop(opts: WorkerLoopOptions): Promise<void> {
 	const workerId = opts.workerId ?? newWorkerId();
 	const idle = opts.idleMs ?? 500;
+	const wake = opts.wake ?? new JobWake();
 	while (!opts.signal.aborted) {
 		try {
+			// Read before the claim: a job queued while the claim runs ends the sleep below at once.
+			const mark = wake.mark;
 			const j = await claimJob(opts.db(), workerId);
 			if (!j) {
-				await sleep(idle, opts.signal);
+				await wake.sleep(idle, opts.signal, mark);
 				continue;
 			}
 			const outcome = await (j.kind === 'repair' ? processRepairJob : processCheckJob)(opts.db(), j, workerId, { timeLimitMs: config.checkTimeLimitMs, memoryLimitMb: config.checkMemoryLimitMb }, opts.signal);

@@ -4,8 +4,11 @@ import { closeDb, getDb } from '../db';
 import { config } from '../config';
 import { closeEngineThreads, warmEngineThreads } from './check';
 import { newWorkerId, runWorkerLoop } from './runner';
+import { JobWake } from './wake';
 
 const controller = new AbortController();
+// A repair's result is ingested here, and its check queued here: the loops hear of it at once.
+const wake = new JobWake().listen();
 const n = Math.max(1, config.checkWorkers);
 process.on('SIGINT', () => controller.abort());
 process.on('SIGTERM', () => controller.abort());
@@ -17,9 +20,11 @@ await Promise.all(
 			db: getDb,
 			workerId: newWorkerId(`standalone${i}`),
 			signal: controller.signal,
+			wake,
 			onResult: (id, outcome) => console.log(`[shellgate] job ${id}: ${outcome}`)
 		})
 	)
 );
+wake.close();
 await closeEngineThreads();
 await closeDb();

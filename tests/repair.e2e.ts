@@ -103,6 +103,21 @@ test('a repair outside its limits is held, shows the limits table, and the revie
 	await expect(page.getByTestId('repair-verdict')).toContainText('Held for a reviewer: area outside its limit');
 	await expect(page.getByTestId('deviation')).toContainText('within the deviation limit');
 	await expect(page.getByTestId('override-needed')).toBeVisible();
+	// The viewer's deviation against the original: the filled face moved no vertex, so only the
+	// new faces' centres show the move. Its samples (vertices and face centres of this revision)
+	// are a subset of the server's (both sides, plus points spread by area), so its largest is
+	// above zero and not above the server's Hausdorff figure.
+	const toMm = (t: string) => {
+		const m = /([\d.,]+)\s*(µm|mm|cm|m)\b/.exec(t)!;
+		return Number(m[1].replace(/,/g, '')) * { µm: 1e-3, mm: 1, cm: 10, m: 1000 }[m[2] as 'mm'];
+	};
+	const serverMax = toMm(/Hausdorff\)\s*([^;]+)/.exec((await page.getByTestId('deviation').textContent())!)![1]);
+	await expect(page.getByTestId('mesh-viewer')).toHaveAttribute('data-compare', 'ready', { timeout: 60_000 });
+	await page.getByTestId('viewer-compare-mode').selectOption('deviation');
+	await expect(page.getByTestId('viewer-deviation')).toContainText('max', { timeout: 60_000 });
+	const viewerMax = toMm(/face centres\)\s*(.+?)·/.exec((await page.getByTestId('viewer-deviation').textContent())!)![1]);
+	expect(viewerMax).toBeGreaterThan(0);
+	expect(viewerMax).toBeLessThanOrEqual(serverMax * 1.01);
 	await page.screenshot({ path: shot('repair-held-limits'), fullPage: true });
 	await page.getByLabel('Override reason (required)').fill('the missing face was an export slip; the filled cap is the designed lid');
 	await page.getByRole('button', { name: 'Override the limits and sign off' }).click();

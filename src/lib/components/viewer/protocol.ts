@@ -56,8 +56,9 @@ export type LoadReply =
 
 export interface DeviationRequest {
 	type: 'deviation';
-	/** Vertices measured (3 per vertex). */
+	/** Vertices measured (3 per vertex), and their faces (3 per face: each face's centre is measured too). */
 	positions: Float32Array;
+	indices: Uint32Array;
 	/** Surface measured against. */
 	targetPositions: Float32Array;
 	targetIndices: Uint32Array;
@@ -65,7 +66,7 @@ export interface DeviationRequest {
 
 export type DeviationReply =
 	| { type: 'progress'; done: number; total: number }
-	| { type: 'result'; distances: Float32Array; max: number; mean: number; ms: number }
+	| { type: 'result'; distances: Float32Array; faceDistances: Float32Array; max: number; mean: number; ms: number }
 	| { type: 'error'; message: string };
 
 /** Wall thickness and gap width per vertex in target cells (thickness.ts rays, run in a worker). */

@@ -155,8 +155,8 @@ export class ViewerScene {
 		this.mesh.setColourMode(mode);
 		this.requestRender();
 	}
-	setDeviation(distances: Float32Array | null, max: number): void {
-		this.mesh.setDeviation(distances, max);
+	setDeviation(distances: Float32Array | null, faces: Float32Array | null, max: number): void {
+		this.mesh.setDeviation(distances, faces, max);
 		if (this.compare.mode === 'deviation') this.mesh.setColourMode(distances ? 'deviation' : 'plain');
 		this.requestRender();
 	}
@@ -168,10 +168,6 @@ export class ViewerScene {
 	/** Positions and indices of the loaded mesh: the live arrays behind the GPU buffers; callers copy before transferring. */
 	meshBuffers(): { positions: Float32Array; indices: Uint32Array } | null {
 		return this.mesh.buffers();
-	}
-	/** Positions of the loaded mesh: the live array behind the GPU buffer, not a copy; callers copy before transferring. */
-	meshPositions(): Float32Array | null {
-		return this.mesh.buffers()?.positions ?? null;
 	}
 
 	setSection(on: boolean, axis: SectionAxis, t: number, flip = false): void {

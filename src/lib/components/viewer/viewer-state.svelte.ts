@@ -211,19 +211,19 @@ export class ViewerState {
 
 	/** Distance of each vertex to the compare revision, computed once per pair when first asked for. */
 	measureDeviation(s: ViewerScene): (() => void) | undefined {
-		const a = s.meshPositions(), b = s.compareBuffers();
+		const a = s.meshBuffers(), b = s.compareBuffers();
 		if (!a || !b) return;
 		this.deviationProgress = 0;
 		// Copies: the page keeps its buffers for drawing and picking.
-		const pa = a.slice(), pb = b.positions.slice(), ib = b.indices.slice();
+		const pa = a.positions.slice(), ia = a.indices.slice(), pb = b.positions.slice(), ib = b.indices.slice();
 		return runWorker<DeviationRequest, DeviationReply>(
 			deviationWorker,
-			{ type: 'deviation', positions: pa, targetPositions: pb, targetIndices: ib },
-			[pa.buffer, pb.buffer, ib.buffer],
+			{ type: 'deviation', positions: pa, indices: ia, targetPositions: pb, targetIndices: ib },
+			[pa.buffer, ia.buffer, pb.buffer, ib.buffer],
 			(m, done) => {
 				if (m.type === 'progress') this.deviationProgress = m.done / m.total;
 				else if (m.type === 'result') {
-					s.setDeviation(m.distances, m.max);
+					s.setDeviation(m.distances, m.faceDistances, m.max);
 					this.deviation = { max: m.max, mean: m.mean, ms: m.ms };
 					this.deviationProgress = null;
 					done();

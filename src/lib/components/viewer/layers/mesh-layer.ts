@@ -1,7 +1,7 @@
 /**
  * The part itself: the mesh (first the file's own triangles of a large binary STL, then the welded
  * mesh in their place), its coarse stand-in drawn while the camera moves, wireframe, the colourings
- * (plain, by shell, deviation, wall or gap in cells; per vertex) and picking through the
+ * (plain, by shell, wall or gap in cells per vertex; deviation per face corner) and picking through the
  * three-mesh-bvh tree. Face subsets for the overlays share its position buffer.
  */
 import {
@@ -42,7 +42,7 @@ export interface MeshHit {
 	point: [number, number, number];
 	face: number;
 	shell: number;
-	/** Deviation at the point (interpolated from the face's vertices) while the deviation colouring is shown. */
+	/** Deviation at the point (interpolated from the face's corners, as drawn) while the deviation colouring is shown. */
 	deviation?: number;
 	/** Wall thickness or gap width at the point, in cells, while that colouring is shown. */
 	cells?: number;
@@ -105,7 +105,14 @@ export class MeshLayer {
 	private triCount = 0;
 	private faceShell: Int32Array | null = null;
 	private colourMode: ColourMode = 'plain';
-	private deviation: { distances: Float32Array; max: number } | null = null;
+	private deviation: { distances: Float32Array; faces: Float32Array; max: number } | null = null;
+	/**
+	 * The deviation colouring, drawn instead of the mesh: its faces unshared (9 floats each), each
+	 * corner coloured by the larger of its vertex's and its face centre's distance, so a face whose
+	 * centre moved (a filled hole's cap moves no vertex) shows, and no face is drawn below either
+	 * sample. The mesh stays for picking, its material hidden.
+	 */
+	private faceView: Mesh | null = null;
 	/** Per-vertex wall and gap in cells, and the top of the colour scale (cells). */
 	private cellField: { wall: Float32Array; gap: Float32Array; scaleCells: number } | null = null;
 	private shellColours: Float32Array | null = null;
@@ -224,6 +231,7 @@ export class MeshLayer {
 		if (!this.proxy || !this.mesh || !this.shownAt) return;
 		this.proxy.visible = coarse;
 		this.mesh.visible = !coarse;
+		if (this.faceView) this.faceView.visible = !coarse;
 		if (this.wire) this.wire.visible = this.wire.userData.on && !coarse;
 	}
 
@@ -257,6 +265,7 @@ export class MeshLayer {
 	}
 
 	private clear(): void {
+		this.dropFaceView();
 		for (const m of [this.mesh, this.wire]) {
 			if (!m) continue;
 			this.group.remove(m);
@@ -302,8 +311,9 @@ export class MeshLayer {
 		return this.colourMode;
 	}
 
-	setDeviation(distances: Float32Array | null, max: number): void {
-		this.deviation = distances ? { distances, max } : null;
+	/** Distance of each vertex and of each face's centre to the compared revision; max: the top of the colour scale. */
+	setDeviation(distances: Float32Array | null, faces: Float32Array | null, max: number): void {
+		this.deviation = distances && faces ? { distances, faces, max } : null;
 		if (this.colourMode === 'deviation') this.applyColours();
 	}
 
@@ -317,8 +327,53 @@ export class MeshLayer {
 		if (this.colourMode === 'wall' || this.colourMode === 'gap') this.applyColours();
 	}
 
+	private dropFaceView(): void {
+		if (!this.faceView) return;
+		this.group.remove(this.faceView);
+		this.faceView.geometry.dispose();
+		(this.faceView.material as Material).dispose();
+		this.faceView = null;
+		if (this.mesh) (this.mesh.material as Material).visible = true;
+	}
+
+	/** The deviation value drawn at corner k of face t. */
+	private cornerDeviation(t: number, v: number): number {
+		const d = this.deviation!;
+		return Math.max(d.distances[v], d.faces[t]);
+	}
+
+	private showFaceView(geom: BufferGeometry, ia: Uint32Array): void {
+		const p = geom.getAttribute('position').array as Float32Array;
+		const T = this.triCount;
+		const pos = new Float32Array(9 * T), col = new Float32Array(9 * T);
+		const inv = this.deviation!.max > 0 ? 1 / this.deviation!.max : 0;
+		for (let t = 0; t < T; t++) {
+			for (let k = 0; k < 3; k++) {
+				const v = ia[3 * t + k], o = 9 * t + 3 * k;
+				pos[o] = p[3 * v];
+				pos[o + 1] = p[3 * v + 1];
+				pos[o + 2] = p[3 * v + 2];
+				rampColour(this.cornerDeviation(t, v) * inv, col, o);
+			}
+		}
+		const g = new BufferGeometry();
+		g.setAttribute('position', new BufferAttribute(pos, 3));
+		g.setAttribute('color', new BufferAttribute(col, 3));
+		g.boundingBox = geom.boundingBox;
+		g.boundingSphere = geom.boundingSphere;
+		const mat = meshMaterial('#ffffff');
+		mat.vertexColors = true;
+		const view = new Mesh(g, mat);
+		view.raycast = () => {};
+		view.visible = this.mesh!.visible;
+		this.faceView = view;
+		this.group.add(view);
+		(this.mesh!.material as Material).visible = false;
+	}
+
 	private applyColours(): void {
 		if (!this.mesh) return;
+		this.dropFaceView();
 		const geom = this.mesh.geometry;
 		const mat = this.mesh.material as MeshLambertMaterial;
 		const vertCount = geom.getAttribute('position').count;
@@ -338,10 +393,8 @@ export class MeshLayer {
 				this.shellColours = colours;
 			}
 			colours = this.shellColours;
-		} else if (this.colourMode === 'deviation' && this.deviation && this.deviation.distances.length === vertCount) {
-			colours = new Float32Array(3 * vertCount);
-			const inv = this.deviation.max > 0 ? 1 / this.deviation.max : 0;
-			for (let v = 0; v < vertCount; v++) rampColour(this.deviation.distances[v] * inv, colours, 3 * v);
+		} else if (this.colourMode === 'deviation' && this.deviation && idx && this.deviation.distances.length === vertCount && this.deviation.faces.length === this.triCount) {
+			this.showFaceView(geom, idx.array as Uint32Array);
 		} else if ((this.colourMode === 'wall' || this.colourMode === 'gap') && this.cellField && this.cellField.wall.length === vertCount) {
 			// Thin (dark end of the ramp) to wide enough (bright end) at scaleCells and above.
 			const f = this.colourMode === 'wall' ? this.cellField.wall : this.cellField.gap;
@@ -374,7 +427,10 @@ export class MeshLayer {
 			if (section && section.distanceToPoint(h.point) < 0) continue;
 			const face = h.faceIndex ?? -1;
 			const hit: MeshHit = { point: [h.point.x, h.point.y, h.point.z], face, shell: this.faceShell && face >= 0 ? this.faceShell[face] : -1 };
-			if (this.colourMode === 'deviation' && this.deviation && h.face) hit.deviation = this.fieldAt(this.deviation.distances, h.point, h.face.a, h.face.b, h.face.c);
+			if (this.faceView && h.face && face >= 0) {
+				const { a, b, c } = h.face;
+				hit.deviation = this.blend(h.point, a, b, c, this.cornerDeviation(face, a), this.cornerDeviation(face, b), this.cornerDeviation(face, c));
+			}
 			if ((this.colourMode === 'wall' || this.colourMode === 'gap') && this.cellField && h.face) {
 				hit.cells = this.fieldAt(this.colourMode === 'wall' ? this.cellField.wall : this.cellField.gap, h.point, h.face.a, h.face.b, h.face.c);
 			}
@@ -385,11 +441,16 @@ export class MeshLayer {
 
 	/** A per-vertex field at a point of face a, b, c (barycentric). */
 	private fieldAt(d: Float32Array, p: Vector3, a: number, b: number, c: number): number {
+		return this.blend(p, a, b, c, d[a], d[b], d[c]);
+	}
+
+	/** Values da, db, dc at the corners a, b, c of a face, interpolated at p (barycentric, as the GPU does). */
+	private blend(p: Vector3, a: number, b: number, c: number, da: number, db: number, dc: number): number {
 		const pos = this.mesh!.geometry.getAttribute('position');
 		const va = new Vector3().fromBufferAttribute(pos, a), vb = new Vector3().fromBufferAttribute(pos, b), vc = new Vector3().fromBufferAttribute(pos, c);
 		const w = Triangle.getBarycoord(p, va, vb, vc, new Vector3());
-		if (!w) return (d[a] + d[b] + d[c]) / 3;
-		return w.x * d[a] + w.y * d[b] + w.z * d[c];
+		if (!w) return (da + db + dc) / 3;
+		return w.x * da + w.y * db + w.z * dc;
 	}
 
 	/** Centre and size of the listed faces (their corners' bounding box), for flying to them. */

@@ -122,6 +122,39 @@ describe('the size and units rule (unit definitions: 1 in = 25.4 mm, 1 ft = 304.
 		expect(scaleFix(bodyOfDiagonal(173), rules, pods)).toBeNull();
 	});
 
+	it('without a size rule, warns (does not hold) on a pod written in metres and points the short edges at the units', () => {
+		// 173 mm pod read as 0.173 mm: 0.086 cells of 2 mm, and ×1,000 brings it to 87 cells.
+		const r = bodyOfDiagonal(0.173);
+		r.minEdgeLength = 0.0005;
+		const out = evaluateGate(r, D, pods);
+		const o = out.find((x) => x.rule === 'expected-size')!;
+		expect(o.passed).toBe(false);
+		expect(o.severity).toBe('warning');
+		expect(o.measured).toBe('0.173 mm across (0.086 cells of 2 mm); likely ×1,000 (m → mm)');
+		expect(o.limit).toBe('no size rule in this project');
+		expect(o.explanation).toContain('does not hold the revision');
+		expect(o.explanation).toContain('metres read as millimetres');
+		expect(scaleFix(r, D, pods)).toEqual({ factor: 1000, fileUnits: 'm', projectUnits: 'mm' });
+		const edge = out.find((x) => x.rule === 'min-edge-length')!;
+		expect(edge.passed).toBe(false);
+		expect(edge.explanation).toContain('unit mistake');
+		expect(edge.explanation).toContain('0.5 mm, above the limit');
+		// The warning alone never holds: only the short edges do here.
+		expect(out.filter((x) => !x.passed && x.severity === 'blocking').map((x) => x.rule)).toEqual(['min-edge-length']);
+	});
+
+	it('without a size rule, warns on a keel bulb written in millimetres into a metre project (over 100,000 cells)', () => {
+		// 240,000 cells of 5 mm; ×0.001 gives 240 cells, ×0.01 would give 2,400, farther from the usual few hundred.
+		const o = sizeRule(bodyOfDiagonal(1200), D, bulbs);
+		expect(o.severity).toBe('warning');
+		expect(o.measured).toContain('likely ×0.001 (mm → m)');
+	});
+
+	it('without a size rule, says nothing of sizes a CFD case can use, even small ones', () => {
+		for (const diag of [173, 1.732, 20_000]) expect(evaluateGate(bodyOfDiagonal(diag), D, pods).some((o) => o.rule === 'expected-size')).toBe(false);
+		expect(scaleFix(bodyOfDiagonal(1.732), D, pods)).toBeNull();
+	});
+
 	it('says no usual unit factor explains a size that none of them brings into range', () => {
 		const rules = { ...D, expectedSize: { mode: 'absolute' as const, min: 50, max: 2000 } };
 		const o = sizeRule(bodyOfDiagonal(1e7), rules, pods);

@@ -1,7 +1,7 @@
 // Evaluates a gate profile against an inspection report. Every result carries a plain-language
 // explanation for designers: what it means for the solver, where on the shape, what to change upstream.
 import type { InspectionReport, Vec3 } from '../mesh/report';
-import type { GateRules } from './profile';
+import { SIZE_IN_CELLS, type GateRules } from './profile';
 import { displayUnit, fmtArea, fmtCount, fmtLength, fmtNumber, fmtPercent, fmtPoint, plural, type DisplayUnit } from '../format';
 
 export const RULE_IDS = [
@@ -110,10 +110,39 @@ export function likelyUnitFix(size: number, range: { min: number; max: number },
 	return best;
 }
 
-/** The rescale a held revision could take: set only when the size rule fails and a usual unit factor explains it. */
+/** Below this many target cells across, a body is too small for any CFD case (see unsetSizeFix). */
+export const UNSET_SIZE_MIN_CELLS = 0.5;
+/**
+ * Common practice: a body meshed for CFD mostly spans tens to thousands of target cells. The unit
+ * factor that best explains a size with no size rule is the one landing nearest the middle of this
+ * band (about 300 cells): the SIZE_IN_CELLS range is too wide to tell ×0.01 from ×0.001.
+ */
+const TYPICAL_CELLS = { min: 10, max: 10_000 };
+
+/**
+ * Where a project sets no size rule, a size still points to a unit mistake when the whole body is
+ * under UNSET_SIZE_MIN_CELLS target cells across (one cell is wider than the whole body, so no
+ * volume mesh can resolve it) or over SIZE_IN_CELLS.max cells, and a usual unit factor brings it
+ * into the TYPICAL_CELLS band. Half a cell is far stricter than the rule's 10 so that a small
+ * body a project never asked about is not flagged: only sizes no CFD case can use are (a part in
+ * metres read as millimetres is a few hundredths of a cell). Returns that fix, or null.
+ */
+export function unsetSizeFix(r: InspectionReport, rules: GateRules, ctx: GateContext): UnitFix | null {
+	if (rules.expectedSize || r.faces === 0 || !(ctx.targetCellSize > 0)) return null;
+	const size = bodySize(r);
+	const cells = size / ctx.targetCellSize;
+	if (cells >= UNSET_SIZE_MIN_CELLS && cells <= SIZE_IN_CELLS.max) return null;
+	return likelyUnitFix(size, { min: TYPICAL_CELLS.min * ctx.targetCellSize, max: TYPICAL_CELLS.max * ctx.targetCellSize }, ctx.units);
+}
+
+/**
+ * The rescale a held revision could take: when the size rule fails and a usual unit factor explains
+ * it, or, with no size rule, when the size is one no CFD case can use (unsetSizeFix).
+ */
 export function scaleFix(r: InspectionReport, rules: GateRules, ctx: GateContext): UnitFix | null {
 	const range = expectedSizeRange(rules, ctx);
-	if (!range || r.faces === 0) return null;
+	if (!range) return unsetSizeFix(r, rules, ctx);
+	if (r.faces === 0) return null;
 	const size = bodySize(r);
 	if (size >= range.min && size <= range.max) return null;
 	return likelyUnitFix(size, range, ctx.units);
@@ -214,6 +243,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 		});
 	}
 
+	const unitFix = scaleFix(r, rules, ctx);
 	const minLen = minEdgeThreshold(rules, ctx);
 	if (minLen !== null) {
 		const ok = r.faces === 0 || r.minEdgeLength >= minLen;
@@ -225,7 +255,9 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 			limit: `≥ ${len(minLen, u, null, du)}${rules.minEdgeLength?.mode === 'fraction-of-cell' ? ` (${fmtNumber(rules.minEdgeLength.value)} × cell size ${len(ctx.targetCellSize, u)})` : ''}`,
 			explanation: ok
 				? 'No edge is shorter than the limit set for the target cell size.'
-				: `Some edges are much shorter than the target cell size (${len(ctx.targetCellSize, u)}). The mesher either refines down to them, wasting cells and time step, or produces badly shaped cells next to them. Upstream: export with a coarser or more uniform triangulation, or let a repair collapse the short edges.`,
+				: unitFix
+					? `The edges are short because the whole body is: it measures ${len(bodySize(r), u)} across, and its size points to a unit mistake (${UNIT_WORDS[unitFix.fileUnits]} read as ${UNIT_WORDS[unitFix.projectUnits] ?? unitFix.projectUnits}; see Size and units). Scaled ${fmtFactor(unitFix.factor)} the shortest edge would be ${len(r.minEdgeLength * unitFix.factor, u)}, ${r.minEdgeLength * unitFix.factor >= minLen ? 'above' : 'still below'} the limit. Fix the units first; collapsing edges of a body at the wrong scale would wreck it.`
+					: `Some edges are much shorter than the target cell size (${len(ctx.targetCellSize, u)}). The mesher either refines down to them, wasting cells and time step, or produces badly shaped cells next to them. Upstream: export with a coarser or more uniform triangulation, or let a repair collapse the short edges.`,
 			location: null
 		});
 	}
@@ -282,6 +314,22 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 	}
 
 	const range = expectedSizeRange(rules, ctx);
+	if (!range && unitFix) {
+		// No size rule in this project: a warning, not a hold, for a size no CFD case can use.
+		const across = bodySize(r);
+		const cellsAcross = across / ctx.targetCellSize;
+		push('not-checked', {
+			rule: 'expected-size',
+			measured: `${len(across, u)} across (${fmtNumber(Number(cellsAcross.toPrecision(2)))} cells of ${len(ctx.targetCellSize, u)}); likely ${fmtFactor(unitFix.factor)} (${unitFix.fileUnits} → ${unitFix.projectUnits})`,
+			limit: 'no size rule in this project',
+			explanation: [
+				`This project does not check size, so this does not hold the revision, but the body measures ${len(across, u)} across (bounding-box diagonal), ${cellsAcross < UNSET_SIZE_MIN_CELLS ? 'less than half a cell' : `more than ${n(SIZE_IN_CELLS.max)} cells`} of the target cell size ${len(ctx.targetCellSize, u)}: no volume mesh for CFD can use that size.`,
+				`Mesh files carry no units; the numbers look like ${UNIT_WORDS[unitFix.fileUnits]} read as ${UNIT_WORDS[unitFix.projectUnits] ?? unitFix.projectUnits}: scaled ${fmtFactor(unitFix.factor)} (${unitFix.fileUnits} → ${unitFix.projectUnits}) the body would be ${len(across * unitFix.factor, u)} across.`,
+				`Export again in ${UNIT_WORDS[unitFix.projectUnits] ?? unitFix.projectUnits}, or let a repair rescale it by ${fmtFactor(unitFix.factor)}. To hold such files, an administrator can turn on the project's size check.`
+			].join(' '),
+			location: null
+		});
+	}
 	if (range) {
 		const across = bodySize(r);
 		const du = displayUnit([range.min, range.max, across], u, 1);

@@ -36,3 +36,24 @@ test('a pod written in metres into the millimetre project is held with the likel
 		await setSizeCheck(page, 'off');
 	}
 });
+
+test('with the project’s size check off, a pod written in metres still shows the unit mistake as a warning that does not hold, and the engineer is offered the rescale', async ({ page }) => {
+	test.setTimeout(120_000);
+	await signInAs(page, 'designer');
+	await uploadAndOpen(page, { project: 'sensor-pods', part: `${PART}-unset`, file: 'fixtures/pod-written-in-metres.stl' });
+	// Held by its short edges (a rule of the project), not by the size.
+	await expect(page.locator('h1 [data-status]')).toHaveText(/Held/, { timeout: 30_000 });
+	const size = page.locator('[data-rule="expected-size"]');
+	await expect(size).toHaveAttribute('data-warning', 'true');
+	await expect(size).toContainText('likely ×1,000 (m → mm)');
+	await expect(size.getByTestId('explanation')).toContainText('does not hold the revision');
+	await expect(page.locator('[data-rule="min-edge-length"] [data-testid="explanation"]')).toContainText('unit mistake');
+	await expect(page.getByTestId('rules').locator('h2')).toContainText('1 not met · 1 to look at');
+	await page.screenshot({ path: shot('revision-unit-mistake-no-size-rule'), fullPage: true });
+	const url = page.url();
+	await signOut(page);
+	await signInAs(page, 'engineer');
+	await page.goto(url);
+	await expect(page.getByRole('button', { name: /Rescale ×1,000 into a new revision/ })).toBeVisible();
+	await signOut(page);
+});

@@ -192,6 +192,10 @@ test('a generator run from upload to dataset: counts and topology change, repair
 		await expect(page.getByTestId('run-count').and(page.locator('[data-state="repair-proposed"]'))).toContainText(String(BY_REVIEWER.length));
 		await expect(page.getByTestId('topology-change')).toHaveCount(1);
 		await expect(page.getByTestId('run-row')).toHaveCount(SAMPLES + OPEN.length);
+		// Each held original says which revision repaired it, and each repair which revision it repaired.
+		await expect(page.getByTestId('run-repaired-in')).toHaveCount(OPEN.length);
+		await expect(page.getByTestId('run-repair-of')).toHaveCount(OPEN.length);
+		await expect(page.getByTestId('run-row').filter({ hasText: `pod ${stamp} ${String(OPEN[0]).padStart(2, '0')}` }).first().getByTestId('run-repaired-in')).toHaveText('repaired in rev 2');
 		await expect(page.getByTestId('dataset-count')).toHaveText(String(rest + CLEAR_SIGNED.length));
 		await page.screenshot({ path: shot('journey-run-page'), fullPage: true });
 		await signOut(page);

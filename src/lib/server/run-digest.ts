@@ -11,7 +11,7 @@
 // and each reviewer of the team about the covered repair proposals awaiting a sign-off that they
 // may give (not the ones they ran themselves), with a link to the queue filtered by the run. One
 // mail per person either way.
-import { and, asc, eq, gt, inArray, lte, or, sql } from 'drizzle-orm';
+import { and, asc, eq, gt, inArray, isNotNull, lte, or, sql } from 'drizzle-orm';
 import { config } from './config';
 import type { Db } from './db';
 import { job, part, project, revision, run, user, userRole } from './db/schema';
@@ -34,15 +34,16 @@ interface DueRun extends Marks {
 
 /** Runs with something after their digest marks, all checked, no repair under way, and quiet since `quietSince`. */
 async function dueRuns(db: Db, quietSince: Date): Promise<DueRun[]> {
-	// Two index probes per run (revision_run and revision_run_check), whatever the run's size.
-	const candidates: Marks[] = await db
-		.select({ id: run.id, through: run.digestThroughRevisionId, throughCheck: run.digestThroughCheckRunId })
-		.from(run)
-		.where(
-			sql`exists (select 1 from ${revision} where ${revision.runId} = ${run.id} and ${revision.id} > coalesce(${run.digestThroughRevisionId}, 0))
-				or exists (select 1 from ${revision} where ${revision.runId} = ${run.id} and ${revision.latestCheckId} > coalesce(${run.digestThroughCheckRunId}, 0))`
-		)
-		.limit(100);
+	// Per run, the newest revision id and the newest check id, each by a loose index scan (one dive per
+	// run into revision_run and revision_run_check, which end in them), compared with the run's marks.
+	const [maxIds, maxChecks, marks] = await Promise.all([
+		db.select({ runId: revision.runId, v: sql<number>`max(${revision.id})` }).from(revision).where(isNotNull(revision.runId)).groupBy(revision.runId),
+		db.select({ runId: revision.runId, v: sql<number | null>`max(${revision.latestCheckId})` }).from(revision).where(isNotNull(revision.runId)).groupBy(revision.runId),
+		db.select({ id: run.id, through: run.digestThroughRevisionId, throughCheck: run.digestThroughCheckRunId }).from(run)
+	]);
+	const newestId = new Map(maxIds.map((r) => [r.runId!, Number(r.v)]));
+	const newestCheck = new Map(maxChecks.map((r) => [r.runId!, r.v === null ? 0 : Number(r.v)]));
+	const candidates: Marks[] = marks.filter((m) => (newestId.get(m.id) ?? 0) > (m.through ?? 0) || (newestCheck.get(m.id) ?? 0) > (m.throughCheck ?? 0)).slice(0, 100);
 	const due: DueRun[] = [];
 	for (const c of candidates) {
 		const [s] = await db

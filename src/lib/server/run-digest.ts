@@ -108,8 +108,6 @@ async function digestRun(db: Db, d: DueRun): Promise<boolean> {
 				reason: revision.statusReason,
 				iteration: revision.iteration,
 				uploaderId: revision.uploaderId,
-				source: revision.source,
-				parentRevisionId: revision.parentRevisionId,
 				partName: part.name
 			})
 			.from(revision)
@@ -150,8 +148,6 @@ export type Covered = {
 	partName: string;
 	/** Covered by an earlier digest already: here because it was checked again since. */
 	recheck?: boolean;
-	source?: string;
-	parentRevisionId?: number | null;
 };
 
 const HELD_STATES: readonly RevisionState[] = ['held', 'unreadable', 'check-incomplete'];
@@ -182,7 +178,7 @@ export function digestMail(to: { email: string; name: string }, r: { id: number;
 	const lines = [`Hello ${to.name},`];
 	if (fresh.length) {
 		const counts = countLine(fresh);
-		lines.push(`The checks of ${later ? 'the newest uploads of ' : ''}the generator run "${r.name}" (${r.projectName}, ${r.kind}) have finished: ${plural(fresh.length, 'revision')} of yours${counts ? `: ${counts}` : ''}.`);
+		lines.push(`The checks of ${later ? 'the newest revisions of ' : ''}the generator run "${r.name}" (${r.projectName}, ${r.kind}) have finished: ${plural(fresh.length, 'revision')} of yours${counts ? `: ${counts}` : ''}.`);
 		if (held.length) lines.push(`Held back, with the first reason for each:`, ...listed(held, (c) => `• ${name(c)}: ${firstReason(c)}`, 'the run page lists them all.'));
 		else lines.push('None was held back.');
 	}
@@ -194,16 +190,15 @@ export function digestMail(to: { email: string; name: string }, r: { id: number;
 	}
 	if (awaiting.length) {
 		lines.push(
-			`${plural(awaiting.length, 'repair proposal')} in ${fresh.length || again.length ? 'this run' : `the generator run "${r.name}" (${r.projectName})`} ${awaiting.length === 1 ? 'awaits' : 'await'} your sign-off (repairs you ran yourself are not among them):`,
+			`${plural(awaiting.length, 'repair proposal')} in ${fresh.length || again.length ? 'this run' : `the generator run "${r.name}" (${r.projectName})`} ${awaiting.length === 1 ? 'awaits' : 'await'} your sign-off${revs.some((c) => c.status === 'repair-proposed') ? ' (the repairs you ran yourself are not among them: another reviewer signs those off)' : ''}:`,
 			...listed(awaiting, (c) => `• ${name(c)}`, 'the queue lists them all.'),
 			`Sign them off together from the queue, filtered by this run: ${queueHref}`
 		);
 	}
-	const heldAll = [...held, ...again.filter((c) => HELD_STATES.includes(c.status))].length;
 	const subject = fresh.length
 		? `Run "${r.name}" checked: ${plural(fresh.length, 'revision')}, ${fmtCount(held.length)} held (${r.projectName})`
 		: again.length
-			? `Run "${r.name}" checked again: ${plural(again.length, 'revision')}, ${fmtCount(heldAll)} held (${r.projectName})`
+			? `Run "${r.name}" checked again: ${plural(again.length, 'revision')}, ${fmtCount(again.filter((c) => HELD_STATES.includes(c.status)).length)} held (${r.projectName})`
 			: `Run "${r.name}": ${plural(awaiting.length, 'repair proposal')} ${awaiting.length === 1 ? 'awaits' : 'await'} your sign-off (${r.projectName})`;
 	const link = fresh.length || again.length ? { href: `${config.origin}/runs/${r.id}`, label: 'Open the run in Shellgate' } : { href: queueHref, label: "Open the run's repair proposals in the queue" };
 	return simpleMail(to.email, subject, lines, link);

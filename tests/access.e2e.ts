@@ -50,6 +50,7 @@ const ACCESS: Record<string, Rule> = {
 	'GET /api/v1/revisions/[id]/file': ALL,
 	'GET /api/v1/revisions/[id]/export': ALL,
 	'page /runs/[id]': ALL,
+	'action /runs/[id]?/batchRepair': ['engineer'],
 	'GET /api/v1/runs/[id]': ALL,
 	'POST /api/v1/projects/[project]/runs/[run]/files': ['designer', 'engineer'],
 	// The dataset hand-off: the people who feed and use the generator's shapes, not an admin-only account.

@@ -1,36 +1,15 @@
 import { readFileSync } from 'node:fs';
 import { expect, test, type Page } from '@playwright/test';
-import { shot, signInAs, signOut } from './helpers';
+import { proposeStandardRepair as repair, setReviewerAlsoEngineer, shot, signInAs, signOut } from './helpers';
 
 const TAG = Date.now().toString(36);
 const PARTS = [0, 1, 2, 3].map((i) => `bulk-pod-${TAG}-${i}`);
-
-/** As admin, gives the reviewer the engineer role too (so the reviewer can run repairs), or takes it away. */
-async function setReviewerAlsoEngineer(page: Page, on: boolean) {
-	await signInAs(page, 'admin');
-	await page.goto('/admin/users');
-	const row = page.getByRole('row').filter({ hasText: 'reviewer@example.test' });
-	const box = row.getByRole('checkbox', { name: 'engineer' });
-	if (on) await box.check();
-	else await box.uncheck();
-	await row.getByRole('button', { name: 'Save' }).click();
-	await expect(row.getByText('saved')).toBeVisible();
-	await signOut(page);
-}
 
 async function statusOf(page: Page, id: number): Promise<string> {
 	return ((await (await page.request.get(`/api/v1/revisions/${id}?report=0`)).json()) as { status: string }).status;
 }
 async function waitFor(page: Page, id: number, status: string) {
 	await expect.poll(() => statusOf(page, id), { timeout: 60_000 }).toBe(status);
-}
-
-/** Proposes the standard repair from the revision page; returns the new revision's id. */
-async function repair(page: Page, id: number): Promise<number> {
-	await page.goto(`/revisions/${id}`);
-	await page.getByRole('button', { name: 'Propose repair' }).click();
-	await expect(page.getByTestId('repair-result')).toBeVisible({ timeout: 60_000 });
-	return Number((await page.getByTestId('repair-result').getAttribute('href'))!.split('/').pop());
 }
 
 test('a reviewer bulk-signs-off repair proposals: the ones the reviewer ran are refused and listed, the others signed off', async ({ page, baseURL }) => {

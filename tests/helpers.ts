@@ -40,3 +40,24 @@ export async function setProfileField(page: Page, project: string, set: (page: P
 	await expect(page.getByText(/Saved as version/)).toBeVisible();
 	await signOut(page);
 }
+
+/** As admin, gives the reviewer the engineer role too (so the reviewer can run repairs), or takes it away. */
+export async function setReviewerAlsoEngineer(page: Page, on: boolean) {
+	await signInAs(page, 'admin');
+	await page.goto('/admin/users');
+	const row = page.getByRole('row').filter({ hasText: 'reviewer@example.test' });
+	const box = row.getByRole('checkbox', { name: 'engineer' });
+	if (on) await box.check();
+	else await box.uncheck();
+	await row.getByRole('button', { name: 'Save' }).click();
+	await expect(row.getByText('saved')).toBeVisible();
+	await signOut(page);
+}
+
+/** Proposes the standard repair from the revision page and waits for it; returns the new revision's id. */
+export async function proposeStandardRepair(page: Page, id: number): Promise<number> {
+	await page.goto(`/revisions/${id}`);
+	await page.getByRole('button', { name: 'Propose repair' }).click();
+	await expect(page.getByTestId('repair-result')).toBeVisible({ timeout: 60_000 });
+	return Number((await page.getByTestId('repair-result').getAttribute('href'))!.split('/').pop());
+}

@@ -10,6 +10,7 @@ import { eq, inArray } from 'drizzle-orm';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { bulkSchema } from '../bulk-form';
 import { loadSessionUser, type SessionUser } from './auth';
+import { assignRevision } from './assignment';
 import { bulkAct } from './bulk';
 import { getDb } from './db';
 import { decision, part, revision, run, team, user, userRole } from './db/schema';
@@ -173,6 +174,13 @@ describe('bulk decisions', () => {
 		const assigned = await bulkAct(db, users.engineer, bulkSchema.parse({ action: 'assign', revisionIds: ids, assignee: users.engineer.id }));
 		expect(assigned.done.length).toBe(3);
 		await expect(bulkAct(db, users.engineer, bulkSchema.parse({ action: 'assign', revisionIds: ids, assignee: 'nobody-here' }))).rejects.toThrow(/in your team/);
+		// The single path refuses a stranger, and an engineer of another team, the same way, and changes nothing.
+		await expect(assignRevision(db, users.engineer, [ids[0]], 'nobody-here')).rejects.toThrow(/in your team/);
+		const [otherTeam] = await db.insert(team).values({ name: 'Harbour survey lab' }).$returningId();
+		await db.insert(user).values({ id: 'other-team-engineer-1', email: 'engineer@harbour.example.test', name: 'Other Engineer', teamId: otherTeam.id });
+		await expect(assignRevision(db, users.engineer, [ids[0]], 'other-team-engineer-1')).rejects.toThrow(/in your team/);
+		const [still] = await db.select({ assigneeId: revision.assigneeId }).from(revision).where(eq(revision.id, ids[0]));
+		expect(still.assigneeId).toBe(users.engineer.id);
 		expect((await queue(users.engineer, 'assignee=me&project=tow-bodies')).rows.map((r) => r.id).sort()).toEqual([...ids].sort());
 
 		const returned = await bulkAct(db, users.engineer, bulkSchema.parse({ action: 'return', revisionIds: ids.slice(0, 2), reason: 'Close the open face and upload again.' }));

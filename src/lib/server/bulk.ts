@@ -4,15 +4,14 @@
 // revision, and one refusal neither stops nor undoes the others. Refusals come back with the reason.
 import { and, eq, inArray } from 'drizzle-orm';
 import type { BulkInput } from '../bulk-form';
-import { assignRevision } from './assignment';
+import { assertAssignable, assignRevision } from './assignment';
 import type { SessionUser } from './auth';
 import type { Db } from './db';
-import { part, project, revision, user } from './db/schema';
+import { part, project, revision } from './db/schema';
 import { recheck, returnRevision, signOff } from './decisions';
 import { asDomainError, publicMessage } from './errors';
 import { assertCan, loadRevisionForUser } from './revisions';
 import { loggable } from './api/respond';
-import { DomainError } from '../domain-error';
 
 export interface BulkOutcome {
 	id: number;
@@ -34,10 +33,8 @@ export async function bulkAct(db: Db, u: SessionUser, input: BulkInput): Promise
 	assertCan(u, PERMISSION[input.action]);
 	const ids = [...new Set(input.revisionIds)];
 	const assignee = input.action === 'assign' && input.assignee ? input.assignee : null;
-	if (assignee) {
-		const [p] = await db.select({ id: user.id }).from(user).where(and(eq(user.id, assignee), eq(user.teamId, u.teamId))).limit(1);
-		if (!p) throw new DomainError('invalid', 'Nobody by that id is in your team; pick the assignee from the list.');
-	}
+	// Checked once here, so a stranger as assignee is refused once, not once per revision (assignRevision checks it too).
+	await assertAssignable(db, u, assignee);
 	const done: number[] = [];
 	const refused = new Map<number, string>();
 	for (const id of ids) {

@@ -330,7 +330,7 @@ async function writeWithPressure(w: Writable, chunk: unknown): Promise<void> {
 }
 
 /** Appends one entry and resolves once archiver has taken all of its bytes in (its `entry` event). */
-function appendEntry(archive: ZipArchive, source: Readable, name: string): Promise<void> {
+export function appendEntry(archive: ZipArchive, source: Readable, name: string): Promise<void> {
 	return new Promise<void>((resolve, reject) => {
 		const cleanup = () => {
 			archive.off('entry', onEntry);
@@ -455,6 +455,12 @@ export async function openDatasetExport(db: Db, u: SessionUser, s: DatasetScope,
 	};
 }
 
+/** The dataset's zip writer (zip64 headers once it holds more than 65,535 entries or 4 GiB: zip64.stress.test.ts). */
+export function datasetArchive(): ZipArchive {
+	// Meshes are binary floats: the fastest deflate level saves most of what any level would.
+	return new ZipArchive({ zlib: { level: 1 } });
+}
+
 /**
  * The zip: each signed-off revision's stored bytes as `<part>/<part>-rev<N>.<format>`, then
  * `manifest.csv` and `manifest.jsonl`. The manifests are written to temporary files as the meshes
@@ -462,8 +468,7 @@ export async function openDatasetExport(db: Db, u: SessionUser, s: DatasetScope,
  * appended at the end; the files are removed afterwards whatever happens.
  */
 function zipStream(rows: AsyncGenerator<ManifestRow>, onRow: () => void): { stream: Readable; settled: Promise<void> } {
-	// Meshes are binary floats: the fastest deflate level saves most of what any level would.
-	const archive = new ZipArchive({ zlib: { level: 1 } });
+	const archive = datasetArchive();
 	const store = getStore();
 	const tmp = path.join(config.dataDir, 'tmp');
 	const id = randomUUID();

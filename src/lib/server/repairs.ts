@@ -1,6 +1,6 @@
 // Proposing repairs: a recipe applied to a revision becomes a repair job; recipes can be saved on a
 // project and applied to every held revision of a batch.
-import { and, asc, eq, inArray } from 'drizzle-orm';
+import { and, asc, eq, inArray, sql } from 'drizzle-orm';
 import { parseRecipe, STANDARD_RECIPE, type RepairStep } from '../mesh/repair';
 import { audit } from './audit';
 import type { SessionUser } from './auth';
@@ -64,8 +64,33 @@ export async function projectRecipes(db: Db, projectId: number) {
 	return rows.map((r) => ({ id: r.id, name: r.name, steps: r.steps as RepairStep[] }));
 }
 
-/** Applies a saved (or the standard) recipe to every held revision of a project. */
-export async function repairBatch(db: Db, u: SessionUser, projectSlug: string, recipeId: number | null): Promise<{ queued: number; skipped: number }> {
+/**
+ * The held revisions a batch repair starts from. A project: every held revision. A generator run:
+ * its held revisions no repair was made from yet, so repairing the run twice does not repair the
+ * same shape twice (of an iterations run, every held iteration counts, not only the part's newest).
+ */
+function batchHeldWhere(projectId: number, runId: number | null) {
+	if (runId === null) return and(eq(part.projectId, projectId), eq(revision.status, 'held'));
+	return and(
+		eq(part.projectId, projectId),
+		eq(revision.runId, runId),
+		eq(revision.status, 'held'),
+		sql`not exists (select 1 from ${revision} as repair_child where repair_child.parent_revision_id = ${revision.id})`
+	);
+}
+
+/** How many revisions a batch repair of the project (or of one of its runs) would start from. */
+export async function countBatchHeld(db: Db, projectId: number, runId: number | null = null): Promise<number> {
+	const [r] = await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(batchHeldWhere(projectId, runId));
+	return Number(r?.n ?? 0);
+}
+
+/**
+ * Applies a saved (or the standard) recipe to every held revision of a project, or with `runId` to
+ * the held revisions of that run of the project not repaired yet (countBatchHeld). The
+ * repairs land in the same run (jobs/repair.ts).
+ */
+export async function repairBatch(db: Db, u: SessionUser, projectSlug: string, recipeId: number | null, runId: number | null = null): Promise<{ queued: number; skipped: number }> {
 	assertCan(u, 'repair');
 	const p = await findProjectForUser(db, u, projectSlug);
 	let steps: RepairStep[];
@@ -80,7 +105,8 @@ export async function repairBatch(db: Db, u: SessionUser, projectSlug: string, r
 		.select({ id: revision.id })
 		.from(revision)
 		.innerJoin(part, eq(part.id, revision.partId))
-		.where(and(eq(part.projectId, p.id), eq(revision.status, 'held')));
+		.where(batchHeldWhere(p.id, runId))
+		.orderBy(asc(revision.id));
 	let queued = 0;
 	let skipped = 0;
 	for (const h of held) {

@@ -49,6 +49,10 @@ export interface RunRowView {
 	hausdorff: number | null;
 	chamfer: number | null;
 	previousIteration: number | null;
+	/** For a repair: the number of the revision it repaired. */
+	repairOf: number | null;
+	/** For a revision a repair was made from (in this run): the first such repair. */
+	repairedIn: { id: number; number: number } | null;
 }
 
 export interface RunFilter {
@@ -119,13 +123,22 @@ export async function runRows(db: Db, runId: number): Promise<RunRowView[]> {
 			edgeCells: checkRun.shortestEdgeCells,
 			hausdorff: checkRun.iterationHausdorff,
 			chamfer: checkRun.iterationChamfer,
-			prevIt: checkRun.previousIteration
+			prevIt: checkRun.previousIteration,
+			parentId: revision.parentRevisionId
 		})
 		.from(revision)
 		.innerJoin(part, eq(part.id, revision.partId))
 		.leftJoin(checkRun, eq(checkRun.id, revision.latestCheckId))
 		.where(eq(revision.runId, runId))
 		.orderBy(asc(sql`${revision.iteration} is null`), asc(revision.iteration), asc(revision.id));
+	// Repairs of a run's revisions are in the run too (jobs/repair.ts), so both ends are among these rows.
+	const byId = new Map(rows.map((r) => [r.id, r]));
+	const firstRepair = new Map<number, { id: number; number: number }>();
+	for (const r of rows) {
+		if (r.parentId === null) continue;
+		const seen = firstRepair.get(r.parentId);
+		if (!seen || r.id < seen.id) firstRepair.set(r.parentId, { id: r.id, number: r.number });
+	}
 	return rows.map((r) => {
 		const checked = r.checkId !== null;
 		return {
@@ -148,7 +161,9 @@ export async function runRows(db: Db, runId: number): Promise<RunRowView[]> {
 			checkMs: checked ? r.durationMs : null,
 			hausdorff: num(r.hausdorff),
 			chamfer: num(r.chamfer),
-			previousIteration: num(r.prevIt)
+			previousIteration: num(r.prevIt),
+			repairOf: r.parentId !== null ? (byId.get(r.parentId)?.number ?? null) : null,
+			repairedIn: firstRepair.get(r.id) ?? null
 		};
 	});
 }

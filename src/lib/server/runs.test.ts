@@ -5,14 +5,20 @@ import { Readable } from 'node:stream';
 import { and, eq, inArray } from 'drizzle-orm';
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { getDb } from './db';
-import { auditEvent, checkRun, job, mailOutbox, part, revision, run } from './db/schema';
+import { auditEvent, checkRun, job, mailOutbox, part, revision, run, userRole } from './db/schema';
+import { loadSessionUser } from './auth';
+import { recheck } from './decisions';
 import { processCheckJob } from './jobs/check';
 import { claimJob } from './jobs/queue';
+import { processRepairJob } from './jobs/repair';
+import { proposeRepair, repairBatch, standardRecipe } from './repairs';
+import { loadRevisionForUser } from './revisions';
 import { sendRunDigests } from './run-digest';
 import { findOrCreateRun, ingestRunFile, loadRunForUser, runSummary } from './runs';
 import { spool } from './storage';
 import { useFreshDatabase } from './testing/db';
 import { fixture, seededUsers, uploadBytes } from './testing/fixtures';
+const variant = (name: string, tag: string) => new Uint8Array([...fixture(name), ...new TextEncoder().encode(`\n# ${tag}\n`)]);
 import { writeBinaryStl } from '../mesh/write';
 import { icosphere, torus } from '../mesh/testing/test-meshes';
 import type { InspectionReport } from '../mesh/report';
@@ -36,7 +42,7 @@ beforeEach(async () => {
 
 async function drain() {
 	const db = getDb();
-	for (let j = await claimJob(db, 'w'); j; j = await claimJob(db, 'w')) await processCheckJob(db, j, 'w', LIMITS);
+	for (let j = await claimJob(db, 'w'); j; j = await claimJob(db, 'w')) await (j.kind === 'repair' ? processRepairJob : processCheckJob)(db, j, 'w', LIMITS);
 }
 
 const sphereStl = (r: number) => writeBinaryStl(icosphere(2, r));
@@ -167,4 +173,71 @@ describe('generator runs on the real MariaDB', () => {
 		expect(after).toHaveLength(2);
 		expect(after[1].subject).toMatch(/^Held: /);
 	});
+	it('repairs of a run revision stay in the run; their outcome, the proposals awaiting a reviewer and a later re-check each come in a follow-up digest, once with two senders', async () => {
+		const db = getDb();
+		await drain();
+		await sendRunDigests(db, 0); // earlier tests' runs
+		const mark = (await db.select({ id: mailOutbox.id }).from(mailOutbox)).reduce((m, r) => Math.max(m, r.id), 0);
+		const newMail = async () => (await db.select().from(mailOutbox)).filter((m) => m.id > mark);
+		const a = await put({ run: 'pod repairs', project: 'sensor-pods', file: 'pod-open-a.obj', bytes: variant('tow-body-hole.obj', 'run-a'), meta: '{"iteration": 1, "fin": 0.3}' });
+		const b = await put({ run: 'pod repairs', project: 'sensor-pods', file: 'pod-open-b.obj', bytes: variant('tow-body-hole.obj', 'run-b'), meta: '{"iteration": 2}' });
+		const c = await put({ run: 'pod repairs', project: 'sensor-pods', file: 'pod-ball.stl', bytes: sphereStl(20), meta: '{"iteration": 3}' });
+		const runId = a.run!.id;
+		await drain();
+		expect(await sendRunDigests(db, 0)).toBe(1);
+		const first = await newMail();
+		expect(first.map((m) => [m.toAddress, m.subject])).toEqual([['designer@example.test', 'Run "pod repairs" checked: 3 revisions, 2 held (Sensor-pod housings)']]);
+
+		// The reviewer, also an engineer here, repairs one; the engineer then repairs the run's held ones in one go: only the other.
+		await db.insert(userRole).values({ userId: users.reviewer.id, role: 'engineer' });
+		try {
+			const reviewerEngineer = (await loadSessionUser(db, users.reviewer.id))!;
+			await proposeRepair(db, reviewerEngineer, a.revisionId, standardRecipe((await loadRevisionForUser(db, reviewerEngineer, a.revisionId)).project.targetCellSize), 'standard');
+			await drain();
+			expect(await repairBatch(db, users.engineer, 'sensor-pods', null, runId)).toEqual({ queued: 1, skipped: 0 });
+			// A repair asked for and not yet stored: the run is not due, though all its revisions are checked.
+			expect(await sendRunDigests(db, 0)).toBe(0);
+			await drain();
+			const repairs = await db
+				.select({ id: revision.id, parent: revision.parentRevisionId, runId: revision.runId, iteration: revision.iteration, meta: revision.meta, status: revision.status, uploaderId: revision.uploaderId })
+				.from(revision)
+				.where(inArray(revision.parentRevisionId, [a.revisionId, b.revisionId]));
+			expect(repairs).toHaveLength(2);
+			for (const r of repairs) expect(r).toMatchObject({ runId, status: 'repair-proposed', iteration: r.parent === a.revisionId ? 1 : 2 });
+			expect(repairs.find((r) => r.parent === a.revisionId)!.meta).toEqual({ iteration: 1, fin: 0.3 });
+			expect((await runSummary(db, await loadRunForUser(db, users.engineer, runId))).states['repair-proposed']).toBe(2);
+			// Nothing left to repair in the run: both held ones have their repair.
+			expect(await repairBatch(db, users.engineer, 'sensor-pods', null, runId)).toEqual({ queued: 0, skipped: 0 });
+
+			const sent = await Promise.all([sendRunDigests(db, 0), sendRunDigests(db, 0)]);
+			expect(sent.reduce((x, y) => x + y, 0)).toBe(1);
+			const second = (await newMail()).slice(first.length);
+			// No mail of its own for either proposal: one digest each for the two who ran repairs, none for the designer.
+			expect(second.map((m) => m.toAddress).sort()).toEqual(['engineer@example.test', 'reviewer@example.test']);
+			expect(second.every((m) => m.subject === 'Run "pod repairs" checked: 1 revision, 0 held (Sensor-pod housings)')).toBe(true);
+			const toReviewer = second.find((m) => m.toAddress === 'reviewer@example.test')!;
+			const theirs = repairs.find((r) => r.uploaderId === users.engineer.id)!;
+			// Four-eyes: the reviewer is asked for the engineer's repair, not for their own.
+			expect(toReviewer.textBody).toMatch(/1 repair proposal in this run awaits your sign-off/);
+			expect(toReviewer.textBody).toContain(`pod open b rev 2 (iteration 2)`);
+			expect(toReviewer.textBody).not.toMatch(/• pod open a rev 2/);
+			expect(toReviewer.textBody).toContain(`/queue?run=${runId}&status=repair-proposed`);
+			expect(second.find((m) => m.toAddress === 'engineer@example.test')!.textBody).not.toMatch(/await/);
+			expect(theirs.status).toBe('repair-proposed');
+		} finally {
+			await db.delete(userRole).where(and(eq(userRole.userId, users.reviewer.id), eq(userRole.role, 'engineer')));
+		}
+
+		// A re-check of an already digested revision: a follow-up once it is checked and quiet, exactly once.
+		await recheck(db, users.engineer, await loadRevisionForUser(db, users.engineer, c.revisionId));
+		expect(await sendRunDigests(db, 0)).toBe(0);
+		await drain();
+		const again = await Promise.all([sendRunDigests(db, 0), sendRunDigests(db, 0)]);
+		expect(again.reduce((x, y) => x + y, 0)).toBe(1);
+		expect(await sendRunDigests(db, 0)).toBe(0);
+		const third = (await newMail()).slice(first.length + 2);
+		expect(third.map((m) => [m.toAddress, m.subject])).toEqual([['designer@example.test', 'Run "pod repairs" checked again: 1 revision, 0 held (Sensor-pod housings)']]);
+		expect(third[0].textBody).toMatch(/checked again since the last digest: 1 revision of yours: 1 clear/);
+		expect(third[0].textBody).toContain('• pod ball rev 1 (iteration 3): now clear');
+	}, 180_000);
 });

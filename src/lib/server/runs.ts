@@ -148,6 +148,8 @@ export interface RunSummary {
 	/** Lowest and highest iteration given, null when none. */
 	iterations: { min: number; max: number; count: number } | null;
 	digestThroughRevisionId: number | null;
+	/** The newest check of the run's revisions the last digest covered (a later re-check gets a follow-up digest). */
+	digestThroughCheckRunId: number | null;
 	links: { self: string; page: string };
 }
 
@@ -187,6 +189,7 @@ export async function runSummary(db: Db, row: { run: RunRow; project: { id: numb
 		pending: states['awaiting-check'] + states.checking,
 		iterations: agg && Number(agg.itCount) > 0 ? { min: Number(agg.itMin), max: Number(agg.itMax), count: Number(agg.itCount) } : null,
 		digestThroughRevisionId: r.digestThroughRevisionId,
+		digestThroughCheckRunId: r.digestThroughCheckRunId,
 		links: { self: `/api/v1/runs/${r.id}`, page: `/runs/${r.id}` }
 	};
 }

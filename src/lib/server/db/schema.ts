@@ -223,6 +223,11 @@ export const run = mysqlTable(
 			.references(() => user.id),
 		/** The newest revision id the last digest mail covered; the next digest covers the ones after it. */
 		digestThroughRevisionId: int('digest_through_revision_id'),
+		/**
+		 * The newest check_run of the run's revisions the last digest covered: a re-check of a revision the
+		 * digest already covered makes a newer check_run (not a revision), and the next digest reports it.
+		 */
+		digestThroughCheckRunId: int('digest_through_check_run_id'),
 		createdAt: createdAt()
 	},
 	(t) => [uniqueIndex('run_name').on(t.projectId, t.name)]
@@ -284,6 +289,8 @@ export const revision = mysqlTable(
 		index('revision_assignee').on(t.assigneeId),
 		index('revision_sha').on(t.partId, t.sha256),
 		index('revision_run').on(t.runId, t.id),
+		// The run digest's probe for checks no digest covered yet (run-digest.ts).
+		index('revision_run_check').on(t.runId, t.latestCheckId),
 		// Covering for the queue's counts over every revision of the team's parts.
 		index('revision_part_status').on(t.partId, t.status),
 		// Repair proposals by their deviation, for the queue's deviation sort over all revisions.

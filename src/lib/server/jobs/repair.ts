@@ -1,5 +1,6 @@
 // One repair job: apply a recipe to a revision's surface in a worker thread, measure how far the
-// result moved from the original, and store it as a new revision (source = repair) of the same part.
+// result moved from the original, and store it as a new revision (source = repair) of the same part
+// (and of the same generator run, when the original came in with one).
 // The original is never changed. Deterministic: a retried job produces the same bytes, which the
 // ingest recognises as a duplicate instead of storing twice.
 import { Readable } from 'node:stream';
@@ -71,7 +72,13 @@ export async function processRepairJob(db: Db, j: ClaimedJob, workerId: string, 
 		parentRevisionId: ctx.rev.id,
 		recipe: { name: payload.recipeName, steps: payload.steps },
 		repairLog: { log: out.log, deviation: out.deviation, facesBefore: out.facesBefore, facesAfter: out.facesAfter, measures: out.measures, skipped: out.skipped },
-		note: `Repair of rev ${ctx.rev.number} with the ${payload.recipeName} recipe`
+		note: `Repair of rev ${ctx.rev.number} with the ${payload.recipeName} recipe`,
+		// A repair of a generator run's revision stays in that run, at the same iteration and with the
+		// generator's metadata: it shows on the run page, its verdict goes into the run's digest, and
+		// once signed off it is part of the run's dataset.
+		runId: ctx.rev.runId,
+		iteration: ctx.rev.iteration,
+		meta: ctx.rev.meta
 	});
 	await db.transaction(async (txx) => {
 		const tx = txx as unknown as Db;

@@ -65,18 +65,15 @@ export async function projectRecipes(db: Db, projectId: number) {
 }
 
 /**
- * The held revisions a batch repair starts from. A project: every held revision. A generator run:
- * its held revisions no repair was made from yet, so repairing the run twice does not repair the
- * same shape twice (of an iterations run, every held iteration counts, not only the part's newest).
+ * The held revisions a batch repair starts from: those no repair was made from yet, so repairing
+ * twice does not repair the same shape twice. A project: of each part only its newest revision (a
+ * superseded one is not what goes to the solver). A generator run: its held revisions (of an
+ * iterations run every held iteration counts, not only the part's newest).
  */
 function batchHeldWhere(projectId: number, runId: number | null) {
-	if (runId === null) return and(eq(part.projectId, projectId), eq(revision.status, 'held'));
-	return and(
-		eq(part.projectId, projectId),
-		eq(revision.runId, runId),
-		eq(revision.status, 'held'),
-		sql`not exists (select 1 from ${revision} as repair_child where repair_child.parent_revision_id = ${revision.id})`
-	);
+	const notRepaired = sql`not exists (select 1 from ${revision} as repair_child where repair_child.parent_revision_id = ${revision.id})`;
+	if (runId === null) return and(eq(part.projectId, projectId), eq(revision.status, 'held'), eq(part.latestRevisionId, revision.id), notRepaired);
+	return and(eq(part.projectId, projectId), eq(revision.runId, runId), eq(revision.status, 'held'), notRepaired);
 }
 
 /** How many revisions a batch repair of the project (or of one of its runs) would start from. */
@@ -86,8 +83,8 @@ export async function countBatchHeld(db: Db, projectId: number, runId: number | 
 }
 
 /**
- * Applies a saved (or the standard) recipe to every held revision of a project, or with `runId` to
- * the held revisions of that run of the project not repaired yet (countBatchHeld). The
+ * Applies a saved (or the standard) recipe to the held newest revision of each part of a project, or
+ * with `runId` to the held revisions of that run, in both cases those not repaired yet (countBatchHeld). The
  * repairs land in the same run (jobs/repair.ts).
  */
 export async function repairBatch(db: Db, u: SessionUser, projectSlug: string, recipeId: number | null, runId: number | null = null): Promise<{ queued: number; skipped: number }> {

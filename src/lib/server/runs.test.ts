@@ -11,7 +11,7 @@ import { recheck } from './decisions';
 import { processCheckJob } from './jobs/check';
 import { claimJob } from './jobs/queue';
 import { processRepairJob } from './jobs/repair';
-import { proposeRepair, repairBatch, standardRecipe } from './repairs';
+import { countBatchHeld, proposeRepair, repairBatch, standardRecipe } from './repairs';
 import { loadRevisionForUser } from './revisions';
 import { sendRunDigests } from './run-digest';
 import { findOrCreateRun, ingestRunFile, loadRunForUser, runSummary } from './runs';
@@ -208,6 +208,9 @@ describe('generator runs on the real MariaDB', () => {
 			expect((await runSummary(db, await loadRunForUser(db, users.engineer, runId))).states['repair-proposed']).toBe(2);
 			// Nothing left to repair in the run: both held ones have their repair.
 			expect(await repairBatch(db, users.engineer, 'sensor-pods', null, runId)).toEqual({ queued: 0, skipped: 0 });
+			// Nor in the project: its batch repair takes only held newest revisions without a repair.
+			expect(await countBatchHeld(db, (await loadRunForUser(db, users.engineer, runId)).project.id)).toBe(0);
+			expect(await repairBatch(db, users.engineer, 'sensor-pods', null)).toEqual({ queued: 0, skipped: 0 });
 
 			const sent = await Promise.all([sendRunDigests(db, 0), sendRunDigests(db, 0)]);
 			expect(sent.reduce((x, y) => x + y, 0)).toBe(1);

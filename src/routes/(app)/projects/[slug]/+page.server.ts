@@ -8,7 +8,7 @@ import { requireRole } from '$lib/server/auth';
 import { audit } from '$lib/server/audit';
 import { getDb } from '$lib/server/db';
 import { gateProfile, part, project, revision, user } from '$lib/server/db/schema';
-import { projectRecipes, repairBatch } from '$lib/server/repairs';
+import { countBatchHeld, projectRecipes, repairBatch } from '$lib/server/repairs';
 import { failFor, formFailure } from '$lib/server/errors';
 import { batchRepairFormSchema, profileFormFromRules, profileFormSchema, projectSettingsFormSchema, rulesFromProfileForm } from '$lib/forms';
 import { projectRuns } from '$lib/server/runs';
@@ -71,7 +71,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 		runs: (await projectRuns(db, p.id)).map((r) => ({ ...r, revisions: Number(r.revisions) })),
 		stale: (await staleRevisionIds(db, p.id)).length,
 		cleared: await countCleared(db, { runId: null, projectId: p.id }),
-		held: Number((await db.select({ n: sql<number>`count(*)` }).from(revision).innerJoin(part, eq(part.id, revision.partId)).where(and(eq(part.projectId, p.id), eq(revision.status, 'held'))))[0].n)
+		held: await countBatchHeld(db, p.id)
 	};
 };
 

@@ -49,6 +49,7 @@ test('with the project’s size check off, a pod written in metres still shows t
 	await expect(size.getByTestId('explanation')).toContainText('does not hold the revision');
 	await expect(page.locator('[data-rule="min-edge-length"] [data-testid="explanation"]')).toContainText('unit mistake');
 	await expect(page.getByTestId('rules').locator('h2')).toContainText('1 not met · 1 to look at');
+	await expect(page.getByTestId('hint-unit-mistake')).toContainText('m read as mm, ×1,000');
 	await page.screenshot({ path: shot('revision-unit-mistake-no-size-rule'), fullPage: true });
 	const url = page.url();
 	await signOut(page);

@@ -4,7 +4,7 @@
  */
 import type { EdgeTable } from './edges';
 import type { Bbox, ExactWeldPreview, Hint, HoleInfo, ShellInfo, Tolerances } from './report-types';
-import { fmtLength } from '../format';
+import { fmtCount, fmtLength } from '../format';
 
 export interface HintInput {
 	shells: ShellInfo[];
@@ -30,7 +30,7 @@ function pct(share: number): string {
 	return share < 0.001 ? `${(share * 100).toPrecision(2)} %` : `${(share * 100).toFixed(1)} %`;
 }
 
-const int = (n: number) => n.toLocaleString('en-US');
+const int = (n: number) => fmtCount(n);
 const plural = (n: number, one: string, many = `${one}s`) => `${int(n)} ${n === 1 ? one : many}`;
 
 /**

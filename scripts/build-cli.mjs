@@ -42,7 +42,17 @@ if (!process.argv.includes('--if-stale') || stale()) {
 		format: 'esm',
 		target: 'node20',
 		// CommonJS dependencies bundled into an ES module still call require().
-		banner: { js: "import { createRequire as __shellgateRequire } from 'node:module'; const require = __shellgateRequire(import.meta.url);" },
+		// --no-concurrent-osr: a fresh process spends its time in loops that run once each, long
+		// enough to want optimised code; compiled on the spot instead of on a helper thread, a loop
+		// switches to it at once rather than running on in the interpreter while the helper competes
+		// for the same cores (less CPU; README, "Engine bench"). Set before any other code of the
+		// bundle runs; V8 flags are per process, so its worker threads have it too.
+		banner: {
+			js: [
+				"import { setFlagsFromString as __shellgateV8Flags } from 'node:v8'; __shellgateV8Flags('--no-concurrent-osr');",
+				"import { createRequire as __shellgateRequire } from 'node:module'; const require = __shellgateRequire(import.meta.url);"
+			].join('\n')
+		},
 		legalComments: 'none',
 		logLevel: 'warning'
 	});

@@ -60,8 +60,10 @@ export function silhouetteArea(
 	oneSided?: Uint8Array
 ): SilhouetteArea {
 	// Each pass is a function of its own with one loop: a fresh process (the command line) runs
-	// every pass once, and a small function is compiled from its loop quickly and never falls back
-	// to the interpreter for code after the loop that has not run yet.
+	// every pass once, and a small function is compiled from its loop quickly. Nothing after a
+	// pass's loop needs type feedback (its results are returned, or stored inside the loop): code
+	// that has not run yet when the loop is optimised sends it back to the interpreter, to be
+	// compiled again.
 	const vertCount = (positions.length / 3) | 0;
 	const triCount = (indices.length / 3) | 0;
 	const [u, w] = basisFor(direction);
@@ -90,8 +92,8 @@ export function silhouetteArea(
 	if (scratch && (!scratch.mark || scratch.mark.length < need)) scratch.mark = mark;
 	const cand: number[] = [];
 	markCandidates(et, proj, indices, x0, y0, inv, nx, ny, mark, cand);
-	countCells(grid, mark, need, COUNTS);
-	const covered = COUNTS[0], marked = COUNTS[1];
+	const marked = countOnes(mark);
+	const covered = countOutside(grid, mark, need);
 	const cellArea = h * h;
 	if (marked === 0) return { area: covered * cellArea, errorBound: 0, cellsX: nx, cellsY: ny, cellSize: h };
 
@@ -118,8 +120,8 @@ export function silhouetteArea(
 	const sat = new Int32Array((nx + 1) * (ny + 1));
 	summedArea(mark, nx, ny, sat);
 	rasterFine(proj, indices, triCount, skipFace, one, oneSided !== undefined, x0, y0, invF, k, nx, ny, sat, rowStart, cols, fine);
-	markFineEdges(cand, et.edgeLo, et.edgeHi, proj, x0, y0, invF, k, nx, ny, slot, fineEdge, COUNTS);
-	const fineBound = COUNTS[0], stray = COUNTS[1];
+	const fineBound = markFineEdges(cand, et.edgeLo, et.edgeHi, proj, x0, y0, invF, k, nx, ny, slot, fineEdge, STRAY);
+	const stray = STRAY[0];
 	const fineCovered = countOnes(fine);
 	const subArea = cellArea / kk;
 	const bound = fineBound * subArea + stray * cellArea;
@@ -134,8 +136,8 @@ export function silhouetteArea(
 
 const NO_ONE_SIDED = new Uint8Array(0);
 const BOX = new Float64Array(4);
-/** Results of countCells and markFineEdges. */
-const COUNTS = new Float64Array(2);
+/** markFineEdges' second result. */
+const STRAY = new Float64Array(1);
 
 function projectVertices(positions: Float64Array, vertCount: number, u0: number, u1: number, u2: number, w0: number, w1: number, w2: number, proj: Float64Array): void {
 	for (let v = 0; v < vertCount; v++) {
@@ -146,21 +148,21 @@ function projectVertices(positions: Float64Array, vertCount: number, u0: number,
 	}
 }
 
-/** Bounds of the projected corners that faces use: out = [x0, y0, x1, y1]. */
+/** Bounds of the projected corners that faces use: out = [x0, y0, x1, y1] (written as they change). */
 function projectedBox(proj: Float64Array, indices: Uint32Array, out: Float64Array): Float64Array {
 	let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-	for (let i = 0; i < indices.length; i++) {
-		const v2 = 2 * indices[i];
-		const a = proj[v2], b = proj[v2 + 1];
-		if (a < x0) x0 = a;
-		if (a > x1) x1 = a;
-		if (b < y0) y0 = b;
-		if (b > y1) y1 = b;
-	}
 	out[0] = x0;
 	out[1] = y0;
 	out[2] = x1;
 	out[3] = y1;
+	for (let i = 0; i < indices.length; i++) {
+		const v2 = 2 * indices[i];
+		const a = proj[v2], b = proj[v2 + 1];
+		if (a < x0) out[0] = x0 = a;
+		if (a > x1) out[2] = x1 = a;
+		if (b < y0) out[1] = y0 = b;
+		if (b > y1) out[3] = y1 = b;
+	}
 	return out;
 }
 
@@ -246,7 +248,7 @@ function markSegment(ax: number, ay: number, bx: number, by: number, nx: number,
 
 /**
  * Sub-cells (k per cell side) the candidate edges meet, set in fineEdge at their marked cell's
- * slot: out[0] = how many (each once), out[1] = sub-cells met in a cell that is not marked
+ * slot: returns how many (each once); out[0] = sub-cells met in a cell that is not marked
  * (counted as whole cells in the bound).
  */
 function markFineEdges(
@@ -263,44 +265,53 @@ function markFineEdges(
 	slot: Int32Array,
 	fineEdge: Uint8Array,
 	out: Float64Array
-): void {
-	const kk = k * k, fnx = k * nx, fny = k * ny;
-	let stray = 0, met = 0;
+): number {
+	const fny = k * ny;
+	let met = 0;
+	out[0] = 0;
 	for (let i = 0; i < cand.length; i++) {
 		const e = cand[i];
 		const p2 = 2 * edgeLo[e], q2 = 2 * edgeHi[e];
 		const ax = (proj[p2] - x0) * invF, ay = (proj[p2 + 1] - y0) * invF, bx = (proj[q2] - x0) * invF, by = (proj[q2 + 1] - y0) * invF;
 		segmentRows(ay, by, fny, ROWS);
-		const r0 = ROWS[0], r1 = ROWS[1];
-		for (let R = r0; R <= r1; R++) {
-			if (!segmentRowCells(ax, ay, bx, by, R, fnx, ROWS)) continue;
-			const C0 = ROWS[2], C1 = ROWS[3];
-			const cr = (R / k) | 0;
-			for (let C = C0; C <= C1; C++) {
-				const cc = (C / k) | 0;
-				const sl = slot[cr * nx + cc];
-				// A sub-cell the candidate meets lies in a cell it marked; count a stray one as a whole cell.
-				if (sl < 0) stray++;
-				else {
-					const at = sl * kk + (R - cr * k) * k + (C - cc * k);
-					if (fineEdge[at] === 0) (fineEdge[at] = 1), met++;
-				}
+		met += fineEdgeRows(ax, ay, bx, by, ROWS[0], ROWS[1], k, nx, slot, fineEdge, out);
+	}
+	return met;
+}
+
+/**
+ * markFineEdges for one segment, sub-rows r0 .. r1: returns the sub-cells it sets, adds the stray
+ * ones to out[0]. A function of its own for the reason given at fineRows (one long outline edge),
+ * and the count is returned, as a store after the loop that has not run yet would send the
+ * optimised loop back to the interpreter.
+ */
+function fineEdgeRows(ax: number, ay: number, bx: number, by: number, r0: number, r1: number, k: number, nx: number, slot: Int32Array, fineEdge: Uint8Array, out: Float64Array): number {
+	const kk = k * k, fnx = k * nx;
+	let stray = 0, met = 0;
+	for (let R = r0; R <= r1; R++) {
+		if (!segmentRowCells(ax, ay, bx, by, R, fnx, ROWS)) continue;
+		const C0 = ROWS[2], C1 = ROWS[3];
+		const cr = (R / k) | 0;
+		for (let C = C0; C <= C1; C++) {
+			const cc = (C / k) | 0;
+			const sl = slot[cr * nx + cc];
+			// A sub-cell the candidate meets lies in a cell it marked; count a stray one as a whole cell.
+			if (sl < 0) stray++;
+			else {
+				const at = sl * kk + (R - cr * k) * k + (C - cc * k);
+				if (fineEdge[at] === 0) (fineEdge[at] = 1), met++;
 			}
 		}
 	}
-	out[0] = met;
-	out[1] = stray;
+	if (stray) out[0] += stray;
+	return met;
 }
 
-/** out[0] = set cells of a where b is not set, out[1] = set cells of b (both hold 0 or 1). */
-function countCells(a: Uint8Array, b: Uint8Array, n: number, out: Float64Array): void {
-	let onlyA = 0, inB = 0;
-	for (let i = 0; i < n; i++) {
-		if (b[i]) inB++;
-		else onlyA += a[i];
-	}
-	out[0] = onlyA;
-	out[1] = inB;
+/** Set cells of a (0 or 1 each) among the first n where b is not set. */
+function countOutside(a: Uint8Array, b: Uint8Array, n: number): number {
+	let onlyA = 0;
+	for (let i = 0; i < n; i++) if (!b[i]) onlyA += a[i];
+	return onlyA;
 }
 
 /**
@@ -324,12 +335,12 @@ function countOnes(a: Uint8Array): number {
 /** Slot of each marked cell (−1 elsewhere), and per row the sorted columns of its marked cells. */
 function listMarked(mark: Uint8Array, nx: number, ny: number, slot: Int32Array, rowStart: Int32Array, cols: Int32Array): void {
 	let m = 0;
+	rowStart[0] = 0;
 	for (let r = 0; r < ny; r++) {
-		rowStart[r] = m;
 		const row = r * nx;
 		for (let c = 0; c < nx; c++) if (mark[row + c]) (slot[row + c] = m), (cols[m++] = c);
+		rowStart[r + 1] = m;
 	}
-	rowStart[ny] = m;
 }
 
 function summedArea(mark: Uint8Array, nx: number, ny: number, sat: Int32Array): void {
@@ -362,7 +373,6 @@ function rasterFine(
 	cols: Int32Array,
 	fine: Uint8Array
 ): void {
-	const kk = k * k;
 	const kInv = 1 / k;
 	const w = nx + 1;
 	for (let t = 0; t < triCount; t++) {
@@ -387,31 +397,59 @@ function rasterFine(
 		let r0 = Math.ceil(Math.min(ay, by, cy)) + 0, r1 = Math.floor(Math.max(ay, by, cy));
 		if (r0 < 0) r0 = 0;
 		if (r1 > k * ny - 1) r1 = k * ny - 1;
-		for (let R = r0; R <= r1; R++) {
-			const cr = (R / k) | 0;
-			const lo = rowStart[cr], hi = rowStart[cr + 1];
-			// No marked cell of this cell row within the triangle's columns: skip the row's k sub-rows.
-			if (lo === hi || sat[(cr + 1) * w + q1] - sat[cr * w + q1] - sat[(cr + 1) * w + q0] + sat[cr * w + q0] === 0) {
-				R = (cr + 1) * k - 1;
-				continue;
-			}
-			rowSpan(ax, ay, bx, by, cx, cy, R, SPAN);
-			const C0 = Math.max(0, Math.ceil(SPAN[0])), C1 = Math.min(k * nx - 1, Math.floor(SPAN[1]));
-			if (C1 < C0) continue;
-			const cc0 = (C0 / k) | 0, cc1 = (C1 / k) | 0;
-			// First marked column ≥ cc0 in this row (binary search).
-			let a = lo, b = hi;
-			while (a < b) {
-				const mid = (a + b) >> 1;
-				if (cols[mid] < cc0) a = mid + 1;
-				else b = mid;
-			}
-			const sr = (R - cr * k) * k;
-			for (let i = a; i < hi && cols[i] <= cc1; i++) {
-				const base = i * kk + sr, c0 = cols[i] * k;
-				const f0 = Math.max(C0, c0) - c0, f1 = Math.min(C1, c0 + k - 1) - c0;
-				if (f1 >= f0) fine.fill(1, base + f0, base + f1 + 1);
-			}
+		fineRows(ax, ay, bx, by, cx, cy, r0, r1, q0, q1, k, nx, sat, rowStart, cols, fine);
+	}
+}
+
+/**
+ * rasterFine for one triangle (grid units of the sub-cells, pixel centres at integers), sub-rows
+ * r0 .. r1, its cells q0 .. q1 − 1. A function of its own: a fresh process may first optimise
+ * this loop inside one large triangle, and the code after it has then never run.
+ */
+function fineRows(
+	ax: number,
+	ay: number,
+	bx: number,
+	by: number,
+	cx: number,
+	cy: number,
+	r0: number,
+	r1: number,
+	q0: number,
+	q1: number,
+	k: number,
+	nx: number,
+	sat: Int32Array,
+	rowStart: Int32Array,
+	cols: Int32Array,
+	fine: Uint8Array
+): void {
+	const kk = k * k;
+	const w = nx + 1;
+	for (let R = r0; R <= r1; R++) {
+		const cr = (R / k) | 0;
+		const lo = rowStart[cr], hi = rowStart[cr + 1];
+		// No marked cell of this cell row within the triangle's columns: skip the row's k sub-rows.
+		if (lo === hi || sat[(cr + 1) * w + q1] - sat[cr * w + q1] - sat[(cr + 1) * w + q0] + sat[cr * w + q0] === 0) {
+			R = (cr + 1) * k - 1;
+			continue;
+		}
+		rowSpan(ax, ay, bx, by, cx, cy, R, SPAN);
+		const C0 = Math.max(0, Math.ceil(SPAN[0])), C1 = Math.min(k * nx - 1, Math.floor(SPAN[1]));
+		if (C1 < C0) continue;
+		const cc0 = (C0 / k) | 0, cc1 = (C1 / k) | 0;
+		// First marked column ≥ cc0 in this row (binary search).
+		let a = lo, b = hi;
+		while (a < b) {
+			const mid = (a + b) >> 1;
+			if (cols[mid] < cc0) a = mid + 1;
+			else b = mid;
+		}
+		const sr = (R - cr * k) * k;
+		for (let i = a; i < hi && cols[i] <= cc1; i++) {
+			const base = i * kk + sr, c0 = cols[i] * k;
+			const f0 = Math.max(C0, c0) - c0, f1 = Math.min(C1, c0 + k - 1) - c0;
+			if (f1 >= f0) fine.fill(1, base + f0, base + f1 + 1);
 		}
 	}
 }

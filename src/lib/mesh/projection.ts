@@ -429,9 +429,11 @@ function fineRows(
 	for (let R = r0; R <= r1; R++) {
 		const cr = (R / k) | 0;
 		const lo = rowStart[cr], hi = rowStart[cr + 1];
-		// No marked cell of this cell row within the triangle's columns: skip the row's k sub-rows.
+		// No marked cell of this cell row within the triangle's columns: skip the row's k sub-rows
+		// (the last one worked out on every row, so the skip has met its arithmetic before it is optimised).
+		const rowLast = (cr + 1) * k - 1;
 		if (lo === hi || sat[(cr + 1) * w + q1] - sat[cr * w + q1] - sat[(cr + 1) * w + q0] + sat[cr * w + q0] === 0) {
-			R = (cr + 1) * k - 1;
+			R = rowLast;
 			continue;
 		}
 		rowSpan(ax, ay, bx, by, cx, cy, R, SPAN);

@@ -30,6 +30,7 @@ function stale() {
 	let built;
 	try {
 		built = statSync(outfile).mtimeMs;
+		statSync(join(dirname(outfile), 'package.json'));
 	} catch {
 		return true;
 	}

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { displayUnit, fmtArea, fmtCount, fmtIn, fmtLength, fmtNumber, fmtPercent, fmtPoint, fmtVolume, isRoundOff, plural, ROUND_OFF_REL } from './format';
+import { displayUnit, fmtArea, fmtCount, groupedDecimal, fmtIn, fmtLength, fmtNumber, fmtPercent, fmtPoint, fmtVolume, isRoundOff, plural, ROUND_OFF_REL } from './format';
 
 describe('fmtNumber', () => {
 	it('keeps 4 significant digits and drops trailing zeros', () => {
@@ -96,5 +96,23 @@ describe('percent', () => {
 		expect(fmtPercent(0.00213, { signed: true })).toBe('+0.213 %');
 		expect(fmtPercent(-0.125)).toBe('-12.5 %');
 		expect(fmtPercent(0)).toBe('0 %');
+	});
+});
+
+describe('groupedDecimal', () => {
+	it("writes what toLocaleString('en-US', { maximumFractionDigits: 20 }) writes", () => {
+		const values = [0, -0, 1, -1, 999, 1000, -1000, 12480, 1234567, 1234567.125, 0.1 + 0.2, 1e-6, 2.5e-6, 0.001234, 999999.9, 1e20, 123456789012345680000, 5e-7, 1e21, 1e300];
+		let seed = 7;
+		const rnd = () => ((seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31);
+		for (let i = 0; i < 2000; i++) {
+			const mag = 10 ** Math.floor(rnd() * 16 - 7);
+			const x = (rnd() - 0.5) * mag;
+			values.push(x, Number(x.toPrecision(4)), Math.round(x));
+		}
+		for (const x of values) expect(groupedDecimal(x), String(x)).toBe(x.toLocaleString('en-US', { maximumFractionDigits: 20 }));
+	});
+
+	it('counts read as before', () => {
+		for (const n of [0, 7, 1000, 35144, 1001812, 2 ** 31]) expect(fmtCount(n)).toBe(n.toLocaleString('en-US'));
 	});
 });

@@ -43,10 +43,34 @@ export interface MeasureOptions {
 	digits?: number;
 }
 
+/**
+ * A plain decimal (what String gives for 1e-6 ≤ |x| < 1e21) with its integer part grouped by
+ * thousands, as toLocaleString('en-US', { maximumFractionDigits: 20 }) writes it, without the
+ * Intl number formatter, whose first use in a process is a start-up cost the command line feels.
+ * Any other value goes to toLocaleString.
+ */
+export function groupedDecimal(x: number): string {
+	if (x === 0) return Object.is(x, -0) ? '-0' : '0';
+	const a = Math.abs(x);
+	const s = String(a);
+	const dot = s.indexOf('.');
+	if (!(a >= 1e-6 && a < 1e21) || (dot >= 0 && s.length - dot - 1 > 20)) return x.toLocaleString('en-US', { maximumFractionDigits: 20 });
+	const int = dot < 0 ? s : s.slice(0, dot);
+	let out = int.length > 3 ? groupThousands(int) : int;
+	if (dot >= 0) out += s.slice(dot);
+	return x < 0 ? `-${out}` : out;
+}
+
+function groupThousands(digits: string): string {
+	let out = digits.slice(0, digits.length % 3 || 3);
+	for (let i = out.length; i < digits.length; i += 3) out += `,${digits.slice(i, i + 3)}`;
+	return out;
+}
+
 /** Grouped integer; "—" for a missing value. */
 export function fmtCount(n: number | null | undefined): string {
 	if (n == null || !Number.isFinite(n)) return '—';
-	return Math.round(n).toLocaleString('en-US');
+	return groupedDecimal(Math.round(n));
 }
 
 /** "3 holes", "1 hole", "12,480 faces". */
@@ -70,14 +94,14 @@ export function fmtNumber(x: number | null | undefined, digits = DIGITS): string
 	if (x === 0) return '0';
 	const a = Math.abs(x);
 	const r = Number(x.toPrecision(digits));
-	if (Math.abs(r) >= 1e-3 && Math.abs(r) < 1e6) return r.toLocaleString('en-US', { maximumFractionDigits: 20 });
+	if (Math.abs(r) >= 1e-3 && Math.abs(r) < 1e6) return groupedDecimal(r);
 	let e = Math.floor(Math.log10(a) / 3) * 3;
 	let m = Number((x / 10 ** e).toPrecision(digits));
 	if (Math.abs(m) >= 1000) {
 		e += 3;
 		m = Number((x / 10 ** e).toPrecision(digits));
 	}
-	return `${m.toLocaleString('en-US', { maximumFractionDigits: 20 })} × 10${superscript(e)}`;
+	return `${groupedDecimal(m)} × 10${superscript(e)}`;
 }
 
 /** "mm²", "in³". */
@@ -147,7 +171,7 @@ export function fmtPoint(p: readonly number[], unit: string, opts: MeasureOption
 	const du = opts.unit ?? displayUnit(ref, unit, 1);
 	const floor = ref * 1e-4;
 	const one = (c: number) =>
-		!Number.isFinite(c) ? '—' : Math.abs(c) < floor || c === 0 ? '0' : Number((c * du.factor).toPrecision(opts.digits ?? DIGITS)).toLocaleString('en-US', { maximumFractionDigits: 20 });
+		!Number.isFinite(c) ? '—' : Math.abs(c) < floor || c === 0 ? '0' : groupedDecimal(Number((c * du.factor).toPrecision(opts.digits ?? DIGITS)));
 	return `(${p.map(one).join(', ')}) ${du.label}`;
 }
 

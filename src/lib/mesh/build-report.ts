@@ -115,6 +115,38 @@ export function exactWeldPreview(parsed: ParsedMesh): ExactWeldPreview | null {
 	};
 }
 
+/**
+ * Per shell: area, signed volume and bbox ([x0, y0, z0, x1, y1, z1] per shell, set to ±Infinity
+ * beforehand). A function of its own, so a fresh process optimises this loop alone rather than
+ * all of buildReport.
+ */
+function shellSums(p: Float64Array, idx: Uint32Array, faceShell: Int32Array, faceArea: Float64Array, faceVolume: Float64Array, sArea: Float64Array, sVol: Float64Array, sBox: Float64Array): void {
+	const triCount = faceShell.length;
+	for (let t = 0; t < triCount; t++) {
+		const s = faceShell[t];
+		if (s < 0) continue;
+		sArea[s] += faceArea[t];
+		sVol[s] += faceVolume[t];
+		const b6 = 6 * s;
+		for (let k = 0; k < 3; k++) {
+			const v3 = 3 * idx[3 * t + k];
+			for (let a = 0; a < 3; a++) {
+				const x = p[v3 + a];
+				if (x < sBox[b6 + a]) sBox[b6 + a] = x;
+				if (x > sBox[b6 + 3 + a]) sBox[b6 + 3 + a] = x;
+			}
+		}
+	}
+}
+
+/** out[t] = 1 for the faces of closed, manifold, consistently oriented shells (their shadow needs one facing). */
+function closedShellFaces(faceShell: Int32Array, boundaryEdges: Uint32Array, nonManifoldEdges: Uint32Array, inconsistentEdges: Uint32Array, out: Uint8Array): void {
+	for (let t = 0; t < out.length; t++) {
+		const s = faceShell[t];
+		if (s >= 0 && boundaryEdges[s] === 0 && nonManifoldEdges[s] === 0 && inconsistentEdges[s] === 0) out[t] = 1;
+	}
+}
+
 /** Build the full report (self-intersections come in through opts.selfIntersections). */
 export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): InspectionReport {
 	const timings: Record<string, number> = { ...(opts.timings ?? {}) };
@@ -153,21 +185,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		sBox[6 * s + 3] = sBox[6 * s + 4] = sBox[6 * s + 5] = -Infinity;
 	}
 	const p = parsed.positions, idx = parsed.indices;
-	for (let t = 0; t < triCount; t++) {
-		const s = sh.faceShell[t];
-		if (s < 0) continue;
-		sArea[s] += fm.faceArea[t];
-		sVol[s] += fm.faceVolume[t];
-		const b6 = 6 * s;
-		for (let k = 0; k < 3; k++) {
-			const v3 = 3 * idx[3 * t + k];
-			for (let a = 0; a < 3; a++) {
-				const x = p[v3 + a];
-				if (x < sBox[b6 + a]) sBox[b6 + a] = x;
-				if (x > sBox[b6 + 3 + a]) sBox[b6 + 3 + a] = x;
-			}
-		}
-	}
+	shellSums(p, idx, sh.faceShell, fm.faceArea, fm.faceVolume, sArea, sVol, sBox);
 	const shells: ShellInfo[] = [];
 	let genusSum: number | null = 0, wettedArea = 0;
 	let reason: VolumeUndefinedReason | null = null;
@@ -220,10 +238,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	t0 = performance.now();
 	const scratch: SilhouetteScratch = { proj: new Float64Array(0), grid: new Uint8Array(0) };
 	const oneSided = new Uint8Array(triCount);
-	for (let t = 0; t < triCount; t++) {
-		const s = sh.faceShell[t];
-		if (s >= 0 && sh.boundaryEdges[s] === 0 && sh.nonManifoldEdges[s] === 0 && sh.inconsistentEdges[s] === 0) oneSided[t] = 1;
-	}
+	closedShellFaces(sh.faceShell, sh.boundaryEdges, sh.nonManifoldEdges, sh.inconsistentEdges, oneSided);
 	const cells = tol.rasterCells;
 	const px = silhouetteArea(p, idx, collapsed.mask, topo.edges, [1, 0, 0], cells, scratch, oneSided);
 	const py = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 1, 0], cells, scratch, oneSided);

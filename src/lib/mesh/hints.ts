@@ -4,7 +4,7 @@
  */
 import type { EdgeTable } from './edges';
 import type { Bbox, ExactWeldPreview, Hint, HoleInfo, ShellInfo, Tolerances } from './report-types';
-import { fmtLength } from '../format';
+import { fmtCount, fmtLength } from '../format';
 
 export interface HintInput {
 	shells: ShellInfo[];
@@ -30,7 +30,7 @@ function pct(share: number): string {
 	return share < 0.001 ? `${(share * 100).toPrecision(2)} %` : `${(share * 100).toFixed(1)} %`;
 }
 
-const int = (n: number) => n.toLocaleString('en-US');
+const int = (n: number) => fmtCount(n);
 const plural = (n: number, one: string, many = `${one}s`) => `${int(n)} ${n === 1 ? one : many}`;
 
 /**
@@ -188,43 +188,16 @@ export function buildHints(inp: HintInput): Hint[] {
 
 	// Clusters of slivers: sliver faces joined through shared edges, clusters of at least sliverClusterMin.
 	{
-		const q = inp.faceQuality, skip = inp.skipFace, indices = inp.indices;
+		const q = inp.faceQuality, skip = inp.skipFace;
 		const triCount = q.length;
-		const { edgeCount, edgeStart, heSorted } = inp.edges;
-		const parent = new Int32Array(triCount);
-		let slivers = 0;
-		for (let t = 0; t < triCount; t++) {
-			parent[t] = t;
-			if (!skip[t] && q[t] < tol.sliverQuality) slivers++;
-		}
+		const slivers = countSlivers(q, skip, tol.sliverQuality);
 		if (slivers >= tol.sliverClusterMin) {
-			const find = (x: number): number => {
-				while (parent[x] !== x) x = parent[x] = parent[parent[x]];
-				return x;
-			};
-			for (let e = 0; e < edgeCount; e++) {
-				const s = edgeStart[e], n = edgeStart[e + 1] - s;
-				let first = -1;
-				for (let i = 0; i < n; i++) {
-					const f = (heSorted[s + i] / 3) | 0;
-					if (q[f] >= tol.sliverQuality) continue;
-					if (first < 0) first = f;
-					else {
-						const a = find(first), b = find(f);
-						if (a !== b) parent[a < b ? b : a] = a < b ? a : b;
-					}
-				}
-			}
+			const parent = new Int32Array(triCount);
+			joinSlivers(q, tol.sliverQuality, inp.edges, parent);
 			const size = new Uint32Array(triCount);
-			for (let t = 0; t < triCount; t++) if (!skip[t] && q[t] < tol.sliverQuality) size[find(t)]++;
-			let clusters = 0, inClusters = 0;
-			for (let t = 0; t < triCount; t++) {
-				if (size[t] >= tol.sliverClusterMin) {
-					clusters++;
-					inClusters += size[t];
-				}
-			}
-			void indices;
+			clusterSizes(q, skip, tol.sliverQuality, parent, size);
+			const clusters = countAtLeast(size, tol.sliverClusterMin);
+			const inClusters = sumAtLeast(size, tol.sliverClusterMin);
 			if (clusters > 0) {
 				hints.push({
 					kind: 'sliver-cluster',
@@ -261,4 +234,62 @@ export function buildHints(inp: HintInput): Hint[] {
 		});
 	}
 	return hints;
+}
+
+// The face and edge loops of the sliver clusters, each a small function returning its result: a
+// fresh process (the command line) runs each once, and a loop optimised inside a large function
+// drops back to the interpreter at the first code after it that has not run yet.
+
+/** Faces not skipped with quality below the threshold. */
+function countSlivers(q: Float64Array, skip: Uint8Array, below: number): number {
+	let n = 0;
+	for (let t = 0; t < q.length; t++) if (!skip[t] && q[t] < below) n++;
+	return n;
+}
+
+/** Union-find root of x, halving the path on the way. */
+function findRoot(parent: Int32Array, x: number): number {
+	while (parent[x] !== x) x = parent[x] = parent[parent[x]];
+	return x;
+}
+
+/** parent: for each face, a face of its sliver cluster (roots are the smallest face of each). */
+function joinSlivers(q: Float64Array, below: number, edges: EdgeTable, parent: Int32Array): void {
+	identity(parent);
+	const edgeCount = edges.edgeCount, edgeStart = edges.edgeStart, heSorted = edges.heSorted;
+	for (let e = 0; e < edgeCount; e++) {
+		const s = edgeStart[e], n = edgeStart[e + 1] - s;
+		let first = -1;
+		for (let i = 0; i < n; i++) {
+			const f = (heSorted[s + i] / 3) | 0;
+			if (q[f] >= below) continue;
+			if (first < 0) first = f;
+			else {
+				const a = findRoot(parent, first), b = findRoot(parent, f);
+				if (a !== b) parent[a < b ? b : a] = a < b ? a : b;
+			}
+		}
+	}
+}
+
+/** a[i] = i. */
+function identity(a: Int32Array): void {
+	for (let i = 0; i < a.length; i++) a[i] = i;
+}
+
+/** size[root] = sliver faces in the cluster of that root. */
+function clusterSizes(q: Float64Array, skip: Uint8Array, below: number, parent: Int32Array, size: Uint32Array): void {
+	for (let t = 0; t < q.length; t++) if (!skip[t] && q[t] < below) size[findRoot(parent, t)]++;
+}
+
+function countAtLeast(a: Uint32Array, min: number): number {
+	let n = 0;
+	for (let i = 0; i < a.length; i++) if (a[i] >= min) n++;
+	return n;
+}
+
+function sumAtLeast(a: Uint32Array, min: number): number {
+	let n = 0;
+	for (let i = 0; i < a.length; i++) if (a[i] >= min) n += a[i];
+	return n;
 }

@@ -47,14 +47,54 @@ export function measureFaces(positions: Float64Array, indices: Uint32Array, skip
 	const faceQuality = new Float64Array(triCount);
 	const faceVolume = new Float64Array(triCount);
 	const degenerate = new Uint8Array(triCount);
-	const qCounts = new Array<number>(FACE_QUALITY_BINS).fill(0);
-	let degenerateCount = 0, area = 0, volume = 0;
+	const qBinCounts = new Float64Array(FACE_QUALITY_BINS);
+	faceLoop(positions, indices, skipFace, ox, oy, oz, faceArea, faceQuality, faceVolume, degenerate, qBinCounts);
+	// Summed in face order as the loop would have (a skipped face adds +0, which changes no sum).
+	const area = sumOf(faceArea), volume = sumOf(faceVolume), degenerateCount = countSet(degenerate);
+	const qCounts = Array.from(qBinCounts);
+	const qBins: number[] = [];
+	for (let i = 0; i <= FACE_QUALITY_BINS; i++) qBins.push(i / FACE_QUALITY_BINS);
+	return {
+		faceArea,
+		faceQuality,
+		faceVolume,
+		degenerate,
+		degenerateCount,
+		area,
+		volume,
+		bbox,
+		qualityHistogram: {
+			measure: 'normalised radius ratio 2r/R per face (1 = equilateral, 0 = zero area), linear bins on [0, 1]',
+			bins: qBins,
+			counts: qCounts
+		}
+	};
+}
+
+/**
+ * The per-face loop of measureFaces, in a function of its own that stores every result inside the
+ * loop: a fresh process (the command line) runs it once, and code after an optimised loop that has
+ * not run yet would send it back to the interpreter.
+ */
+function faceLoop(
+	positions: Float64Array,
+	indices: Uint32Array,
+	skipFace: Uint8Array,
+	ox: number,
+	oy: number,
+	oz: number,
+	faceArea: Float64Array,
+	faceQuality: Float64Array,
+	faceVolume: Float64Array,
+	degenerate: Uint8Array,
+	qCounts: Float64Array
+): void {
+	const triCount = faceArea.length;
 	for (let t = 0; t < triCount; t++) {
 		const t3 = 3 * t;
 		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
 		if (skipFace[t]) {
 			degenerate[t] = 1;
-			degenerateCount++;
 			qCounts[0]++;
 			continue;
 		}
@@ -77,14 +117,12 @@ export function measureFaces(positions: Float64Array, indices: Uint32Array, skip
 		let q = 0;
 		if (isDeg) {
 			degenerate[t] = 1;
-			degenerateCount++;
 		} else {
 			// 2r/R = 16 A² / ((a + b + c) a b c), r = A/s, R = abc/(4A).
 			const den = (la + lb + lc) * la * lb * lc;
 			q = den > 0 ? (16 * A * A) / den : 0;
 			if (q > 1) q = 1;
 			faceArea[t] = A;
-			area += A;
 		}
 		faceQuality[t] = q;
 		let bin = (q * FACE_QUALITY_BINS) | 0;
@@ -92,25 +130,21 @@ export function measureFaces(positions: Float64Array, indices: Uint32Array, skip
 		qCounts[bin]++;
 		const vol = (ax * (by * cz - bz * cy) + ay * (bz * cx - bx * cz) + az * (bx * cy - by * cx)) / 6;
 		faceVolume[t] = vol;
-		volume += vol;
 	}
-	const qBins: number[] = [];
-	for (let i = 0; i <= FACE_QUALITY_BINS; i++) qBins.push(i / FACE_QUALITY_BINS);
-	return {
-		faceArea,
-		faceQuality,
-		faceVolume,
-		degenerate,
-		degenerateCount,
-		area,
-		volume,
-		bbox,
-		qualityHistogram: {
-			measure: 'normalised radius ratio 2r/R per face (1 = equilateral, 0 = zero area), linear bins on [0, 1]',
-			bins: qBins,
-			counts: qCounts
-		}
-	};
+}
+
+/** Sum in index order. */
+function sumOf(a: Float64Array): number {
+	let s = 0;
+	for (let i = 0; i < a.length; i++) s += a[i];
+	return s;
+}
+
+/** Entries that are not 0. */
+function countSet(a: Uint8Array): number {
+	let n = 0;
+	for (let i = 0; i < a.length; i++) if (a[i]) n++;
+	return n;
 }
 
 export interface EdgeMeasures {
@@ -123,23 +157,13 @@ export interface EdgeMeasures {
 export function measureEdges(positions: Float64Array, et: EdgeTable, shortBelow: number): EdgeMeasures {
 	const n = et.edgeCount;
 	const len = new Float64Array(n);
-	let min = Infinity, max = 0, minPositive = Infinity, shortEdges = 0;
-	const lo = et.edgeLo, hi = et.edgeHi;
-	for (let e = 0; e < n; e++) {
-		const a3 = 3 * lo[e], b3 = 3 * hi[e];
-		const dx = positions[b3] - positions[a3];
-		const dy = positions[b3 + 1] - positions[a3 + 1];
-		const dz = positions[b3 + 2] - positions[a3 + 2];
-		const l = Math.sqrt(dx * dx + dy * dy + dz * dz);
-		len[e] = l;
-		if (l < min) min = l;
-		if (l > max) max = l;
-		if (l > 0 && l < minPositive) minPositive = l;
-		if (l < shortBelow) shortEdges++;
-	}
+	const out = new Float64Array(4);
+	edgeLengths(positions, et.edgeLo, et.edgeHi, n, shortBelow, len, out);
+	let min = out[0];
+	const max = out[1], minPositive = out[2], shortEdges = out[3];
 	if (n === 0) min = 0;
 	const bins: number[] = [];
-	const counts = new Array<number>(EDGE_LENGTH_BINS).fill(0);
+	let counts = new Array<number>(EDGE_LENGTH_BINS).fill(0);
 	if (n > 0 && minPositive < Infinity) {
 		// Log-spaced boundaries from the shortest positive to the longest edge; bins[0] is 0 so
 		// zero-length edges land in the first bin.
@@ -149,13 +173,9 @@ export function measureEdges(positions: Float64Array, et: EdgeTable, shortBelow:
 		for (let i = 1; i < EDGE_LENGTH_BINS; i++) bins.push(Math.exp(l0 + (span * i) / EDGE_LENGTH_BINS));
 		bins.push(max);
 		const scale = EDGE_LENGTH_BINS / span;
-		for (let e = 0; e < n; e++) {
-			const l = len[e];
-			let b = l > 0 ? Math.floor((Math.log(l) - l0) * scale) : 0;
-			if (b < 0) b = 0;
-			if (b >= EDGE_LENGTH_BINS) b = EDGE_LENGTH_BINS - 1;
-			counts[b]++;
-		}
+		const binCounts = new Float64Array(EDGE_LENGTH_BINS);
+		lengthBins(len, l0, scale, binCounts);
+		counts = Array.from(binCounts);
 	} else {
 		bins.push(0, 0);
 		counts.length = 1;
@@ -171,4 +191,40 @@ export function measureEdges(positions: Float64Array, et: EdgeTable, shortBelow:
 			counts
 		}
 	};
+}
+
+/**
+ * Edge lengths into len; out = [shortest, longest (0 when none), shortest positive (Infinity when
+ * none), edges shorter than shortBelow], each stored as it changes (see faceLoop).
+ */
+function edgeLengths(positions: Float64Array, lo: Uint32Array, hi: Uint32Array, n: number, shortBelow: number, len: Float64Array, out: Float64Array): void {
+	let min = Infinity, max = 0, minPositive = Infinity, shortEdges = 0;
+	out[0] = min;
+	out[1] = max;
+	out[2] = minPositive;
+	out[3] = shortEdges;
+	for (let e = 0; e < n; e++) {
+		const a3 = 3 * lo[e], b3 = 3 * hi[e];
+		const dx = positions[b3] - positions[a3];
+		const dy = positions[b3 + 1] - positions[a3 + 1];
+		const dz = positions[b3 + 2] - positions[a3 + 2];
+		const l = Math.sqrt(dx * dx + dy * dy + dz * dz);
+		len[e] = l;
+		if (l < min) out[0] = min = l;
+		if (l > max) out[1] = max = l;
+		if (l > 0 && l < minPositive) out[2] = minPositive = l;
+		if (l < shortBelow) out[3] = ++shortEdges;
+	}
+}
+
+/** Log-spaced bin counts of the lengths (bin 0 also takes zero lengths). */
+function lengthBins(len: Float64Array, l0: number, scale: number, counts: Float64Array): void {
+	const last = counts.length - 1;
+	for (let e = 0; e < len.length; e++) {
+		const l = len[e];
+		let b = l > 0 ? Math.floor((Math.log(l) - l0) * scale) : 0;
+		if (b < 0) b = 0;
+		if (b > last) b = last;
+		counts[b]++;
+	}
 }

@@ -600,7 +600,7 @@ async function latencyPhase(token: string) {
 		figures.push(
 			`latency (MALLOC_TRIM_THRESHOLD_=${trim}): app answering and engine thread warm ${startedS.toFixed(1)} s after start (warm-up ${warm?.[1] ?? '?'} ms); ${tris90.toLocaleString('en')}-triangle uploads one at a time, ${rest.length} after the first: ` +
 				`acknowledged ${ps(sum('ackMs'))}; verdict ${ps(sum('verdictMs'))} (MariaDB polled every ${VERDICT_POLL_MS} ms; through the API ${ps(sum('apiMs'))}); ` +
-				`first check after the start: acknowledged ${f(first.ackMs)} ms, verdict ${f(first.verdictMs)} ms (engine ${f(first.engineMs)} ms); load average ${loadAvg()}`
+				`first check after the start: acknowledged ${f(first.ackMs)} ms, verdict ${f(first.verdictMs)} ms (engine ${f(first.engineMs)} ms; job queued ${f(first.queuedAt)}, claimed ${f(first.claimedAt)}, check row written ${f(first.writtenAt)}, job finished ${f(first.finishedAt)} ms after the upload began); load average ${loadAvg()}`
 		);
 		figures.push(
 			`latency breakdown, medians from the rows' timestamps (ms after the upload began): job queued ${f(pct(sum('queuedAt'), 50))}, acknowledged ${f(pct(sum('ackMs'), 50))}, claimed ${f(pct(sum('claimedAt'), 50))}, check row written ${f(pct(sum('writtenAt'), 50))} (engine's own total ${f(pct(sum('engineMs'), 50))}), job finished ${f(pct(sum('finishedAt'), 50))}, verdict seen ${f(pct(sum('verdictMs'), 50))}; report ${(pct(sum('reportBytes'), 50) / 1024).toFixed(0)} KB`

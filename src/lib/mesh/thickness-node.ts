@@ -8,11 +8,16 @@
  * bytes per face), and the workers plus this thread take chunks of BVH slots from one Atomics
  * counter. Slots map to distinct faces, so every thread writes disjoint entries of the shared
  * output arrays and the result equals the single-thread one exactly. A failing worker rejects
- * the promise and all workers are terminated. Workers are started per call (no pool yet: the
- * integrator may keep them beside the self-intersection pool when this joins the report).
+ * the promise and is terminated.
+ *
+ * Worker pool: starting a worker costs module loading and compiling in the new thread, so workers
+ * live in a ThicknessPool (warm, acquire, release, close), as the self-intersection workers do in
+ * theirs; each thread has one default pool (`thicknessPool()`), and a kept engine thread warms it
+ * at start. Workers take one job message at a time; idle ones are unref'd, so a pool never keeps
+ * a process alive. A call that finds the pool busy gets workers of its own, terminated after.
  */
 import { availableParallelism } from 'node:os';
-import { workerData, parentPort, type Worker } from 'node:worker_threads';
+import { parentPort, type Worker } from 'node:worker_threads';
 import { isWorkerFor, spawnModuleWorker } from './module-worker-node';
 import { buildRayBvh, distancesBothRange, type DistanceArrays, type FaceDistanceOptions, type FaceDistances, type RayBvh } from './thickness';
 import type { MeshBuffers } from './types';
@@ -84,6 +89,8 @@ function drain(job: SharedJob, v: ReturnType<typeof viewJob>): number {
 export interface ParallelDistanceOptions extends FaceDistanceOptions {
 	/** Threads in all, this one included; default os.availableParallelism(). 1 runs here only. */
 	threads?: number;
+	/** Where the workers come from; default this thread's thicknessPool(). */
+	pool?: ThicknessPool;
 }
 
 /**
@@ -114,39 +121,143 @@ export async function faceDistancesBothParallel(mesh: MeshBuffers, opts: Paralle
 		counter: new SharedArrayBuffer(4)
 	};
 	const workerCount = Math.max(0, Math.min((opts.threads ?? availableParallelism()) - 1, Math.ceil(n / CHUNK) - 1));
-	const workers: Worker[] = [];
-	const done: Promise<number>[] = [];
-	for (let k = 0; k < workerCount; k++) {
-		const w = spawnModuleWorker(new URL(import.meta.url).href, WORKER_TAG, { job });
-		workers.push(w);
-		done.push(
+	const pool = opts.pool ?? thicknessPool();
+	const held = workerCount > 0 ? pool.acquire(workerCount) : null;
+	const workers: Worker[] = held ?? Array.from({ length: workerCount }, () => spawnWorker());
+	const id = nextJob++;
+	const failed = new Set<Worker>();
+	const cleanups: (() => void)[] = [];
+	const done = workers.map(
+		(w) =>
 			new Promise<number>((resolve, reject) => {
-				w.once('message', (m: { rays?: number; error?: string }) => (m.error ? reject(new Error(m.error)) : resolve(m.rays ?? 0)));
-				w.once('error', reject);
-				w.once('exit', (code) => code !== 0 && reject(new Error(`thickness worker exited with ${code}`)));
+				const fail = (e: Error) => {
+					failed.add(w);
+					reject(e);
+				};
+				const onMessage = (m: WorkerOutput) => {
+					if (m.id !== id) return;
+					if (m.error !== undefined) fail(new Error(m.error));
+					else resolve(m.rays ?? 0);
+				};
+				const onExit = (code: number) => fail(new Error(`thickness worker exited with ${code}`));
+				w.on('message', onMessage);
+				w.on('error', fail);
+				w.on('exit', onExit);
+				cleanups.push(() => {
+					w.off('message', onMessage);
+					w.off('error', fail);
+					w.off('exit', onExit);
+					w.unref();
+				});
+				w.ref();
+				w.postMessage({ id, job } satisfies WorkerInput);
 			})
-		);
-	}
+	);
+	// Handled here so a worker failing while this thread drains is never reported as unhandled.
+	const all = Promise.all(done);
+	all.catch(() => {});
 	try {
 		// This thread works too; workers still starting find fewer chunks left, never a wrong one.
 		let rays = drain(job, viewJob(job));
-		rays += (await Promise.all(done)).reduce((a, b) => a + b, 0);
+		rays += (await all).reduce((a, b) => a + b, 0);
 		const ms = performance.now() - t0;
 		const result = (a: DistanceArrays): FaceDistances => ({ ...a, rays, ms });
 		return { thickness: result(th.arrays), gap: result(gp.arrays), buildMs };
+	} catch (e) {
+		// A failed worker may still be draining: stop them all (a pooled one leaves the pool).
+		for (const w of workers) failed.add(w);
+		throw e;
 	} finally {
-		for (const w of workers) void w.terminate();
+		for (const c of cleanups) c();
+		for (const w of failed) void w.terminate();
+		if (held) pool.release([...failed]);
+		else for (const w of workers) void w.terminate();
 	}
 }
 
-function runThicknessWorker(): void {
-	const job = (workerData as { job: SharedJob }).job;
-	try {
-		const rays = drain(job, viewJob(job));
-		parentPort!.postMessage({ rays });
-	} catch (e) {
-		parentPort!.postMessage({ error: e instanceof Error ? e.message : String(e) });
+interface WorkerInput {
+	/** Call id, echoed back so an answer is never taken for another call's. */
+	id: number;
+	job: SharedJob;
+}
+
+interface WorkerOutput {
+	id: number;
+	rays?: number;
+	error?: string;
+}
+
+let nextJob = 1;
+
+function spawnWorker(): Worker {
+	const w = spawnModuleWorker(new URL(import.meta.url).href, WORKER_TAG, {});
+	w.unref();
+	return w;
+}
+
+/** Wall-and-gap workers kept between calls until close(); a call that finds them busy gets workers of its own. */
+export class ThicknessPool {
+	private workers: Worker[] = [];
+	private busy = false;
+
+	/** Starts workers up to `workers` without waiting for them, so a later call does not pay their start-up. */
+	warm(workers: number): void {
+		if (this.busy) return;
+		while (this.workers.length < Math.floor(workers)) this.workers.push(this.watch(spawnWorker()));
 	}
+
+	/** `count` workers of this pool for one call, started as needed; null while another call holds them. */
+	acquire(count: number): Worker[] | null {
+		if (this.busy) return null;
+		this.busy = true;
+		while (this.workers.length < count) this.workers.push(this.watch(spawnWorker()));
+		return this.workers.slice(0, count);
+	}
+
+	/** The call is over; `failed` workers (terminated) leave the pool. */
+	release(failed: Worker[]): void {
+		for (const w of failed) this.drop(w);
+		this.busy = false;
+	}
+
+	get size(): number {
+		return this.workers.length;
+	}
+
+	async close(): Promise<void> {
+		const ws = this.workers.splice(0, this.workers.length);
+		await Promise.all(ws.map((w) => w.terminate()));
+	}
+
+	private drop(w: Worker): void {
+		const k = this.workers.indexOf(w);
+		if (k >= 0) this.workers.splice(k, 1);
+	}
+
+	private watch(w: Worker): Worker {
+		w.once('exit', () => this.drop(w));
+		return w;
+	}
+}
+
+let defaultPool: ThicknessPool | null = null;
+
+/** This thread's default pool, made on first use. */
+export function thicknessPool(): ThicknessPool {
+	defaultPool ??= new ThicknessPool();
+	return defaultPool;
+}
+
+/** Worker side: runs each job message it is sent and posts the line queries it cast. */
+function runThicknessWorker(): void {
+	const port = parentPort!;
+	port.on('message', ({ id, job }: WorkerInput) => {
+		try {
+			port.postMessage({ id, rays: drain(job, viewJob(job)) } satisfies WorkerOutput);
+		} catch (e) {
+			port.postMessage({ id, error: e instanceof Error ? e.message : String(e) } satisfies WorkerOutput);
+		}
+	});
 }
 
 if (isWorkerFor(WORKER_TAG)) runThicknessWorker();

@@ -4,7 +4,8 @@
 // past its time limit, was cancelled, crashed or reported an internal error is terminated, never
 // reused; idle threads are unref'd (they never keep the process alive) and end after `idleMs`.
 // `warm()` starts `keepWarm` threads ahead of the first task (the server calls it at start) and each
-// runs a small warm-up check, so the first real check is not the slow one. Memory: a thread keeps
+// runs small warm-up checks through every stage a real check runs, on the thread and on its worker
+// threads (engine-thread.ts warmUp), so the first real check is not the slow one. Memory: a thread keeps
 // what its largest task grew it to, so one that ran a large file (`retireBytes`) ends after
 // `retireIdleMs` idle and a fresh warm one takes its place.
 import type { Worker } from 'node:worker_threads';
@@ -35,6 +36,8 @@ export interface EnginePoolOptions {
 	idleMs: number;
 	/** Threads kept started and warm while idle, once warm() was called (default 0). */
 	keepWarm?: number;
+	/** Worker threads a check of a kept thread starts (the `threads` of its check tasks): the warm-up runs on as many. Default one per core. */
+	warmThreads?: number;
 	/** A task input this large marks its thread for retirement when next idle (default 24 MB, about 500 k faces of binary STL). */
 	retireBytes?: number;
 	/** How long such a thread stays idle before it ends (default 5 s). */
@@ -89,7 +92,7 @@ export class EnginePool {
 					slot.w.on('message', onMessage);
 					slot.w.on('exit', onExit);
 					// Kept referenced while warming (a caller awaiting warm() sees it finish); idle, it is unref'd.
-					slot.w.postMessage({ id, input: { task: 'warm' } } satisfies EngineRequest);
+					slot.w.postMessage({ id, input: { task: 'warm', threads: this.opts.warmThreads } } satisfies EngineRequest);
 				})
 			);
 		}

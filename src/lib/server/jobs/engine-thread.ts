@@ -2,7 +2,8 @@
 // a repaired file or a converted file out, with progress. Imports only src/lib/mesh, so a worker
 // thread loads no server or database code.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
-import { defaultSelfIntersectThreads, inspectFileNode } from '../../mesh/inspect-node';
+import { defaultSelfIntersectThreads, inspectFileNode, SELF_INTERSECT_WORKER_MIN_FACES } from '../../mesh/inspect-node';
+import { thicknessPool } from '../../mesh/thickness-node';
 import { warmSelfIntersectPool } from '../../mesh/self-intersect-node';
 import { isWorkerFor, lowerThisThreadPriority } from '../../mesh/module-worker-node';
 import { readMesh } from '../../mesh/read';
@@ -19,7 +20,16 @@ export const ENGINE_THREAD_URL = import.meta.url;
 export const ENGINE_THREAD_TAG = 'shellgate-engine';
 
 export type EngineTask =
-	| { task: 'check'; bytes: Uint8Array; fileName: string; options: InspectOptions; threads: number; previous?: PreviousIteration }
+	| {
+			task: 'check';
+			bytes: Uint8Array;
+			fileName: string;
+			options: InspectOptions;
+			threads: number;
+			previous?: PreviousIteration;
+			/** Faces from which worker threads are used (inspect-node.ts); default ENGINE_WORKER_MIN_FACES. */
+			workerMinFaces?: number;
+	  }
 	| { task: 'repair'; bytes: Uint8Array; fileName: string; steps: RepairStep[]; maxFaces: number }
 	| { task: 'export'; bytes: Uint8Array; fileName: string; format: ExportFormat; maxFaces: number };
 
@@ -81,6 +91,7 @@ async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise
 		const report = await inspectFileNode(input.bytes, input.fileName, {
 			...input.options,
 			threads: input.threads,
+			workerMinFaces: input.workerMinFaces ?? ENGINE_WORKER_MIN_FACES,
 			onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
 		});
 		if (input.previous) {
@@ -139,39 +150,88 @@ async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise
 /** What the pool sends a long-lived engine thread: one task at a time, tagged with its id. */
 export interface EngineRequest {
 	id: number;
-	/** `warm`: a small check of a made-up mesh, so the first real check runs compiled code. */
-	input: EngineTask | { task: 'warm' };
+	/**
+	 * `warm`: small checks of a made-up mesh through every stage a real check runs, on this thread
+	 * and on `threads` worker threads, so the first real check runs compiled code.
+	 */
+	input: EngineTask | { task: 'warm'; threads?: number };
 }
 
-/** A closed latitude-longitude sphere of about 24,000 faces, as binary STL: the warm-up check's input. */
+/**
+ * Faces from which a check in a kept engine thread uses worker threads (self-intersections, walls
+ * and gaps). Lower than the command line's SELF_INTERSECT_WORKER_MIN_FACES: here the workers are
+ * started and compiled by the warm-up, so a check pays only handing the mesh over.
+ */
+export const ENGINE_WORKER_MIN_FACES = SELF_INTERSECT_WORKER_MIN_FACES;
+
+/**
+ * A hollow ball as binary STL, the warm-up check's input: two latitude-longitude spheres of
+ * radius 1 and 0.95, the inner one facing inwards, about 24,000 faces each (edges about 0.05).
+ */
 function warmUpMesh(): Uint8Array {
 	const rings = 96, segs = 128;
-	const positions: number[] = [0, 0, 1];
-	for (let i = 1; i < rings; i++) {
-		const th = (Math.PI * i) / rings;
-		for (let j = 0; j < segs; j++) {
-			const ph = (2 * Math.PI * j) / segs;
-			positions.push(Math.sin(th) * Math.cos(ph), Math.sin(th) * Math.sin(ph), Math.cos(th));
-		}
-	}
-	positions.push(0, 0, -1);
-	const south = positions.length / 3 - 1;
-	const at = (i: number, j: number) => 1 + (i - 1) * segs + (j % segs);
+	const positions: number[] = [];
 	const indices: number[] = [];
-	for (let j = 0; j < segs; j++) indices.push(0, at(1, j), at(1, j + 1));
-	for (let i = 1; i < rings - 1; i++) {
-		for (let j = 0; j < segs; j++) indices.push(at(i, j), at(i + 1, j), at(i + 1, j + 1), at(i, j), at(i + 1, j + 1), at(i, j + 1));
+	for (const [r, inward] of [[1, false], [0.95, true]] as const) {
+		const base = positions.length / 3;
+		positions.push(0, 0, r);
+		for (let i = 1; i < rings; i++) {
+			const th = (Math.PI * i) / rings;
+			for (let j = 0; j < segs; j++) {
+				const ph = (2 * Math.PI * j) / segs;
+				positions.push(r * Math.sin(th) * Math.cos(ph), r * Math.sin(th) * Math.sin(ph), r * Math.cos(th));
+			}
+		}
+		positions.push(0, 0, -r);
+		const south = positions.length / 3 - 1;
+		const at = (i: number, j: number) => base + 1 + (i - 1) * segs + (j % segs);
+		const tri = (a: number, b: number, c: number) => (inward ? indices.push(a, c, b) : indices.push(a, b, c));
+		for (let j = 0; j < segs; j++) tri(base, at(1, j), at(1, j + 1));
+		for (let i = 1; i < rings - 1; i++) {
+			for (let j = 0; j < segs; j++) {
+				tri(at(i, j), at(i + 1, j), at(i + 1, j + 1));
+				tri(at(i, j), at(i + 1, j + 1), at(i, j + 1));
+			}
+		}
+		for (let j = 0; j < segs; j++) tri(south, at(rings - 1, j + 1), at(rings - 1, j));
 	}
-	for (let j = 0; j < segs; j++) indices.push(south, at(rings - 1, j + 1), at(rings - 1, j));
 	return writeBinaryStl({ positions: Float64Array.from(positions), indices: Uint32Array.from(indices) });
 }
 
-async function warmUp(): Promise<void> {
-	// Twice: the second run finds most loops compiled by the optimising compiler.
+/**
+ * Options that switch on every stage check.ts asks for: a cell size under the edge length (four
+ * rays a face) whose range reaches the 0.05 wall (so rays hit and walls are flagged), short edges
+ * counted, a flow direction off the axes (a fourth projection), and a previous iteration.
+ */
+const WARM_UP_OPTIONS: InspectOptions = { cellSize: 0.03, thinCells: 2, minEdgeLength: 0.04, flowDirection: [1, 0.25, 0], units: 'm', fileName: 'warm-up.stl' };
+
+/** The warm-up checks' time, for the log (engine-pool.ts reports it). */
+async function warmUp(threads: number): Promise<{ ms: number[] }> {
 	const bytes = warmUpMesh();
-	for (let k = 0; k < 2; k++) await inspectFileNode(bytes, 'warm-up.stl', {});
-	// The self-intersection workers large checks use start now too; idle, they never keep the process alive.
-	warmSelfIntersectPool(defaultSelfIntersectThreads());
+	const ms: number[] = [];
+	// On this thread alone, then with the workers a large check uses (self-intersections, walls and
+	// gaps), each twice: the second run finds most loops compiled by the optimising compiler.
+	const rounds = threads > 0 ? [0, 0, threads, threads] : [0, 0];
+	for (const t of rounds) {
+		const t0 = performance.now();
+		const task: EngineTask = {
+			task: 'check',
+			bytes: bytes.slice(),
+			fileName: 'warm-up.stl',
+			options: WARM_UP_OPTIONS,
+			threads: t,
+			workerMinFaces: 0,
+			previous: { revisionId: 0, iteration: null, bytes, fileName: 'warm-up.stl' }
+		};
+		await run(task, () => {});
+		ms.push(Math.round(performance.now() - t0));
+	}
+	// Started and kept whether or not the rounds above used them; idle, they never keep the process alive.
+	if (threads > 0) {
+		warmSelfIntersectPool(threads);
+		thicknessPool().warm(Math.max(0, threads - 1));
+	}
+	return { ms };
 }
 
 /** Thread start-up data (workerData). */
@@ -193,8 +253,7 @@ export function runEngineThread(): void {
 		const post = (m: EngineMessage) => port.postMessage({ ...m, id });
 		try {
 			if (input.task === 'warm') {
-				await warmUp();
-				post({ type: 'done', result: null });
+				post({ type: 'done', result: await warmUp(input.threads ?? defaultSelfIntersectThreads()) });
 				return;
 			}
 			const result = await run(input, post);

@@ -151,12 +151,26 @@ export const CASES: Record<string, BenchCase> = {
 		const warmMs = performance.now() - t0;
 		const rssWarm = rss();
 		const copies = [bytes.slice(), bytes.slice()];
+		// Minor page faults (all threads): memory a check touches for the first time.
+		const faults = () => process.resourceUsage().minorPageFault;
+		const cpu = (c0: NodeJS.CpuUsage) => {
+			const c = process.cpuUsage(c0);
+			return Math.round((c.user + c.system) / 1000);
+		};
+		let f0 = faults();
+		let c0 = process.cpuUsage();
 		t0 = performance.now();
 		const first = await check(copies[0]);
 		const firstMs = performance.now() - t0;
+		const firstFaults = faults() - f0;
+		const firstCpu = cpu(c0);
+		f0 = faults();
+		c0 = process.cpuUsage();
 		t0 = performance.now();
 		await check(copies[1]);
 		const secondMs = performance.now() - t0;
+		const secondFaults = faults() - f0;
+		const secondCpu = cpu(c0);
 		const rssChecked = rss();
 		const retired = bytes.byteLength >= 24 * 1024 * 1024;
 		if (retired) {
@@ -174,6 +188,8 @@ export const CASES: Record<string, BenchCase> = {
 				'warm() ms': Math.round(warmMs),
 				'first check ms': Math.round(firstMs),
 				'second check ms': Math.round(secondMs),
+				'page faults first / second check': `${firstFaults} / ${secondFaults}`,
+				'CPU ms first / second check': `${firstCpu} / ${secondCpu}`,
 				'RSS MB at start / warm / after 2 checks / idle later': [rss0, rssWarm, rssChecked, rssAfter].map((x) => Math.round(x)).join(' / '),
 				'idle later': retired ? 'thread retired and replaced' : 'thread kept (file under 24 MB)'
 			}

@@ -2,7 +2,7 @@
 // a repaired file or a converted file out, with progress. Imports only src/lib/mesh, so a worker
 // thread loads no server or database code.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
-import { defaultSelfIntersectThreads, inspectFileNode, SELF_INTERSECT_WORKER_MIN_FACES } from '../../mesh/inspect-node';
+import { defaultSelfIntersectThreads, inspectFileNode } from '../../mesh/inspect-node';
 import { thicknessPool } from '../../mesh/thickness-node';
 import { warmSelfIntersectPool } from '../../mesh/self-intersect-node';
 import { isWorkerFor, lowerThisThreadPriority } from '../../mesh/module-worker-node';
@@ -159,10 +159,12 @@ export interface EngineRequest {
 
 /**
  * Faces from which a check in a kept engine thread uses worker threads (self-intersections, walls
- * and gaps). Lower than the command line's SELF_INTERSECT_WORKER_MIN_FACES: here the workers are
- * started and compiled by the warm-up, so a check pays only handing the mesh over.
+ * and gaps). Far lower than the command line's SELF_INTERSECT_WORKER_MIN_FACES: here the workers
+ * are started and compiled by the warm-up, so a check pays only for handing the mesh over. Set
+ * between the sizes the bench's check-warm case measured as a loss (35 k) and a gain (90 k) with
+ * BENCH_WORKER_MIN_FACES=0 against the default (README, "Engine bench").
  */
-export const ENGINE_WORKER_MIN_FACES = SELF_INTERSECT_WORKER_MIN_FACES;
+export const ENGINE_WORKER_MIN_FACES = 60_000;
 
 /**
  * A hollow ball as binary STL, the warm-up check's input: two latitude-longitude spheres of

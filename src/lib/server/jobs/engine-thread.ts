@@ -168,10 +168,10 @@ export const ENGINE_WORKER_MIN_FACES = 60_000;
 
 /**
  * A hollow ball as binary STL, the warm-up check's input: two latitude-longitude spheres of
- * radius 1 and 0.95, the inner one facing inwards, about 24,000 faces each (edges about 0.05).
+ * radius 1 and 0.95, the inner one facing inwards, 2 × rings × segs faces in all (96 × 128: about
+ * 49,000 faces, edges about 0.05).
  */
-function warmUpMesh(): Uint8Array {
-	const rings = 96, segs = 128;
+function warmUpMesh(rings: number, segs: number): Uint8Array {
 	const positions: number[] = [];
 	const indices: number[] = [];
 	for (const [r, inward] of [[1, false], [0.95, true]] as const) {
@@ -209,12 +209,18 @@ const WARM_UP_OPTIONS: InspectOptions = { cellSize: 0.03, thinCells: 2, minEdgeL
 
 /** The warm-up checks' time, for the log (engine-pool.ts reports it). */
 async function warmUp(threads: number): Promise<{ ms: number[] }> {
-	const bytes = warmUpMesh();
+	const small = warmUpMesh(96, 128);
 	const ms: number[] = [];
-	// On this thread alone, then with the workers a large check uses (self-intersections, walls and
-	// gaps), each twice: the second run finds most loops compiled by the optimising compiler.
-	const rounds = threads > 0 ? [0, 0, threads, threads] : [0, 0];
-	for (const t of rounds) {
+	// On this thread alone, as checks under ENGINE_WORKER_MIN_FACES run, then with the workers larger
+	// ones use (self-intersections, walls and gaps), each twice: the second run finds most loops
+	// compiled by the optimising compiler. The last check is of about 100,000 faces, so an everyday
+	// upload finds the memory it needs touched already (fresh pages cost 12-16 µs each here).
+	const rounds: { t: number; big: boolean }[] =
+		threads > 0
+			? [{ t: 0, big: false }, { t: 0, big: false }, { t: threads, big: false }, { t: threads, big: true }]
+			: [{ t: 0, big: false }, { t: 0, big: true }];
+	for (const { t, big } of rounds) {
+		const bytes = big ? warmUpMesh(128, 200) : small;
 		const t0 = performance.now();
 		const task: EngineTask = {
 			task: 'check',

@@ -25,6 +25,8 @@ interface Slot {
 	idleTimer: ReturnType<typeof setTimeout> | null;
 	/** Set once the thread ran a task of retireBytes or more. */
 	big: boolean;
+	/** Set when a task took this thread while it was still warming up. */
+	claimed?: boolean;
 }
 
 export interface EnginePoolOptions {
@@ -49,6 +51,8 @@ const DEFAULT_RETIRE_IDLE_MS = 5_000;
 
 export class EnginePool {
 	private idle: Slot[] = [];
+	/** Threads running their warm-up, which a task may take rather than start a cold thread. */
+	private warmingSlots: Slot[] = [];
 	private nextId = 1;
 	/** Memory limit of the threads warm() keeps; null until warm() is called. */
 	private warmLimitMb: number | null = null;
@@ -74,15 +78,21 @@ export class EnginePool {
 		while (this.idle.filter((s) => s.memoryLimitMb === limitMb).length + this.warming < want) {
 			this.warming++;
 			const slot = this.spawn(limitMb);
+			this.warmingSlots.push(slot);
 			const id = this.nextId++;
 			started.push(
 				new Promise<void>((resolve) => {
 					const done = (ok: boolean) => {
 						slot.w.off('message', onMessage);
 						slot.w.off('exit', onExit);
-						this.warming--;
-						if (ok && !this.closed) this.release(slot);
-						else void slot.w.terminate();
+						const k = this.warmingSlots.indexOf(slot);
+						if (k >= 0) this.warmingSlots.splice(k, 1);
+						// A task that took the thread meanwhile (take()) owns it now and releases it.
+						if (!slot.claimed) {
+							this.warming--;
+							if (ok && !this.closed) this.release(slot);
+							else void slot.w.terminate();
+						}
 						resolve();
 					};
 					const onMessage = (m: EngineMessage & { id?: number }) => {
@@ -180,6 +190,15 @@ export class EnginePool {
 			slot.idleTimer = null;
 			return slot;
 		}
+		// A thread still warming up has its modules loaded and part of its code compiled: it runs
+		// the task once its current warm-up round ends, sooner than a cold thread would start.
+		const w = this.warmingSlots.findIndex((s) => s.memoryLimitMb === memoryLimitMb);
+		if (w >= 0) {
+			const [slot] = this.warmingSlots.splice(w, 1);
+			slot.claimed = true;
+			this.warming--;
+			return slot;
+		}
 		return this.spawn(memoryLimitMb);
 	}
 
@@ -196,6 +215,7 @@ export class EnginePool {
 	}
 
 	private release(slot: Slot): void {
+		slot.claimed = false;
 		if (this.idle.length >= this.opts.maxIdle) {
 			void slot.w.terminate();
 			return;

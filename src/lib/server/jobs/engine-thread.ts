@@ -207,8 +207,8 @@ function warmUpMesh(rings: number, segs: number): Uint8Array {
  */
 const WARM_UP_OPTIONS: InspectOptions = { cellSize: 0.03, thinCells: 2, minEdgeLength: 0.04, flowDirection: [1, 0.25, 0], units: 'm', fileName: 'warm-up.stl' };
 
-/** The warm-up checks' time, for the log (engine-pool.ts reports it). */
-async function warmUp(threads: number): Promise<{ ms: number[] }> {
+/** Runs the warm-up checks until `stop()` says a real task waits; their times. */
+async function warmUp(threads: number, stop: () => boolean): Promise<{ ms: number[] }> {
 	const small = warmUpMesh(96, 128);
 	const ms: number[] = [];
 	// On this thread alone, as checks under ENGINE_WORKER_MIN_FACES run, then with the workers larger
@@ -220,6 +220,7 @@ async function warmUp(threads: number): Promise<{ ms: number[] }> {
 			? [{ t: 0, big: false }, { t: 0, big: false }, { t: threads, big: false }, { t: threads, big: true }]
 			: [{ t: 0, big: false }, { t: 0, big: true }];
 	for (const { t, big } of rounds) {
+		if (stop()) break;
 		const bytes = big ? warmUpMesh(128, 200) : small;
 		const t0 = performance.now();
 		const task: EngineTask = {
@@ -257,13 +258,22 @@ export function runEngineThread(): void {
 	if (isMainThread || !parentPort) throw new Error('runEngineThread must run in a worker thread');
 	const port = parentPort;
 	lowerThisThreadPriority((workerData as EngineThreadData).niceness ?? 0);
-	port.on('message', async ({ id, input }: EngineRequest) => {
+	// One message at a time, in order. A task sent while the warm-up runs (the pool hands a check
+	// to a warming thread rather than start a cold one) ends the warm-up after its current round.
+	let queue: Promise<void> = Promise.resolve();
+	let tasksWaiting = 0;
+	port.on('message', (req: EngineRequest) => {
+		if (req.input.task !== 'warm') tasksWaiting++;
+		queue = queue.then(() => handle(req));
+	});
+	const handle = async ({ id, input }: EngineRequest): Promise<void> => {
 		const post = (m: EngineMessage) => port.postMessage({ ...m, id });
 		try {
 			if (input.task === 'warm') {
-				post({ type: 'done', result: await warmUp(input.threads ?? defaultSelfIntersectThreads()) });
+				post({ type: 'done', result: await warmUp(input.threads ?? defaultSelfIntersectThreads(), () => tasksWaiting > 0) });
 				return;
 			}
+			tasksWaiting--;
 			const result = await run(input, post);
 			const transfer = result instanceof Uint8Array ? [result.buffer] : (result as RepairOutput | null)?.bytes instanceof Uint8Array ? [(result as RepairOutput).bytes.buffer] : [];
 			port.postMessage({ type: 'done', result, id } satisfies EngineMessage & { id: number }, transfer as ArrayBuffer[]);
@@ -271,7 +281,7 @@ export function runEngineThread(): void {
 			if (e instanceof MeshReadError || e instanceof RepairError) post({ type: 'refused', message: e.message });
 			else post({ type: 'error', message: e instanceof Error ? e.message : String(e) });
 		}
-	});
+	};
 }
 
 if (isWorkerFor(ENGINE_THREAD_TAG)) runEngineThread();

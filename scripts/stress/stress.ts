@@ -571,7 +571,7 @@ async function latencyPhase(token: string) {
 	const m1m = marchingCubes(shape.field, gridFor(shape.min, shape.max, CELL));
 	const tris90 = m90.indices.length / 3;
 	figures.push(`latency meshes: ${tris90.toLocaleString('en')} triangles (${(writeBinaryStl(m90).length / 1e6).toFixed(1)} MB) and ${(m1m.indices.length / 3).toLocaleString('en')} triangles, made in ${((performance.now() - tG) / 1000).toFixed(1)} s`);
-	const thresholds = (process.env.STRESS_TRIM_THRESHOLDS ?? process.env.MALLOC_TRIM_THRESHOLD_ ?? '1073741824').split(',').map((x) => x.trim()).filter(Boolean);
+	const thresholds = (process.env.STRESS_TRIM_THRESHOLDS ?? process.env.MALLOC_TRIM_THRESHOLD_ ?? '134217728').split(',').map((x) => x.trim()).filter(Boolean);
 	let copy = 0;
 	const body = (m: typeof m90) => writeBinaryStl(m, `stress latency copy ${copy++} ${Date.now()}`);
 	for (const trim of thresholds) {

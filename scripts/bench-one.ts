@@ -29,6 +29,60 @@ export interface CaseOutput {
 
 type BenchCase = (bytes: Uint8Array, fileName: string) => Promise<CaseOutput>;
 
+/**
+ * What the server's check job asks of the engine (check.ts): walls, gaps and edges against the
+ * project's cell size (BENCH_CELL_SIZE, default 0.005, the demo keel-bulb project's, in metres),
+ * flagged under 2 cells, flow along x. BENCH_WORKER_MIN_FACES overrides the engine thread's
+ * ENGINE_WORKER_MIN_FACES (to find where its workers pay).
+ */
+function serverCheckTask(copy: Uint8Array, fileName: string) {
+	const min = process.env.BENCH_WORKER_MIN_FACES;
+	return {
+		task: 'check' as const,
+		bytes: copy,
+		fileName,
+		options: { fileName, cellSize: Number(process.env.BENCH_CELL_SIZE ?? 0.005), thinCells: 2, flowDirection: [1, 0, 0] as [number, number, number], units: 'm', minEdgeLength: 0 },
+		threads: defaultSelfIntersectThreads(),
+		workerMinFaces: min === undefined ? undefined : Number(min)
+	};
+}
+
+/** Median of five checks of a kept engine thread after two unmeasured ones. */
+async function keptThreadChecks(bytes: Uint8Array, check: (copy: Uint8Array) => Promise<InspectionReport>, pool: EnginePool): Promise<CaseOutput> {
+	const warmUp: number[] = [];
+	for (let k = 0; k < 2; k++) {
+		const copy = bytes.slice();
+		const t0 = performance.now();
+		await check(copy);
+		warmUp.push(performance.now() - t0);
+	}
+	const runs: { wallMs: number; cpuMs: number; report: InspectionReport }[] = [];
+	for (let k = 0; k < 5; k++) {
+		const copy = bytes.slice();
+		const c0 = process.cpuUsage();
+		const t0 = performance.now();
+		const report = await check(copy);
+		const wallMs = performance.now() - t0;
+		const c = process.cpuUsage(c0);
+		runs.push({ wallMs, cpuMs: (c.user + c.system) / 1000, report });
+	}
+	await pool.close();
+	const order = runs.map((r) => Math.round(r.wallMs)).join('/');
+	runs.sort((a, b) => a.wallMs - b.wallMs);
+	const mid = runs[2];
+	return {
+		wallMs: mid.wallMs,
+		cpuMs: mid.cpuMs,
+		stages: mid.report.timings,
+		extra: {
+			pairs: mid.report.selfIntersectingPairs ?? -1,
+			'warm-up checks ms': warmUp.map((w) => Math.round(w)).join('/'),
+			'measured checks ms': order,
+			path: 'kept engine thread, median of checks 3-7'
+		}
+	};
+}
+
 const inspectNodePath = fileURLToPath(new URL('../src/lib/mesh/inspect-node.ts', import.meta.url));
 
 export const CASES: Record<string, BenchCase> = {
@@ -64,38 +118,19 @@ export const CASES: Record<string, BenchCase> = {
 		// Each task takes its own copy of the bytes (they are transferred), made before the clock starts.
 		const check = (copy: Uint8Array): Promise<InspectionReport> =>
 			pool.run<InspectionReport>({ task: 'check', bytes: copy, fileName, options: { fileName }, threads: defaultSelfIntersectThreads() }, limits, () => {});
-		const warmUp: number[] = [];
-		for (let k = 0; k < 2; k++) {
-			const copy = bytes.slice();
-			const t0 = performance.now();
-			await check(copy);
-			warmUp.push(performance.now() - t0);
-		}
-		const runs: { wallMs: number; cpuMs: number; report: InspectionReport }[] = [];
-		for (let k = 0; k < 5; k++) {
-			const copy = bytes.slice();
-			const c0 = process.cpuUsage();
-			const t0 = performance.now();
-			const report = await check(copy);
-			const wallMs = performance.now() - t0;
-			const c = process.cpuUsage(c0);
-			runs.push({ wallMs, cpuMs: (c.user + c.system) / 1000, report });
-		}
-		await pool.close();
-		const order = runs.map((r) => Math.round(r.wallMs)).join('/');
-		runs.sort((a, b) => a.wallMs - b.wallMs);
-		const mid = runs[2];
-		return {
-			wallMs: mid.wallMs,
-			cpuMs: mid.cpuMs,
-			stages: mid.report.timings,
-			extra: {
-				pairs: mid.report.selfIntersectingPairs ?? -1,
-				'warm-up checks ms': warmUp.map((w) => Math.round(w)).join('/'),
-				'measured checks ms': order,
-				path: 'kept engine thread, median of checks 3-7'
-			}
-		};
+		return keptThreadChecks(bytes, check, pool);
+	},
+
+	/**
+	 * The check as the server's job asks for it (serverCheckTask: walls and gaps against a cell size
+	 * included) in a kept engine thread warmed as the server warms it; median of checks 3-7.
+	 */
+	async 'check-warm'(bytes, fileName) {
+		const pool = new EnginePool({ url: ENGINE_THREAD_URL, tag: ENGINE_THREAD_TAG, niceness: 0, maxIdle: 1, idleMs: 60_000, keepWarm: 1 });
+		const limits = { timeLimitMs: 600_000, memoryLimitMb: 4096 };
+		await pool.warm(limits.memoryLimitMb);
+		const check = (copy: Uint8Array): Promise<InspectionReport> => pool.run<InspectionReport>(serverCheckTask(copy, fileName), limits, () => {});
+		return keptThreadChecks(bytes, check, pool);
 	},
 
 	/**
@@ -109,20 +144,33 @@ export const CASES: Record<string, BenchCase> = {
 		const pool = new EnginePool({ url: ENGINE_THREAD_URL, tag: ENGINE_THREAD_TAG, niceness: 0, maxIdle: 1, idleMs: 60_000, keepWarm: 1, retireIdleMs });
 		const limits = { timeLimitMs: 600_000, memoryLimitMb: 4096 };
 		const rss = () => process.memoryUsage().rss / 2 ** 20;
-		const check = (copy: Uint8Array): Promise<InspectionReport> =>
-			pool.run<InspectionReport>({ task: 'check', bytes: copy, fileName, options: { fileName }, threads: defaultSelfIntersectThreads() }, limits, () => {});
+		const check = (copy: Uint8Array): Promise<InspectionReport> => pool.run<InspectionReport>(serverCheckTask(copy, fileName), limits, () => {});
 		const rss0 = rss();
 		let t0 = performance.now();
 		await pool.warm(limits.memoryLimitMb);
 		const warmMs = performance.now() - t0;
 		const rssWarm = rss();
 		const copies = [bytes.slice(), bytes.slice()];
+		// Minor page faults (all threads): memory a check touches for the first time.
+		const faults = () => process.resourceUsage().minorPageFault;
+		const cpu = (c0: NodeJS.CpuUsage) => {
+			const c = process.cpuUsage(c0);
+			return Math.round((c.user + c.system) / 1000);
+		};
+		let f0 = faults();
+		let c0 = process.cpuUsage();
 		t0 = performance.now();
 		const first = await check(copies[0]);
 		const firstMs = performance.now() - t0;
+		const firstFaults = faults() - f0;
+		const firstCpu = cpu(c0);
+		f0 = faults();
+		c0 = process.cpuUsage();
 		t0 = performance.now();
 		await check(copies[1]);
 		const secondMs = performance.now() - t0;
+		const secondFaults = faults() - f0;
+		const secondCpu = cpu(c0);
 		const rssChecked = rss();
 		const retired = bytes.byteLength >= 24 * 1024 * 1024;
 		if (retired) {
@@ -140,6 +188,8 @@ export const CASES: Record<string, BenchCase> = {
 				'warm() ms': Math.round(warmMs),
 				'first check ms': Math.round(firstMs),
 				'second check ms': Math.round(secondMs),
+				'page faults first / second check': `${firstFaults} / ${secondFaults}`,
+				'CPU ms first / second check': `${firstCpu} / ${secondCpu}`,
 				'RSS MB at start / warm / after 2 checks / idle later': [rss0, rssWarm, rssChecked, rssAfter].map((x) => Math.round(x)).join(' / '),
 				'idle later': retired ? 'thread retired and replaced' : 'thread kept (file under 24 MB)'
 			}

@@ -51,7 +51,7 @@ const CLI_VARIANTS: Record<string, { args: string[]; sizes: string[] }> = {
 	'cli-workers': { args: ['--worker-min-faces', '0'], sizes: ['35k', '90k', '200k'] }
 };
 
-const CASE_ORDER = ['cli', 'cli-1t', 'cli-workers', 'report', 'report-warm', 'server-start', 'self-intersect-1t', 'self-intersect-2w'];
+const CASE_ORDER = ['cli', 'cli-1t', 'cli-workers', 'report', 'report-warm', 'check-warm', 'server-start', 'self-intersect-1t', 'self-intersect-2w'];
 
 /** Bump when the generator or shapes change, so cached meshes in bench-out/ are rebuilt. */
 const GEN_VERSION = 2;
@@ -97,7 +97,7 @@ interface Row {
 const MALLOC_ENV = {
 	MALLOC_ARENA_MAX: process.env.MALLOC_ARENA_MAX ?? '1',
 	MALLOC_MMAP_THRESHOLD_: process.env.MALLOC_MMAP_THRESHOLD_ ?? '33554432',
-	MALLOC_TRIM_THRESHOLD_: process.env.MALLOC_TRIM_THRESHOLD_ ?? '1073741824'
+	MALLOC_TRIM_THRESHOLD_: process.env.MALLOC_TRIM_THRESHOLD_ ?? '134217728'
 };
 
 /**

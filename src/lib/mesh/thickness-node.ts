@@ -7,14 +7,24 @@
  * Work split: this thread builds the ray BVH, copies it once into SharedArrayBuffers (about 100
  * bytes per face), and the workers plus this thread take chunks of BVH slots from one Atomics
  * counter. Slots map to distinct faces, so every thread writes disjoint entries of the shared
- * output arrays and the result equals the single-thread one exactly. A failing worker rejects
- * the promise and all workers are terminated. Workers are started per call (no pool yet: the
- * integrator may keep them beside the self-intersection pool when this joins the report).
+ * output arrays and the result equals the single-thread one exactly (the output is copied out of
+ * shared memory at the end). With no worker to share with, nothing is copied. A failing worker
+ * rejects the promise and is terminated.
+ *
+ * Worker pool: starting a worker costs module loading and compiling in the new thread, so workers
+ * live in a ThicknessPool (warm, acquire, release, close), as the self-intersection workers do in
+ * theirs; each thread has one default pool (`thicknessPool()`), and a kept engine thread warms it
+ * at start. Workers take one job message at a time; idle ones are unref'd, so a pool never keeps
+ * a process alive. A call that finds the pool busy gets workers of its own, terminated after. The
+ * pool also keeps the shared buffers of its largest call (up to KEEP_FACES_MAX faces): shared
+ * memory handed to a worker lives until that worker's next garbage collection, and an idle worker
+ * may never have one, so fresh buffers each call grew a kept engine thread by about 20 MB per
+ * 90 k-face check.
  */
 import { availableParallelism } from 'node:os';
-import { workerData, parentPort, type Worker } from 'node:worker_threads';
+import { parentPort, type Worker } from 'node:worker_threads';
 import { isWorkerFor, spawnModuleWorker } from './module-worker-node';
-import { buildRayBvh, distancesBothRange, type DistanceArrays, type FaceDistanceOptions, type FaceDistances, type RayBvh } from './thickness';
+import { buildRayBvh, distancesBothRange, faceDistancesBoth, type DistanceArrays, type FaceDistanceOptions, type FaceDistances, type RayBvh } from './thickness';
 import type { MeshBuffers } from './types';
 
 const WORKER_TAG = 'shellgate-thickness';
@@ -35,20 +45,61 @@ interface SharedJob {
 	verts: SharedArrayBuffer;
 	vids: SharedArrayBuffer;
 	normals: SharedArrayBuffer;
-	out: { th: [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer]; gp: [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer] };
+	out: { th: OutBuffers; gp: OutBuffers };
 	counter: SharedArrayBuffer;
 }
 
-function share<T extends Float32Array | Float64Array | Int32Array | Uint32Array>(a: T): SharedArrayBuffer {
-	const sab = new SharedArrayBuffer(a.byteLength);
-	new Uint8Array(sab).set(new Uint8Array(a.buffer, a.byteOffset, a.byteLength));
-	return sab;
+type OutBuffers = [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer];
+
+/** Shared buffers of one call, sized for `faces` faces and `nodes` tree nodes (or more). */
+interface ThicknessBuffers {
+	faces: number;
+	nodes: number;
+	bounds: SharedArrayBuffer;
+	firstChild: SharedArrayBuffer;
+	start: SharedArrayBuffer;
+	count: SharedArrayBuffer;
+	faceOf: SharedArrayBuffer;
+	verts: SharedArrayBuffer;
+	vids: SharedArrayBuffer;
+	normals: SharedArrayBuffer;
+	th: OutBuffers;
+	gp: OutBuffers;
 }
 
-function outArrays(n: number): { bufs: [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer]; arrays: DistanceArrays } {
-	const bufs: [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer] = [new SharedArrayBuffer(4 * n), new SharedArrayBuffer(4 * n), new SharedArrayBuffer(24 * n)];
-	const arrays = { value: new Float32Array(bufs[0]).fill(Infinity), hitFace: new Int32Array(bufs[1]).fill(-1), from: new Float64Array(bufs[2]).fill(NaN) };
-	return { bufs, arrays };
+function newBuffers(faces: number, nodes: number): ThicknessBuffers {
+	const sab = (bytes: number) => new SharedArrayBuffer(Math.max(8, bytes));
+	const out = (): OutBuffers => [sab(4 * faces), sab(4 * faces), sab(24 * faces)];
+	return {
+		faces,
+		nodes,
+		bounds: sab(24 * nodes),
+		firstChild: sab(4 * nodes),
+		start: sab(4 * nodes),
+		count: sab(4 * nodes),
+		faceOf: sab(4 * faces),
+		verts: sab(72 * faces),
+		vids: sab(12 * faces),
+		normals: sab(12 * faces),
+		th: out(),
+		gp: out()
+	};
+}
+
+/** Largest mesh whose buffers a pool keeps (about 180 bytes a face: 108 MB here), a little over the files a kept engine thread keeps running (engine-pool.ts retireBytes). */
+const KEEP_FACES_MAX = 600_000;
+
+function copyInto<T extends Float32Array | Float64Array | Int32Array | Uint32Array>(to: SharedArrayBuffer, a: T): SharedArrayBuffer {
+	new Uint8Array(to, 0, a.byteLength).set(new Uint8Array(a.buffer, a.byteOffset, a.byteLength));
+	return to;
+}
+
+/** The first n entries set to "no hit" (Infinity, −1, NaN), as drain expects. */
+function clearOut(b: OutBuffers, n: number): OutBuffers {
+	new Float32Array(b[0], 0, n).fill(Infinity);
+	new Int32Array(b[1], 0, n).fill(-1);
+	new Float64Array(b[2], 0, 3 * n).fill(NaN);
+	return b;
 }
 
 function viewJob(job: SharedJob): { rb: RayBvh; th: DistanceArrays; gp: DistanceArrays; counter: Int32Array } {
@@ -67,7 +118,7 @@ function viewJob(job: SharedJob): { rb: RayBvh; th: DistanceArrays; gp: Distance
 		normals: new Float32Array(job.normals),
 		tMin: job.tMin
 	};
-	const view = (b: [SharedArrayBuffer, SharedArrayBuffer, SharedArrayBuffer]): DistanceArrays => ({ value: new Float32Array(b[0]), hitFace: new Int32Array(b[1]), from: new Float64Array(b[2]) });
+	const view = (b: OutBuffers): DistanceArrays => ({ value: new Float32Array(b[0]), hitFace: new Int32Array(b[1]), from: new Float64Array(b[2]) });
 	return { rb, th: view(job.out.th), gp: view(job.out.gp), counter: new Int32Array(job.counter) };
 }
 
@@ -84,6 +135,8 @@ function drain(job: SharedJob, v: ReturnType<typeof viewJob>): number {
 export interface ParallelDistanceOptions extends FaceDistanceOptions {
 	/** Threads in all, this one included; default os.availableParallelism(). 1 runs here only. */
 	threads?: number;
+	/** Where the workers come from; default this thread's thicknessPool(). */
+	pool?: ThicknessPool;
 }
 
 /**
@@ -95,58 +148,190 @@ export async function faceDistancesBothParallel(mesh: MeshBuffers, opts: Paralle
 	const n = (mesh.indices.length / 3) | 0;
 	const rb = opts.rayBvh ?? buildRayBvh(mesh);
 	const buildMs = performance.now() - t0;
-	const th = outArrays(n), gp = outArrays(n);
+	const tMax = opts.maxDistance ?? Infinity;
+	const workerCount = Math.max(0, Math.min((opts.threads ?? availableParallelism()) - 1, Math.ceil(n / CHUNK) - 1));
+	if (workerCount === 0) {
+		// This thread alone: the structure as it is, nothing copied into shared memory.
+		const r = faceDistancesBoth(mesh, { cellSize: opts.cellSize, maxDistance: tMax, rayBvh: rb });
+		const ms = performance.now() - t0;
+		return { thickness: { ...r.thickness, ms }, gap: { ...r.gap, ms }, buildMs };
+	}
+	const pool = opts.pool ?? thicknessPool();
+	const held = pool.acquire(workerCount);
+	const workers: Worker[] = held ?? Array.from({ length: workerCount }, () => spawnWorker());
+	// The pool's kept buffers when its workers run this call: fresh shared memory each call would
+	// stay alive until an idle worker's next garbage collection, which may never come.
+	const bufs = held ? pool.buffers(n, rb.bvh.nodeCount) : newBuffers(n, rb.bvh.nodeCount);
 	const job: SharedJob = {
 		n,
 		nodeCount: rb.bvh.nodeCount,
 		tMin: rb.tMin,
 		cellSize: opts.cellSize,
-		tMax: opts.maxDistance ?? Infinity,
-		bounds: share(rb.bvh.bounds),
-		firstChild: share(rb.bvh.firstChild),
-		start: share(rb.bvh.start),
-		count: share(rb.bvh.count),
-		faceOf: share(rb.faceOf),
-		verts: share(rb.verts),
-		vids: share(rb.vids),
-		normals: share(rb.normals),
-		out: { th: th.bufs, gp: gp.bufs },
+		tMax,
+		bounds: copyInto(bufs.bounds, rb.bvh.bounds),
+		firstChild: copyInto(bufs.firstChild, rb.bvh.firstChild),
+		start: copyInto(bufs.start, rb.bvh.start),
+		count: copyInto(bufs.count, rb.bvh.count),
+		faceOf: copyInto(bufs.faceOf, rb.faceOf),
+		verts: copyInto(bufs.verts, rb.verts),
+		vids: copyInto(bufs.vids, rb.vids),
+		normals: copyInto(bufs.normals, rb.normals),
+		out: { th: clearOut(bufs.th, n), gp: clearOut(bufs.gp, n) },
 		counter: new SharedArrayBuffer(4)
 	};
-	const workerCount = Math.max(0, Math.min((opts.threads ?? availableParallelism()) - 1, Math.ceil(n / CHUNK) - 1));
-	const workers: Worker[] = [];
-	const done: Promise<number>[] = [];
-	for (let k = 0; k < workerCount; k++) {
-		const w = spawnModuleWorker(new URL(import.meta.url).href, WORKER_TAG, { job });
-		workers.push(w);
-		done.push(
+	const id = nextJob++;
+	const failed = new Set<Worker>();
+	const cleanups: (() => void)[] = [];
+	const done = workers.map(
+		(w) =>
 			new Promise<number>((resolve, reject) => {
-				w.once('message', (m: { rays?: number; error?: string }) => (m.error ? reject(new Error(m.error)) : resolve(m.rays ?? 0)));
-				w.once('error', reject);
-				w.once('exit', (code) => code !== 0 && reject(new Error(`thickness worker exited with ${code}`)));
+				const fail = (e: Error) => {
+					failed.add(w);
+					reject(e);
+				};
+				const onMessage = (m: WorkerOutput) => {
+					if (m.id !== id) return;
+					if (m.error !== undefined) fail(new Error(m.error));
+					else resolve(m.rays ?? 0);
+				};
+				const onExit = (code: number) => fail(new Error(`thickness worker exited with ${code}`));
+				w.on('message', onMessage);
+				w.on('error', fail);
+				w.on('exit', onExit);
+				cleanups.push(() => {
+					w.off('message', onMessage);
+					w.off('error', fail);
+					w.off('exit', onExit);
+					w.unref();
+				});
+				w.ref();
+				w.postMessage({ id, job } satisfies WorkerInput);
 			})
-		);
-	}
+	);
+	// Handled here so a worker failing while this thread drains is never reported as unhandled.
+	const all = Promise.all(done);
+	all.catch(() => {});
 	try {
 		// This thread works too; workers still starting find fewer chunks left, never a wrong one.
 		let rays = drain(job, viewJob(job));
-		rays += (await Promise.all(done)).reduce((a, b) => a + b, 0);
-		const ms = performance.now() - t0;
-		const result = (a: DistanceArrays): FaceDistances => ({ ...a, rays, ms });
-		return { thickness: result(th.arrays), gap: result(gp.arrays), buildMs };
+		rays += (await all).reduce((a, b) => a + b, 0);
+		// Copied out: the kept buffers serve the pool's next call.
+		const result = (b: OutBuffers): FaceDistances => ({
+			value: new Float32Array(b[0], 0, n).slice(),
+			hitFace: new Int32Array(b[1], 0, n).slice(),
+			from: new Float64Array(b[2], 0, 3 * n).slice(),
+			rays,
+			ms: performance.now() - t0
+		});
+		const thickness = result(bufs.th), gap = result(bufs.gp);
+		return { thickness, gap, buildMs };
+	} catch (e) {
+		// A failed worker may still be draining: stop them all (a pooled one leaves the pool).
+		for (const w of workers) failed.add(w);
+		throw e;
 	} finally {
-		for (const w of workers) void w.terminate();
+		for (const c of cleanups) c();
+		for (const w of failed) void w.terminate();
+		if (held) pool.release([...failed]);
+		else for (const w of workers) void w.terminate();
 	}
 }
 
-function runThicknessWorker(): void {
-	const job = (workerData as { job: SharedJob }).job;
-	try {
-		const rays = drain(job, viewJob(job));
-		parentPort!.postMessage({ rays });
-	} catch (e) {
-		parentPort!.postMessage({ error: e instanceof Error ? e.message : String(e) });
+interface WorkerInput {
+	/** Call id, echoed back so an answer is never taken for another call's. */
+	id: number;
+	job: SharedJob;
+}
+
+interface WorkerOutput {
+	id: number;
+	rays?: number;
+	error?: string;
+}
+
+let nextJob = 1;
+
+function spawnWorker(): Worker {
+	const w = spawnModuleWorker(new URL(import.meta.url).href, WORKER_TAG, {});
+	w.unref();
+	return w;
+}
+
+/** Wall-and-gap workers kept between calls until close(); a call that finds them busy gets workers of its own. */
+export class ThicknessPool {
+	private workers: Worker[] = [];
+	private busy = false;
+	private kept: ThicknessBuffers | null = null;
+
+	/** Starts workers up to `workers` without waiting for them, so a later call does not pay their start-up. */
+	warm(workers: number): void {
+		if (this.busy) return;
+		while (this.workers.length < Math.floor(workers)) this.workers.push(this.watch(spawnWorker()));
 	}
+
+	/** `count` workers of this pool for one call, started as needed; null while another call holds them. */
+	acquire(count: number): Worker[] | null {
+		if (this.busy) return null;
+		this.busy = true;
+		while (this.workers.length < count) this.workers.push(this.watch(spawnWorker()));
+		return this.workers.slice(0, count);
+	}
+
+	/** Shared buffers for a call holding this pool's workers: the kept ones, grown when too small. */
+	buffers(faces: number, nodes: number): ThicknessBuffers {
+		if (faces > KEEP_FACES_MAX) return newBuffers(faces, nodes);
+		if (!this.kept || this.kept.faces < faces || this.kept.nodes < nodes) {
+			this.kept = null; // let the old buffers go before the new ones are made
+			this.kept = newBuffers(faces, nodes);
+		}
+		return this.kept;
+	}
+
+	/** The call is over; `failed` workers (terminated) leave the pool. */
+	release(failed: Worker[]): void {
+		for (const w of failed) this.drop(w);
+		this.busy = false;
+	}
+
+	get size(): number {
+		return this.workers.length;
+	}
+
+	async close(): Promise<void> {
+		this.kept = null;
+		const ws = this.workers.splice(0, this.workers.length);
+		await Promise.all(ws.map((w) => w.terminate()));
+	}
+
+	private drop(w: Worker): void {
+		const k = this.workers.indexOf(w);
+		if (k >= 0) this.workers.splice(k, 1);
+	}
+
+	private watch(w: Worker): Worker {
+		w.once('exit', () => this.drop(w));
+		return w;
+	}
+}
+
+let defaultPool: ThicknessPool | null = null;
+
+/** This thread's default pool, made on first use. */
+export function thicknessPool(): ThicknessPool {
+	defaultPool ??= new ThicknessPool();
+	return defaultPool;
+}
+
+/** Worker side: runs each job message it is sent and posts the line queries it cast. */
+function runThicknessWorker(): void {
+	const port = parentPort!;
+	port.on('message', ({ id, job }: WorkerInput) => {
+		try {
+			port.postMessage({ id, rays: drain(job, viewJob(job)) } satisfies WorkerOutput);
+		} catch (e) {
+			port.postMessage({ id, error: e instanceof Error ? e.message : String(e) } satisfies WorkerOutput);
+		}
+	});
 }
 
 if (isWorkerFor(WORKER_TAG)) runThicknessWorker();

@@ -203,4 +203,26 @@ describe('wall thickness and gap on worker threads', () => {
 		expect(given.narrowGap.flaggedFaces).toBe(direct.narrowGap.flaggedFaces);
 		expect(given.wall.regionCount).toBe(direct.wall.regionCount);
 	});
+
+	it('keeps its workers between calls, and a call that finds them busy gets workers of its own', async () => {
+		const { faceDistancesBothParallel, ThicknessPool } = await import('./thickness-node');
+		const pool = new ThicknessPool();
+		try {
+			const m = concat(torus(200, 120, 2, 0.4), icosphere(3, 1));
+			const one = faceDistancesBoth(m, { cellSize: 0.1 });
+			pool.warm(1);
+			expect(pool.size).toBe(1);
+			const first = await faceDistancesBothParallel(m, { cellSize: 0.1, threads: 2, pool });
+			// Two at once: the second finds the pool held and starts a worker of its own.
+			const [a, b] = await Promise.all([faceDistancesBothParallel(m, { cellSize: 0.1, threads: 2, pool }), faceDistancesBothParallel(m, { cellSize: 0.1, threads: 2, pool })]);
+			expect(pool.size).toBe(1);
+			for (const r of [first, a, b]) {
+				expect(Array.from(r.thickness.value)).toEqual(Array.from(one.thickness.value));
+				expect(Array.from(r.gap.hitFace)).toEqual(Array.from(one.gap.hitFace));
+			}
+		} finally {
+			await pool.close();
+		}
+		expect(pool.size).toBe(0);
+	});
 });

@@ -41,7 +41,8 @@ function enginePool(): Promise<EnginePool> {
 			// One per check loop, and one for repairs and exports asked for from the web.
 			maxIdle: config.checkWorkers + 1,
 			idleMs: config.engineIdleMs,
-			keepWarm: Math.max(1, config.checkWorkers)
+			keepWarm: Math.max(1, config.checkWorkers),
+			warmThreads: config.checkThreads
 		});
 		return engines;
 	});

@@ -74,4 +74,21 @@ describe('engine threads kept between tasks', () => {
 			await warmPool.close();
 		}
 	}, 60_000);
+
+	it('hands a check sent during the warm-up to the warming thread instead of starting a cold one', async () => {
+		const warmPool = new EnginePool({ url: ENGINE_THREAD_URL, tag: ENGINE_THREAD_TAG, niceness: 0, maxIdle: 2, idleMs: 60_000, keepWarm: 1, warmThreads: 0 });
+		try {
+			const warming = warmPool.warm(limits.memoryLimitMb);
+			const r = await warmPool.run<InspectionReport>(check(writeBinaryStl(unitCube())), limits, () => {});
+			expect(r.faces).toBe(12);
+			await warming;
+			// One thread in all: a cold one started for the check would be idle beside it now.
+			expect(warmPool.idleCount).toBe(1);
+			const again = await warmPool.run<InspectionReport>(check(writeBinaryStl(unitCube([2, 0, 0]))), limits, () => {});
+			expect(again.bbox.min[0]).toBe(2);
+			expect(warmPool.idleCount).toBe(1);
+		} finally {
+			await warmPool.close();
+		}
+	}, 60_000);
 });

@@ -4,7 +4,8 @@
 // past its time limit, was cancelled, crashed or reported an internal error is terminated, never
 // reused; idle threads are unref'd (they never keep the process alive) and end after `idleMs`.
 // `warm()` starts `keepWarm` threads ahead of the first task (the server calls it at start) and each
-// runs a small warm-up check, so the first real check is not the slow one. Memory: a thread keeps
+// runs small warm-up checks through every stage a real check runs, on the thread and on its worker
+// threads (engine-thread.ts warmUp), so the first real check is not the slow one. Memory: a thread keeps
 // what its largest task grew it to, so one that ran a large file (`retireBytes`) ends after
 // `retireIdleMs` idle and a fresh warm one takes its place.
 import type { Worker } from 'node:worker_threads';
@@ -24,6 +25,8 @@ interface Slot {
 	idleTimer: ReturnType<typeof setTimeout> | null;
 	/** Set once the thread ran a task of retireBytes or more. */
 	big: boolean;
+	/** Set when a task took this thread while it was still warming up. */
+	claimed?: boolean;
 }
 
 export interface EnginePoolOptions {
@@ -35,6 +38,8 @@ export interface EnginePoolOptions {
 	idleMs: number;
 	/** Threads kept started and warm while idle, once warm() was called (default 0). */
 	keepWarm?: number;
+	/** Worker threads a check of a kept thread starts (the `threads` of its check tasks): the warm-up runs on as many. Default one per core. */
+	warmThreads?: number;
 	/** A task input this large marks its thread for retirement when next idle (default 24 MB, about 500 k faces of binary STL). */
 	retireBytes?: number;
 	/** How long such a thread stays idle before it ends (default 5 s). */
@@ -46,6 +51,8 @@ const DEFAULT_RETIRE_IDLE_MS = 5_000;
 
 export class EnginePool {
 	private idle: Slot[] = [];
+	/** Threads running their warm-up, which a task may take rather than start a cold thread. */
+	private warmingSlots: Slot[] = [];
 	private nextId = 1;
 	/** Memory limit of the threads warm() keeps; null until warm() is called. */
 	private warmLimitMb: number | null = null;
@@ -71,15 +78,21 @@ export class EnginePool {
 		while (this.idle.filter((s) => s.memoryLimitMb === limitMb).length + this.warming < want) {
 			this.warming++;
 			const slot = this.spawn(limitMb);
+			this.warmingSlots.push(slot);
 			const id = this.nextId++;
 			started.push(
 				new Promise<void>((resolve) => {
 					const done = (ok: boolean) => {
 						slot.w.off('message', onMessage);
 						slot.w.off('exit', onExit);
-						this.warming--;
-						if (ok && !this.closed) this.release(slot);
-						else void slot.w.terminate();
+						const k = this.warmingSlots.indexOf(slot);
+						if (k >= 0) this.warmingSlots.splice(k, 1);
+						// A task that took the thread meanwhile (take()) owns it now and releases it.
+						if (!slot.claimed) {
+							this.warming--;
+							if (ok && !this.closed) this.release(slot);
+							else void slot.w.terminate();
+						}
 						resolve();
 					};
 					const onMessage = (m: EngineMessage & { id?: number }) => {
@@ -89,7 +102,7 @@ export class EnginePool {
 					slot.w.on('message', onMessage);
 					slot.w.on('exit', onExit);
 					// Kept referenced while warming (a caller awaiting warm() sees it finish); idle, it is unref'd.
-					slot.w.postMessage({ id, input: { task: 'warm' } } satisfies EngineRequest);
+					slot.w.postMessage({ id, input: { task: 'warm', threads: this.opts.warmThreads } } satisfies EngineRequest);
 				})
 			);
 		}
@@ -177,6 +190,15 @@ export class EnginePool {
 			slot.idleTimer = null;
 			return slot;
 		}
+		// A thread still warming up has its modules loaded and part of its code compiled: it runs
+		// the task once its current warm-up round ends, sooner than a cold thread would start.
+		const w = this.warmingSlots.findIndex((s) => s.memoryLimitMb === memoryLimitMb);
+		if (w >= 0) {
+			const [slot] = this.warmingSlots.splice(w, 1);
+			slot.claimed = true;
+			this.warming--;
+			return slot;
+		}
 		return this.spawn(memoryLimitMb);
 	}
 
@@ -193,6 +215,7 @@ export class EnginePool {
 	}
 
 	private release(slot: Slot): void {
+		slot.claimed = false;
 		if (this.idle.length >= this.opts.maxIdle) {
 			void slot.w.terminate();
 			return;

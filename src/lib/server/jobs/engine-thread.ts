@@ -2,7 +2,8 @@
 // a repaired file or a converted file out, with progress. Imports only src/lib/mesh, so a worker
 // thread loads no server or database code.
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
-import { defaultSelfIntersectThreads, inspectFileNode } from '../../mesh/inspect-node';
+import { defaultSelfIntersectThreads, inspectFileNode, SELF_INTERSECT_WORKER_MIN_FACES } from '../../mesh/inspect-node';
+import { thicknessPool } from '../../mesh/thickness-node';
 import { warmSelfIntersectPool } from '../../mesh/self-intersect-node';
 import { isWorkerFor, lowerThisThreadPriority } from '../../mesh/module-worker-node';
 import { readMesh } from '../../mesh/read';
@@ -19,7 +20,16 @@ export const ENGINE_THREAD_URL = import.meta.url;
 export const ENGINE_THREAD_TAG = 'shellgate-engine';
 
 export type EngineTask =
-	| { task: 'check'; bytes: Uint8Array; fileName: string; options: InspectOptions; threads: number; previous?: PreviousIteration }
+	| {
+			task: 'check';
+			bytes: Uint8Array;
+			fileName: string;
+			options: InspectOptions;
+			threads: number;
+			previous?: PreviousIteration;
+			/** Faces from which worker threads are used (inspect-node.ts); default ENGINE_WORKER_MIN_FACES. */
+			workerMinFaces?: number;
+	  }
 	| { task: 'repair'; bytes: Uint8Array; fileName: string; steps: RepairStep[]; maxFaces: number }
 	| { task: 'export'; bytes: Uint8Array; fileName: string; format: ExportFormat; maxFaces: number };
 
@@ -81,6 +91,7 @@ async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise
 		const report = await inspectFileNode(input.bytes, input.fileName, {
 			...input.options,
 			threads: input.threads,
+			workerMinFaces: input.workerMinFaces ?? ENGINE_WORKER_MIN_FACES,
 			onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
 		});
 		if (input.previous) {
@@ -139,39 +150,99 @@ async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise
 /** What the pool sends a long-lived engine thread: one task at a time, tagged with its id. */
 export interface EngineRequest {
 	id: number;
-	/** `warm`: a small check of a made-up mesh, so the first real check runs compiled code. */
-	input: EngineTask | { task: 'warm' };
+	/**
+	 * `warm`: small checks of a made-up mesh through every stage a real check runs, on this thread
+	 * and on `threads` worker threads, so the first real check runs compiled code.
+	 */
+	input: EngineTask | { task: 'warm'; threads?: number };
 }
 
-/** A closed latitude-longitude sphere of about 24,000 faces, as binary STL: the warm-up check's input. */
-function warmUpMesh(): Uint8Array {
-	const rings = 96, segs = 128;
-	const positions: number[] = [0, 0, 1];
-	for (let i = 1; i < rings; i++) {
-		const th = (Math.PI * i) / rings;
-		for (let j = 0; j < segs; j++) {
-			const ph = (2 * Math.PI * j) / segs;
-			positions.push(Math.sin(th) * Math.cos(ph), Math.sin(th) * Math.sin(ph), Math.cos(th));
-		}
-	}
-	positions.push(0, 0, -1);
-	const south = positions.length / 3 - 1;
-	const at = (i: number, j: number) => 1 + (i - 1) * segs + (j % segs);
+/**
+ * Faces from which a check in a kept engine thread uses worker threads (self-intersections, walls
+ * and gaps). Its workers are started and compiled by the warm-up, so a check pays only for handing
+ * the mesh over; even so, on the 2-core machine measured (shared with other jobs) forcing them
+ * (the bench's check-warm case with BENCH_WORKER_MIN_FACES=0 against one thread) cost 15-50 % more
+ * CPU at 35 k, 90 k and 200 k faces, with wall times from 16 % faster to 20 % slower between runs
+ * at 90 k and 6 % faster at 200 k, so the switch stays where the command line has it (README,
+ * "The server's check").
+ */
+export const ENGINE_WORKER_MIN_FACES = SELF_INTERSECT_WORKER_MIN_FACES;
+
+/**
+ * A hollow ball as binary STL, the warm-up check's input: two latitude-longitude spheres of
+ * radius 1 and 0.95, the inner one facing inwards, 2 × rings × segs faces in all (96 × 128: about
+ * 49,000 faces, edges about 0.05).
+ */
+function warmUpMesh(rings: number, segs: number): Uint8Array {
+	const positions: number[] = [];
 	const indices: number[] = [];
-	for (let j = 0; j < segs; j++) indices.push(0, at(1, j), at(1, j + 1));
-	for (let i = 1; i < rings - 1; i++) {
-		for (let j = 0; j < segs; j++) indices.push(at(i, j), at(i + 1, j), at(i + 1, j + 1), at(i, j), at(i + 1, j + 1), at(i, j + 1));
+	for (const [r, inward] of [[1, false], [0.95, true]] as const) {
+		const base = positions.length / 3;
+		positions.push(0, 0, r);
+		for (let i = 1; i < rings; i++) {
+			const th = (Math.PI * i) / rings;
+			for (let j = 0; j < segs; j++) {
+				const ph = (2 * Math.PI * j) / segs;
+				positions.push(r * Math.sin(th) * Math.cos(ph), r * Math.sin(th) * Math.sin(ph), r * Math.cos(th));
+			}
+		}
+		positions.push(0, 0, -r);
+		const south = positions.length / 3 - 1;
+		const at = (i: number, j: number) => base + 1 + (i - 1) * segs + (j % segs);
+		const tri = (a: number, b: number, c: number) => (inward ? indices.push(a, c, b) : indices.push(a, b, c));
+		for (let j = 0; j < segs; j++) tri(base, at(1, j), at(1, j + 1));
+		for (let i = 1; i < rings - 1; i++) {
+			for (let j = 0; j < segs; j++) {
+				tri(at(i, j), at(i + 1, j), at(i + 1, j + 1));
+				tri(at(i, j), at(i + 1, j + 1), at(i, j + 1));
+			}
+		}
+		for (let j = 0; j < segs; j++) tri(south, at(rings - 1, j + 1), at(rings - 1, j));
 	}
-	for (let j = 0; j < segs; j++) indices.push(south, at(rings - 1, j + 1), at(rings - 1, j));
 	return writeBinaryStl({ positions: Float64Array.from(positions), indices: Uint32Array.from(indices) });
 }
 
-async function warmUp(): Promise<void> {
-	// Twice: the second run finds most loops compiled by the optimising compiler.
-	const bytes = warmUpMesh();
-	for (let k = 0; k < 2; k++) await inspectFileNode(bytes, 'warm-up.stl', {});
-	// The self-intersection workers large checks use start now too; idle, they never keep the process alive.
-	warmSelfIntersectPool(defaultSelfIntersectThreads());
+/**
+ * Options that switch on every stage check.ts asks for: a cell size under the edge length (four
+ * rays a face) whose range reaches the 0.05 wall (so rays hit and walls are flagged), short edges
+ * counted, a flow direction off the axes (a fourth projection), and a previous iteration.
+ */
+const WARM_UP_OPTIONS: InspectOptions = { cellSize: 0.03, thinCells: 2, minEdgeLength: 0.04, flowDirection: [1, 0.25, 0], units: 'm', fileName: 'warm-up.stl' };
+
+/** Runs the warm-up checks until `stop()` says a real task waits; their times. */
+async function warmUp(threads: number, stop: () => boolean): Promise<{ ms: number[] }> {
+	const small = warmUpMesh(96, 128);
+	const ms: number[] = [];
+	// On this thread alone, as checks under ENGINE_WORKER_MIN_FACES run, then with the workers larger
+	// ones use (self-intersections, walls and gaps), each twice: the second run finds most loops
+	// compiled by the optimising compiler. The last check is of about 100,000 faces, so an everyday
+	// upload finds the memory it needs touched already (fresh pages cost 12-16 µs each here).
+	const rounds: { t: number; big: boolean }[] =
+		threads > 0
+			? [{ t: 0, big: false }, { t: 0, big: false }, { t: threads, big: false }, { t: threads, big: true }]
+			: [{ t: 0, big: false }, { t: 0, big: true }];
+	for (const { t, big } of rounds) {
+		if (stop()) break;
+		const bytes = big ? warmUpMesh(128, 200) : small;
+		const t0 = performance.now();
+		const task: EngineTask = {
+			task: 'check',
+			bytes: bytes.slice(),
+			fileName: 'warm-up.stl',
+			options: WARM_UP_OPTIONS,
+			threads: t,
+			workerMinFaces: 0,
+			previous: { revisionId: 0, iteration: null, bytes, fileName: 'warm-up.stl' }
+		};
+		await run(task, () => {});
+		ms.push(Math.round(performance.now() - t0));
+	}
+	// Started and kept whether or not the rounds above used them; idle, they never keep the process alive.
+	if (threads > 0) {
+		warmSelfIntersectPool(threads);
+		thicknessPool().warm(Math.max(0, threads - 1));
+	}
+	return { ms };
 }
 
 /** Thread start-up data (workerData). */
@@ -189,14 +260,22 @@ export function runEngineThread(): void {
 	if (isMainThread || !parentPort) throw new Error('runEngineThread must run in a worker thread');
 	const port = parentPort;
 	lowerThisThreadPriority((workerData as EngineThreadData).niceness ?? 0);
-	port.on('message', async ({ id, input }: EngineRequest) => {
+	// One message at a time, in order. A task sent while the warm-up runs (the pool hands a check
+	// to a warming thread rather than start a cold one) ends the warm-up after its current round.
+	let queue: Promise<void> = Promise.resolve();
+	let tasksWaiting = 0;
+	port.on('message', (req: EngineRequest) => {
+		if (req.input.task !== 'warm') tasksWaiting++;
+		queue = queue.then(() => handle(req));
+	});
+	const handle = async ({ id, input }: EngineRequest): Promise<void> => {
 		const post = (m: EngineMessage) => port.postMessage({ ...m, id });
 		try {
 			if (input.task === 'warm') {
-				await warmUp();
-				post({ type: 'done', result: null });
+				post({ type: 'done', result: await warmUp(input.threads ?? defaultSelfIntersectThreads(), () => tasksWaiting > 0) });
 				return;
 			}
+			tasksWaiting--;
 			const result = await run(input, post);
 			const transfer = result instanceof Uint8Array ? [result.buffer] : (result as RepairOutput | null)?.bytes instanceof Uint8Array ? [(result as RepairOutput).bytes.buffer] : [];
 			port.postMessage({ type: 'done', result, id } satisfies EngineMessage & { id: number }, transfer as ArrayBuffer[]);
@@ -204,7 +283,7 @@ export function runEngineThread(): void {
 			if (e instanceof MeshReadError || e instanceof RepairError) post({ type: 'refused', message: e.message });
 			else post({ type: 'error', message: e instanceof Error ? e.message : String(e) });
 		}
-	});
+	};
 }
 
 if (isWorkerFor(ENGINE_THREAD_TAG)) runEngineThread();

@@ -33,6 +33,7 @@
 import { availableParallelism } from 'node:os';
 import { createRequire } from 'node:module';
 import { isMainThread, parentPort, type Worker } from 'node:worker_threads';
+import { KeptWorkers } from './kept-workers';
 import { isWorkerFor, spawnModuleWorker } from './module-worker-node';
 
 const WORKER_TAG = 'shellgate-self-intersect';
@@ -265,30 +266,9 @@ function spawnWorker(): Worker {
  * Self-intersection workers and the shared buffers of their last run, kept between runs until
  * close(). Runs started while another one holds the workers get workers of their own.
  */
-export class SelfIntersectPool {
-	private workers: Worker[] = [];
-	private busy = false;
-	private kept: SharedScratch | null = null;
-	private closed = false;
-
-	/** Starts workers up to `threads` without waiting for them, so a later run does not pay their start-up. */
-	warm(threads = availableParallelism()): void {
-		if (this.busy) return;
-		this.closed = false;
-		const n = Math.max(1, Math.floor(threads));
-		while (this.workers.length < n) this.workers.push(this.watch(spawnWorker()));
-	}
-
-	/** Terminates the workers and lets the kept buffers go; a later run starts new ones. */
-	async close(): Promise<void> {
-		this.closed = true;
-		this.kept = null;
-		const ws = this.workers.splice(0, this.workers.length);
-		await Promise.all(ws.map((w) => w.terminate()));
-	}
-
-	get size(): number {
-		return this.workers.length;
+export class SelfIntersectPool extends KeptWorkers<SharedScratch> {
+	constructor() {
+		super(spawnWorker, KEEP_FACES_MAX);
 	}
 
 	/** Starts a run on this pool's workers when free, else on workers of its own (see startSelfIntersections). */
@@ -302,38 +282,10 @@ export class SelfIntersectPool {
 
 	/** For startRun: this pool's workers and buffers, or null when a run holds them. */
 	acquire(threads: number, faces: number, coords: number): { workers: Worker[]; scratch: SharedScratch } | null {
-		if (this.busy) return null;
-		this.busy = true;
-		this.closed = false;
-		while (this.workers.length < threads) this.workers.push(this.watch(spawnWorker()));
-		let scratch: SharedScratch;
-		if (faces > KEEP_FACES_MAX) scratch = newScratch(faces, coords);
-		else {
-			if (!this.kept || this.kept.faces < faces || this.kept.coords < coords) {
-				this.kept = null; // let the old buffers go before the new ones are made
-				this.kept = newScratch(faces, coords);
-			}
-			scratch = this.kept;
-		}
-		return { workers: this.workers.slice(0, threads), scratch };
-	}
-
-	/** For startRun: the run is over; `failed` workers are dropped from the pool (already terminated). */
-	releaseAfter(failed: Worker[]): void {
-		for (const w of failed) this.drop(w);
-		this.busy = false;
-		if (this.closed) void this.close();
-	}
-
-	private drop(w: Worker): void {
-		const k = this.workers.indexOf(w);
-		if (k >= 0) this.workers.splice(k, 1);
-	}
-
-	private watch(w: Worker): Worker {
-		// A worker that dies while idle (or is terminated) leaves the pool.
-		w.once('exit', () => this.drop(w));
-		return w;
+		const workers = this.holdWorkers(threads);
+		if (!workers) return null;
+		const scratch = this.keptBuffers(faces, (k) => k.faces >= faces && k.coords >= coords, () => newScratch(faces, coords));
+		return { workers, scratch };
 	}
 }
 
@@ -347,7 +299,7 @@ export function selfIntersectPool(): SelfIntersectPool {
 
 /** Starts the default pool's workers up to `threads` (default os.availableParallelism()). */
 export function warmSelfIntersectPool(threads?: number): void {
-	selfIntersectPool().warm(threads);
+	selfIntersectPool().warm(Math.max(1, threads ?? availableParallelism()));
 }
 
 /** Terminates the default pool's workers; the next run starts new ones. */
@@ -471,7 +423,7 @@ function startRun(mesh: MeshBuffers, opts: ParallelSelfIntersectionOptions, pool
 			opts.signal?.removeEventListener('abort', onAbort);
 			for (const c of cleanups) c();
 			if (!pooled) for (const w of workers) void w.terminate();
-			else pool.releaseAfter(stopped ? workers : []);
+			else pool.release(stopped ? workers : []);
 		});
 	// Handled here so a failure is never reported as unhandled before finish() is awaited.
 	workerParts.catch(() => {});

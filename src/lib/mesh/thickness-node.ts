@@ -23,6 +23,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { parentPort, type Worker } from 'node:worker_threads';
+import { KeptWorkers } from './kept-workers';
 import { isWorkerFor, spawnModuleWorker } from './module-worker-node';
 import { buildRayBvh, distancesBothRange, faceDistancesBoth, type DistanceArrays, type FaceDistanceOptions, type FaceDistances, type RayBvh } from './thickness';
 import type { MeshBuffers } from './types';
@@ -258,59 +259,19 @@ function spawnWorker(): Worker {
 }
 
 /** Wall-and-gap workers kept between calls until close(); a call that finds them busy gets workers of its own. */
-export class ThicknessPool {
-	private workers: Worker[] = [];
-	private busy = false;
-	private kept: ThicknessBuffers | null = null;
-
-	/** Starts workers up to `workers` without waiting for them, so a later call does not pay their start-up. */
-	warm(workers: number): void {
-		if (this.busy) return;
-		while (this.workers.length < Math.floor(workers)) this.workers.push(this.watch(spawnWorker()));
+export class ThicknessPool extends KeptWorkers<ThicknessBuffers> {
+	constructor() {
+		super(spawnWorker, KEEP_FACES_MAX);
 	}
 
 	/** `count` workers of this pool for one call, started as needed; null while another call holds them. */
 	acquire(count: number): Worker[] | null {
-		if (this.busy) return null;
-		this.busy = true;
-		while (this.workers.length < count) this.workers.push(this.watch(spawnWorker()));
-		return this.workers.slice(0, count);
+		return this.holdWorkers(count);
 	}
 
 	/** Shared buffers for a call holding this pool's workers: the kept ones, grown when too small. */
 	buffers(faces: number, nodes: number): ThicknessBuffers {
-		if (faces > KEEP_FACES_MAX) return newBuffers(faces, nodes);
-		if (!this.kept || this.kept.faces < faces || this.kept.nodes < nodes) {
-			this.kept = null; // let the old buffers go before the new ones are made
-			this.kept = newBuffers(faces, nodes);
-		}
-		return this.kept;
-	}
-
-	/** The call is over; `failed` workers (terminated) leave the pool. */
-	release(failed: Worker[]): void {
-		for (const w of failed) this.drop(w);
-		this.busy = false;
-	}
-
-	get size(): number {
-		return this.workers.length;
-	}
-
-	async close(): Promise<void> {
-		this.kept = null;
-		const ws = this.workers.splice(0, this.workers.length);
-		await Promise.all(ws.map((w) => w.terminate()));
-	}
-
-	private drop(w: Worker): void {
-		const k = this.workers.indexOf(w);
-		if (k >= 0) this.workers.splice(k, 1);
-	}
-
-	private watch(w: Worker): Worker {
-		w.once('exit', () => this.drop(w));
-		return w;
+		return this.keptBuffers(faces, (k) => k.faces >= faces && k.nodes >= nodes, () => newBuffers(faces, nodes));
 	}
 }
 

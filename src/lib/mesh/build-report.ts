@@ -326,7 +326,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 				errorBound: pf.errorBound,
 				method:
 					pf.method === 'union'
-						? 'silhouette as the exact union of all projected triangles (integer polygon clipping, corners snapped to a grid of at least 2^25 steps across the outline's box); bound = area the snapping and the rounded edge crossings can move'
+						? 'silhouette as the exact union of all projected triangles (integer polygon clipping, corners snapped to a grid of at least 2^25 steps across the box of the outline); bound = area the snapping and the rounded edge crossings can move'
 						: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${fmtLength(pf.cellSize, opts.units ?? 'units')}; cells met by outline-candidate edges sampled again on ${REFINE}×${REFINE} sub-cells; bound = sub-cell area × sub-cells met by those edges`
 			}
 		},

@@ -51,7 +51,7 @@ export interface FrontalArea extends SilhouetteArea {
  * triangles (projection-union.ts), larger ones from the raster: the break-even of the two, measured
  * with the command line (README, "Engine bench").
  */
-export const EXACT_UNION_MAX_FACES = 512;
+export const EXACT_UNION_MAX_FACES = 256;
 
 /**
  * Frontal area along a unit direction: exact union for meshes of at most exactMaxFaces faces, the

@@ -5,7 +5,7 @@ import { indexedBounds } from './bounds';
 import { fmtLength } from '../format';
 import { analyseTopology, collapsedFaces, type TopologyResult } from './topology';
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
-import { REFINE, silhouetteArea, type SilhouetteScratch } from './projection';
+import { frontalArea, REFINE, type SilhouetteScratch } from './projection';
 import { buildHints } from './hints';
 import { exactWeldMap } from './weld';
 import { DEFAULT_TOLERANCES } from './tolerances';
@@ -240,11 +240,11 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	const oneSided = new Uint8Array(triCount);
 	closedShellFaces(sh.faceShell, sh.boundaryEdges, sh.nonManifoldEdges, sh.inconsistentEdges, oneSided);
 	const cells = tol.rasterCells;
-	const px = silhouetteArea(p, idx, collapsed.mask, topo.edges, [1, 0, 0], cells, scratch, oneSided);
-	const py = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 1, 0], cells, scratch, oneSided);
-	const pz = silhouetteArea(p, idx, collapsed.mask, topo.edges, [0, 0, 1], cells, scratch, oneSided);
+	const px = frontalArea(p, idx, collapsed.mask, topo.edges, [1, 0, 0], cells, scratch, oneSided);
+	const py = frontalArea(p, idx, collapsed.mask, topo.edges, [0, 1, 0], cells, scratch, oneSided);
+	const pz = frontalArea(p, idx, collapsed.mask, topo.edges, [0, 0, 1], cells, scratch, oneSided);
 	const isAxis = (a: number) => Math.abs(flow[a]) === 1;
-	const pf = isAxis(0) ? px : isAxis(1) ? py : isAxis(2) ? pz : silhouetteArea(p, idx, collapsed.mask, topo.edges, flow, cells, scratch, oneSided);
+	const pf = isAxis(0) ? px : isAxis(1) ? py : isAxis(2) ? pz : frontalArea(p, idx, collapsed.mask, topo.edges, flow, cells, scratch, oneSided);
 	timings.projection = performance.now() - t0;
 
 	progress('hints', 95);
@@ -324,7 +324,10 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 				direction: flow,
 				area: pf.area,
 				errorBound: pf.errorBound,
-				method: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${fmtLength(pf.cellSize, opts.units ?? 'units')}; cells met by outline-candidate edges sampled again on ${REFINE}×${REFINE} sub-cells; bound = sub-cell area × sub-cells met by those edges`
+				method:
+					pf.method === 'union'
+						? 'silhouette as the exact union of all projected triangles (integer polygon clipping, corners snapped to a grid of at least 2^25 steps across the box of the outline); bound = area the snapping and the rounded edge crossings can move'
+						: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${fmtLength(pf.cellSize, opts.units ?? 'units')}; cells met by outline-candidate edges sampled again on ${REFINE}×${REFINE} sub-cells; bound = sub-cell area × sub-cells met by those edges`
 			}
 		},
 		wettedArea: reason === null ? wettedArea : null,

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { segmentCells, silhouetteArea } from './projection';
+import { basisFor, EXACT_UNION_MAX_FACES, frontalArea, segmentCells, silhouetteArea } from './projection';
 import { gridFor, marchingCubes } from './testing/marching-cubes';
 import { sphere as sphereShape } from './testing/implicit-shapes';
 import { analyseTopology, collapsedFaces } from './topology';
@@ -15,6 +15,123 @@ function shadow(m: MeshBuffers, d: Vec3, cells: number, oneSided = false) {
 	const dir: Vec3 = [d[0] / l, d[1] / l, d[2] / l];
 	return silhouetteArea(m.positions, m.indices, mask, topo.edges, dir, cells, undefined, oneSided ? new Uint8Array(m.indices.length / 3).fill(1) : undefined);
 }
+
+/** frontalArea with every face of one facing where the shell is closed; exactMaxFaces picks the method. */
+function frontal(m: MeshBuffers, d: Vec3, exactMaxFaces = Infinity, cells = 128, skip?: Uint8Array) {
+	const { mask } = collapsedFaces(m.indices);
+	if (skip) for (let t = 0; t < skip.length; t++) mask[t] |= skip[t];
+	const topo = analyseTopology(m.indices, m.positions.length / 3, mask);
+	const l = Math.hypot(...d);
+	const dir: Vec3 = [d[0] / l, d[1] / l, d[2] / l];
+	return frontalArea(m.positions, m.indices, mask, topo.edges, dir, cells, undefined, new Uint8Array(m.indices.length / 3).fill(1), exactMaxFaces);
+}
+
+/** Area of the convex hull of the mesh's corners projected along d (Andrew's monotone chain, shoelace formula). */
+function projectedHullArea(m: MeshBuffers, d: Vec3): number {
+	const l = Math.hypot(...d);
+	const [u, w] = basisFor([d[0] / l, d[1] / l, d[2] / l]);
+	const p = m.positions;
+	const pts: [number, number][] = [];
+	for (let v = 0; v < p.length / 3; v++) pts.push([p[3 * v] * u[0] + p[3 * v + 1] * u[1] + p[3 * v + 2] * u[2], p[3 * v] * w[0] + p[3 * v + 1] * w[1] + p[3 * v + 2] * w[2]]);
+	pts.sort((a, b) => a[0] - b[0] || a[1] - b[1]);
+	const cross = (o: number[], a: number[], b: number[]) => (a[0] - o[0]) * (b[1] - o[1]) - (a[1] - o[1]) * (b[0] - o[0]);
+	const half = (list: [number, number][]) => {
+		const h: [number, number][] = [];
+		for (const q of list) {
+			while (h.length >= 2 && cross(h[h.length - 2], h[h.length - 1], q) <= 0) h.pop();
+			h.push(q);
+		}
+		return h.slice(0, -1);
+	};
+	const hull = [...half(pts), ...half([...pts].reverse())];
+	let a = 0;
+	for (let i = 0; i < hull.length; i++) {
+		const q = hull[i], r = hull[(i + 1) % hull.length];
+		a += q[0] * r[1] - r[0] * q[1];
+	}
+	return a / 2;
+}
+
+describe('frontal area as the exact union of the projected triangles (small meshes)', () => {
+	it('gives the unit cube exactly 1 along each axis and √3 along its diagonal', () => {
+		for (const d of [[1, 0, 0], [0, 1, 0], [0, 0, 1]] as Vec3[]) {
+			const r = frontal(unitCube(), d);
+			expect(r.method).toBe('union');
+			expect(r.area).toBe(1);
+		}
+		// Published: the shadow of the unit cube along (1, 1, 1)/√3 is a regular hexagon of side √(2/3),
+		// area (3√3 / 2)(2/3) = √3 (also Cauchy's projection formula ½ Σ |n·d| A).
+		const diag = frontal(unitCube(), [1, 1, 1]);
+		expect(Math.abs(diag.area - Math.sqrt(3))).toBeLessThanOrEqual(diag.errorBound);
+		expect(diag.errorBound).toBeLessThan(1e-5);
+	});
+
+	it('matches the area of the projected polygon of an icosphere (its convex hull: common practice for a convex body)', () => {
+		const m = icosphere(2);
+		for (const d of [[1, 0, 0], [0.3, -0.5, 0.8], [1, 1, 0]] as Vec3[]) {
+			const r = frontal(m, d), hull = projectedHullArea(m, d);
+			expect(r.method).toBe('union');
+			// The hull's own float sum rounds too (a few ulps of the area).
+			expect(Math.abs(r.area - hull)).toBeLessThanOrEqual(r.errorBound + 1e-12);
+			expect(r.errorBound / r.area).toBeLessThan(1e-5);
+		}
+	});
+
+	it('sees a torus along its axis as a polygonal annulus, near π(R+r)² − π(R−r)² when fine enough', () => {
+		// Seen along z, the parametric torus (n around the axis) shows the regular n-gon through its
+		// outer equator minus the one through its inner equator: (n/2) sin(2π/n) ((R+r)² − (R−r)²)
+		// (area of a regular polygon from its circumradius, a published formula); the smooth torus
+		// shows the annulus π(R+r)² − π(R−r)² = 4πRr.
+		const n = 32, R = 2, r = 0.5;
+		const m = torus(n, 8, R, r);
+		const res = frontal(m, [0, 0, 1]);
+		const polygonal = (n / 2) * Math.sin((2 * Math.PI) / n) * ((R + r) ** 2 - (R - r) ** 2);
+		expect(res.method).toBe('union');
+		expect(Math.abs(res.area - polygonal)).toBeLessThanOrEqual(res.errorBound + 1e-12);
+		expectClose(res.area, 4 * Math.PI * R * r, 0.01, 'annulus');
+	});
+
+	it('agrees with the raster within the raster’s bound on meshes around the threshold', () => {
+		const cases: MeshBuffers[] = [icosphere(2), torus(16, 16), torus(24, 12), concat(unitCube(), unitCube([0.5, 0.25, 0.1]))];
+		for (const m of cases) {
+			for (const d of [[1, 0, 0], [0.3, -0.5, 0.8], [0, 0, 1]] as Vec3[]) {
+				const exact = frontal(m, d), raster = frontal(m, d, 0, 512);
+				expect(exact.method).toBe('union');
+				expect(raster.method).toBe('raster');
+				expect(Math.abs(exact.area - raster.area)).toBeLessThanOrEqual(raster.errorBound + exact.errorBound);
+			}
+		}
+	});
+
+	it('skips zero-area and skipped faces as the raster does', () => {
+		// A cube with a zero-area face (three corners on one line) and a second cube skipped.
+		const cube = unitCube();
+		const sliver: MeshBuffers = { positions: new Float64Array([0, 0, 2, 1, 0, 2, 2, 0, 2]), indices: new Uint32Array([0, 1, 2]) };
+		const m = concat(cube, sliver, unitCube([3, 0, 0]));
+		const skip = new Uint8Array(m.indices.length / 3);
+		skip.fill(1, 13);
+		for (const d of [[0, 0, 1], [0, 1, 0]] as Vec3[]) {
+			const exact = frontal(m, d, Infinity, 128, skip), raster = frontal(m, d, 0, 512, skip);
+			expect(exact.area).toBe(1);
+			expect(Math.abs(exact.area - raster.area)).toBeLessThanOrEqual(raster.errorBound);
+		}
+	});
+
+	it('uses the union up to EXACT_UNION_MAX_FACES faces and gives the raster’s result unchanged above', () => {
+		expect(frontal(unitCube(), [1, 0, 0], EXACT_UNION_MAX_FACES).method).toBe('union');
+		const big = icosphere(4);
+		expect(big.indices.length / 3).toBeGreaterThan(EXACT_UNION_MAX_FACES);
+		const d: Vec3 = [0.3, -0.5, 0.8];
+		const r = frontal(big, d, EXACT_UNION_MAX_FACES);
+		const l = Math.hypot(...d);
+		const { method, ...rest } = r;
+		expect(method).toBe('raster');
+		const { mask } = collapsedFaces(big.indices);
+		const topo = analyseTopology(big.indices, big.positions.length / 3, mask);
+		const one = new Uint8Array(big.indices.length / 3).fill(1);
+		expect(rest).toEqual(silhouetteArea(big.positions, big.indices, mask, topo.edges, [d[0] / l, d[1] / l, d[2] / l], 128, undefined, one));
+	});
+});
 
 describe('silhouette area', () => {
 	it('gives the unit cube a shadow of exactly 1 along each axis', () => {

@@ -11,6 +11,7 @@
  * O(F + E + covered cells + refined samples).
  */
 import type { EdgeTable } from './edges';
+import { unionSilhouetteArea } from './projection-union';
 import type { Vec3 } from './report-types';
 
 export interface SilhouetteArea {
@@ -38,6 +39,50 @@ export function basisFor(d: Vec3): [Vec3, Vec3] {
 		[ux, uy, uz],
 		[dy * uz - dz * uy, dz * ux - dx * uz, dx * uy - dy * ux]
 	];
+}
+
+/** A frontal area with the way it was found: the exact union of the projected triangles, or the raster. */
+export interface FrontalArea extends SilhouetteArea {
+	method: 'union' | 'raster';
+}
+
+/**
+ * Meshes of at most this many faces get their frontal area from the exact union of the projected
+ * triangles (projection-union.ts), larger ones from the raster: the break-even of the two, measured
+ * with the command line (README, "Engine bench").
+ */
+export const EXACT_UNION_MAX_FACES = 256;
+
+/**
+ * Frontal area along a unit direction: exact union for meshes of at most exactMaxFaces faces, the
+ * raster (silhouetteArea) above that and whenever the union fails. Same arguments as silhouetteArea.
+ */
+export function frontalArea(
+	positions: Float64Array,
+	indices: Uint32Array,
+	skipFace: Uint8Array,
+	et: EdgeTable,
+	direction: Vec3,
+	cells: number,
+	scratch?: SilhouetteScratch,
+	oneSided?: Uint8Array,
+	exactMaxFaces = EXACT_UNION_MAX_FACES
+): FrontalArea {
+	const triCount = (indices.length / 3) | 0;
+	if (triCount <= exactMaxFaces) {
+		const vertCount = (positions.length / 3) | 0;
+		const [u, w] = basisFor(direction);
+		const proj = scratch && scratch.proj.length >= 2 * vertCount ? scratch.proj : new Float64Array(2 * vertCount);
+		if (scratch) scratch.proj = proj;
+		projectVertices(positions, vertCount, u[0], u[1], u[2], w[0], w[1], w[2], proj);
+		try {
+			const r = unionSilhouetteArea(proj, indices, triCount, skipFace, oneSided);
+			if (Number.isFinite(r.area) && Number.isFinite(r.errorBound)) return { area: r.area, errorBound: r.errorBound, cellsX: 0, cellsY: 0, cellSize: 0, method: 'union' };
+		} catch {
+			// The raster below answers for every input.
+		}
+	}
+	return { ...silhouetteArea(positions, indices, skipFace, et, direction, cells, scratch, oneSided), method: 'raster' };
 }
 
 /** Scratch for silhouetteArea, reusable across directions of the same mesh. */

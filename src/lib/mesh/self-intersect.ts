@@ -132,9 +132,12 @@ function isDegenerate(positions: Float64Array, a: number, b: number, c: number):
 	const vx = positions[c3] - positions[a3], vy = positions[c3 + 1] - positions[a3 + 1], vz = positions[c3 + 2] - positions[a3 + 2];
 	const p1 = uy * vz, p2 = uz * vy, p3 = uz * vx, p4 = ux * vz, p5 = ux * vy, p6 = uy * vx;
 	const E = 4e-16;
-	if (Math.abs(p1 - p2) > E * (Math.abs(p1) + Math.abs(p2))) return false;
-	if (Math.abs(p3 - p4) > E * (Math.abs(p3) + Math.abs(p4))) return false;
-	if (Math.abs(p5 - p6) > E * (Math.abs(p5) + Math.abs(p6))) return false;
+	// All three filters every time: a branch first taken after the loop is optimised would make V8
+	// drop the code and compile it again.
+	const nx = Math.abs(p1 - p2) > E * (Math.abs(p1) + Math.abs(p2));
+	const ny = Math.abs(p3 - p4) > E * (Math.abs(p3) + Math.abs(p4));
+	const nz = Math.abs(p5 - p6) > E * (Math.abs(p5) + Math.abs(p6));
+	if (nx || ny || nz) return false;
 	return isDegenerateTriangle(positions, a, b, c);
 }
 
@@ -183,20 +186,34 @@ export function encodeFaces(mesh: MeshBuffers, frame: CodeFrame, from: number, t
  * Sorts the live faces by code. Returns the sorted codes and slotFace (slot → face), length liveCount.
  */
 export function sortLiveFaces(live: Uint8Array, codes: Uint32Array, faceCount: number): { codes: Uint32Array; slotFace: Uint32Array } {
-	let liveCount = 0;
-	for (let t = 0; t < faceCount; t++) liveCount += live[t];
+	const liveCount = countLive(live, faceCount);
 	const liveFace = new Uint32Array(liveCount);
 	const liveCodes = new Uint32Array(liveCount);
+	gatherLive(live, codes, faceCount, liveFace, liveCodes);
+	const sorted = sortByCode(liveCodes);
+	const slotFace = sorted.order;
+	remapSlots(slotFace, liveFace, liveCount);
+	return { codes: sorted.codes, slotFace };
+}
+
+// The loops of the sort each in a function of their own, so a fresh process compiles each once.
+function countLive(live: Uint8Array, faceCount: number): number {
+	let liveCount = 0;
+	for (let t = 0; t < faceCount; t++) liveCount += live[t];
+	return liveCount;
+}
+
+function gatherLive(live: Uint8Array, codes: Uint32Array, faceCount: number, liveFace: Uint32Array, liveCodes: Uint32Array): void {
 	for (let t = 0, k = 0; t < faceCount; t++) {
 		if (live[t]) {
 			liveFace[k] = t;
 			liveCodes[k++] = codes[t];
 		}
 	}
-	const sorted = sortByCode(liveCodes);
-	const slotFace = sorted.order;
+}
+
+function remapSlots(slotFace: Uint32Array, liveFace: Uint32Array, liveCount: number): void {
 	for (let k = 0; k < liveCount; k++) slotFace[k] = liveFace[slotFace[k]];
-	return { codes: sorted.codes, slotFace };
 }
 
 /**
@@ -213,18 +230,12 @@ export function sortLiveFacesInto(
 	tmpCodes: Uint32Array,
 	tmpFace: Uint32Array
 ): number {
-	let liveCount = 0;
-	for (let t = 0; t < faceCount; t++) liveCount += live[t];
+	const liveCount = countLive(live, faceCount);
 	if (liveCount === faceCount) {
 		sortByCodeInto(codes, null, faceCount, outCodes, outSlotFace, tmpCodes, tmpFace);
 		return liveCount;
 	}
-	for (let t = 0, k = 0; t < faceCount; t++) {
-		if (live[t]) {
-			tmpFace[k] = t;
-			tmpCodes[k++] = codes[t];
-		}
-	}
+	gatherLive(live, codes, faceCount, tmpFace, tmpCodes);
 	sortByCodeInto(tmpCodes, tmpFace, liveCount, outCodes, outSlotFace, tmpCodes, tmpFace);
 	return liveCount;
 }

@@ -82,8 +82,12 @@ function union(parent: Int32Array, a: number, b: number): void {
 
 /** Faces with a repeated vertex index (collapsed): they carry no surface and take no part. */
 export function collapsedFaces(indices: Uint32Array): { mask: Uint8Array; count: number } {
-	const triCount = (indices.length / 3) | 0;
-	const mask = new Uint8Array(triCount);
+	const mask = new Uint8Array((indices.length / 3) | 0);
+	return { mask, count: markCollapsed(indices, mask) };
+}
+
+function markCollapsed(indices: Uint32Array, mask: Uint8Array): number {
+	const triCount = mask.length;
 	let count = 0;
 	for (let t = 0, t3 = 0; t < triCount; t++, t3 += 3) {
 		const a = indices[t3], b = indices[t3 + 1], c = indices[t3 + 2];
@@ -92,7 +96,7 @@ export function collapsedFaces(indices: Uint32Array): { mask: Uint8Array; count:
 			count++;
 		}
 	}
-	return { mask, count };
+	return count;
 }
 
 // Each loop below is a function of its own that returns its result or stores it inside the loop: in

@@ -4,6 +4,7 @@
  * over face corners; scratch is allocated once per call.
  */
 import { MeshReadError } from './types';
+import { firstIndexOutOfRange } from './validate';
 import { buildEdges, nextHalfedge as nextHalfedgeImport, NO_EDGE, type EdgeTable } from './edges';
 
 // Bound once (see predicates.ts: some loaders make each use of an import a getter call).
@@ -102,12 +103,6 @@ function markCollapsed(indices: Uint32Array, mask: Uint8Array): number {
 // Each loop below is a function of its own that returns its result or stores it inside the loop: in
 // a fresh process V8 optimises a long loop while it runs, and code after the loop that has not run
 // yet (no type feedback) would make V8 drop that code at the loop's exit and compile again.
-
-/** First index entry ≥ vertCount, or −1. */
-function firstBadIndex(indices: Uint32Array, vertCount: number): number {
-	for (let i = 0; i < indices.length; i++) if (indices[i] >= vertCount) return i;
-	return -1;
-}
 
 /**
  * BFS over one patch from `seed` across two-face edges, 2-colouring its faces (colour 1 = flip;
@@ -485,7 +480,7 @@ export function analyseTopology(
 	};
 	const triCount = (indices.length / 3) | 0;
 	const heCount = 3 * triCount;
-	const bad = firstBadIndex(indices, vertCount);
+	const bad = firstIndexOutOfRange(indices, vertCount);
 	if (bad >= 0) {
 		throw new MeshReadError(`face ${(bad / 3) | 0} refers to vertex ${indices[bad]}, but there are only ${vertCount} vertices`);
 	}

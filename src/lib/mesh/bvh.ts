@@ -96,27 +96,52 @@ export function sortByCodeInto(
 	tmpOrder: Uint32Array
 ): void {
 	const hist = new Uint32Array(1024);
-	// Three 10-bit passes: input → out, out → tmp, tmp → out.
-	for (let pass = 0; pass < 3; pass++) {
-		const shift = 10 * pass;
-		const srcC = pass === 0 ? codesIn : pass === 1 ? outCodes : tmpCodes;
-		const srcO = pass === 0 ? ids : pass === 1 ? outOrder : tmpOrder;
-		const dstC = pass === 1 ? tmpCodes : outCodes;
-		const dstO = pass === 1 ? tmpOrder : outOrder;
-		hist.fill(0);
-		for (let i = 0; i < n; i++) hist[(srcC[i] >>> shift) & 1023]++;
-		let sum = 0;
-		for (let b = 0; b < 1024; b++) {
-			const h = hist[b];
-			hist[b] = sum;
-			sum += h;
-		}
-		for (let i = 0; i < n; i++) {
-			const c = srcC[i];
-			const dst = hist[(c >>> shift) & 1023]++;
-			dstC[dst] = c;
-			dstO[dst] = srcO ? srcO[i] : i;
-		}
+	// Three 10-bit passes: input → out, out → tmp, tmp → out. Each loop is a function of its own so
+	// a fresh process compiles it once (code after an optimised loop that has not run yet would make
+	// V8 drop the loop's code at its exit).
+	codeHistogram(codesIn, n, 0, hist);
+	exclusiveSums(hist);
+	if (ids) radixScatter(codesIn, ids, n, 0, hist, outCodes, outOrder);
+	else radixScatterIdentity(codesIn, n, hist, outCodes, outOrder);
+	hist.fill(0);
+	codeHistogram(outCodes, n, 10, hist);
+	exclusiveSums(hist);
+	radixScatter(outCodes, outOrder, n, 10, hist, tmpCodes, tmpOrder);
+	hist.fill(0);
+	codeHistogram(tmpCodes, n, 20, hist);
+	exclusiveSums(hist);
+	radixScatter(tmpCodes, tmpOrder, n, 20, hist, outCodes, outOrder);
+}
+
+function codeHistogram(codes: Uint32Array, n: number, shift: number, hist: Uint32Array): void {
+	for (let i = 0; i < n; i++) hist[(codes[i] >>> shift) & 1023]++;
+}
+
+function exclusiveSums(hist: Uint32Array): void {
+	let sum = 0;
+	for (let b = 0; b < 1024; b++) {
+		const h = hist[b];
+		hist[b] = sum;
+		sum += h;
+	}
+}
+
+function radixScatter(srcC: Uint32Array, srcO: Uint32Array, n: number, shift: number, hist: Uint32Array, dstC: Uint32Array, dstO: Uint32Array): void {
+	for (let i = 0; i < n; i++) {
+		const c = srcC[i];
+		const dst = hist[(c >>> shift) & 1023]++;
+		dstC[dst] = c;
+		dstO[dst] = srcO[i];
+	}
+}
+
+/** The first pass when item k's id is k itself. */
+function radixScatterIdentity(srcC: Uint32Array, n: number, hist: Uint32Array, dstC: Uint32Array, dstO: Uint32Array): void {
+	for (let i = 0; i < n; i++) {
+		const c = srcC[i];
+		const dst = hist[c & 1023]++;
+		dstC[dst] = c;
+		dstO[dst] = i;
 	}
 }
 
@@ -157,8 +182,38 @@ function buildSorted(
 	const firstChild = store ? store.firstChild : new Int32Array(maxNodes);
 	const start = store ? store.start : new Uint32Array(maxNodes);
 	const count = store ? store.count : new Uint32Array(maxNodes);
-	// Top-down split at the highest differing code bit (Karras 2012); children are allocated after
-	// their parent, so bounds can be filled in reverse. Depth ≤ 30 bits + log2(n) for equal codes.
+	const nodeCount = splitNodes(codes, n, leafSize, firstChild, start, count);
+	if (nodeCount < 0) throw new Error('BVH build stack overflow');
+	// Each pass is a function of its own that returns its result, so a fresh process compiles each
+	// loop once (see sortByCodeInto).
+	let bounds: Float32Array | Float64Array;
+	if (f32) {
+		const b32 = store ? store.bounds.subarray(0, 6 * nodeCount) : new Float32Array(6 * nodeCount);
+		if (boxes instanceof Float32Array) nodeBounds32(boxes, nodeCount, firstChild, start, count, b32);
+		else nodeBounds32From64(boxes, nodeCount, firstChild, start, count, b32);
+		bounds = b32;
+	} else {
+		const b64 = new Float64Array(6 * nodeCount);
+		nodeBounds64(boxes as Float64Array, nodeCount, firstChild, start, count, b64);
+		bounds = b64;
+	}
+	return {
+		nodeCount,
+		bounds: bounds as Float64Array,
+		// Views, not copies: the unused tail was never written, so its pages were never touched.
+		firstChild: firstChild.subarray(0, nodeCount),
+		start: start.subarray(0, nodeCount),
+		count: count.subarray(0, nodeCount),
+		order: new Uint32Array(0)
+	};
+}
+
+/**
+ * Top-down split at the highest differing code bit (Karras 2012); children are allocated after
+ * their parent, so bounds can be filled in reverse. Depth ≤ 30 bits + log2(n) for equal codes.
+ * Returns the node count, or −1 when the stack would overflow.
+ */
+function splitNodes(codes: Uint32Array, n: number, leafSize: number, firstChild: Int32Array, start: Uint32Array, count: Uint32Array): number {
 	const stack = new Int32Array(3 * 256);
 	let sp = 0;
 	let nodeCount = 1;
@@ -191,7 +246,7 @@ function buildSorted(
 		const l = nodeCount;
 		nodeCount += 2;
 		firstChild[node] = l;
-		if (sp + 6 > stack.length) throw new Error('BVH build stack overflow');
+		if (sp + 6 > stack.length) return -1;
 		stack[sp++] = l;
 		stack[sp++] = s;
 		stack[sp++] = mid;
@@ -199,7 +254,11 @@ function buildSorted(
 		stack[sp++] = mid;
 		stack[sp++] = e;
 	}
-	const bounds = store && f32 ? store.bounds.subarray(0, 6 * nodeCount) : f32 ? new Float32Array(6 * nodeCount) : new Float64Array(6 * nodeCount);
+	return nodeCount;
+}
+
+/** Node bounds in float32 rounded outward, from float32 item boxes (exact: min/max of float32 values is a float32). */
+function nodeBounds32(boxes: Float32Array, nodeCount: number, firstChild: Int32Array, start: Uint32Array, count: Uint32Array, bounds: Float32Array): void {
 	for (let node = nodeCount - 1; node >= 0; node--) {
 		const o = 6 * node;
 		let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;
@@ -222,23 +281,67 @@ function buildSorted(
 			mxy = bounds[a + 4] > bounds[b + 4] ? bounds[a + 4] : bounds[b + 4];
 			mxz = bounds[a + 5] > bounds[b + 5] ? bounds[a + 5] : bounds[b + 5];
 		}
-		if (f32) {
-			bounds[o] = f32Down(mnx); bounds[o + 1] = f32Down(mny); bounds[o + 2] = f32Down(mnz);
-			bounds[o + 3] = f32Up(mxx); bounds[o + 4] = f32Up(mxy); bounds[o + 5] = f32Up(mxz);
-		} else {
-			bounds[o] = mnx; bounds[o + 1] = mny; bounds[o + 2] = mnz;
-			bounds[o + 3] = mxx; bounds[o + 4] = mxy; bounds[o + 5] = mxz;
-		}
+		bounds[o] = f32Down(mnx); bounds[o + 1] = f32Down(mny); bounds[o + 2] = f32Down(mnz);
+		bounds[o + 3] = f32Up(mxx); bounds[o + 4] = f32Up(mxy); bounds[o + 5] = f32Up(mxz);
 	}
-	return {
-		nodeCount,
-		bounds: bounds as Float64Array,
-		// Views, not copies: the unused tail was never written, so its pages were never touched.
-		firstChild: firstChild.subarray(0, nodeCount),
-		start: start.subarray(0, nodeCount),
-		count: count.subarray(0, nodeCount),
-		order: new Uint32Array(0)
-	};
+}
+
+/** The same from float64 item boxes. */
+function nodeBounds32From64(boxes: Float64Array, nodeCount: number, firstChild: Int32Array, start: Uint32Array, count: Uint32Array, bounds: Float32Array): void {
+	for (let node = nodeCount - 1; node >= 0; node--) {
+		const o = 6 * node;
+		let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;
+		const fc = firstChild[node];
+		if (fc < 0) {
+			for (let b = 6 * start[node], end = b + 6 * count[node]; b < end; b += 6) {
+				if (boxes[b] < mnx) mnx = boxes[b];
+				if (boxes[b + 1] < mny) mny = boxes[b + 1];
+				if (boxes[b + 2] < mnz) mnz = boxes[b + 2];
+				if (boxes[b + 3] > mxx) mxx = boxes[b + 3];
+				if (boxes[b + 4] > mxy) mxy = boxes[b + 4];
+				if (boxes[b + 5] > mxz) mxz = boxes[b + 5];
+			}
+		} else {
+			const a = 6 * fc, b = a + 6;
+			mnx = bounds[a] < bounds[b] ? bounds[a] : bounds[b];
+			mny = bounds[a + 1] < bounds[b + 1] ? bounds[a + 1] : bounds[b + 1];
+			mnz = bounds[a + 2] < bounds[b + 2] ? bounds[a + 2] : bounds[b + 2];
+			mxx = bounds[a + 3] > bounds[b + 3] ? bounds[a + 3] : bounds[b + 3];
+			mxy = bounds[a + 4] > bounds[b + 4] ? bounds[a + 4] : bounds[b + 4];
+			mxz = bounds[a + 5] > bounds[b + 5] ? bounds[a + 5] : bounds[b + 5];
+		}
+		bounds[o] = f32Down(mnx); bounds[o + 1] = f32Down(mny); bounds[o + 2] = f32Down(mnz);
+		bounds[o + 3] = f32Up(mxx); bounds[o + 4] = f32Up(mxy); bounds[o + 5] = f32Up(mxz);
+	}
+}
+
+/** Node bounds in float64 from float64 item boxes. */
+function nodeBounds64(boxes: Float64Array, nodeCount: number, firstChild: Int32Array, start: Uint32Array, count: Uint32Array, bounds: Float64Array): void {
+	for (let node = nodeCount - 1; node >= 0; node--) {
+		const o = 6 * node;
+		let mnx = Infinity, mny = Infinity, mnz = Infinity, mxx = -Infinity, mxy = -Infinity, mxz = -Infinity;
+		const fc = firstChild[node];
+		if (fc < 0) {
+			for (let b = 6 * start[node], end = b + 6 * count[node]; b < end; b += 6) {
+				if (boxes[b] < mnx) mnx = boxes[b];
+				if (boxes[b + 1] < mny) mny = boxes[b + 1];
+				if (boxes[b + 2] < mnz) mnz = boxes[b + 2];
+				if (boxes[b + 3] > mxx) mxx = boxes[b + 3];
+				if (boxes[b + 4] > mxy) mxy = boxes[b + 4];
+				if (boxes[b + 5] > mxz) mxz = boxes[b + 5];
+			}
+		} else {
+			const a = 6 * fc, b = a + 6;
+			mnx = bounds[a] < bounds[b] ? bounds[a] : bounds[b];
+			mny = bounds[a + 1] < bounds[b + 1] ? bounds[a + 1] : bounds[b + 1];
+			mnz = bounds[a + 2] < bounds[b + 2] ? bounds[a + 2] : bounds[b + 2];
+			mxx = bounds[a + 3] > bounds[b + 3] ? bounds[a + 3] : bounds[b + 3];
+			mxy = bounds[a + 4] > bounds[b + 4] ? bounds[a + 4] : bounds[b + 4];
+			mxz = bounds[a + 5] > bounds[b + 5] ? bounds[a + 5] : bounds[b + 5];
+		}
+		bounds[o] = mnx; bounds[o + 1] = mny; bounds[o + 2] = mnz;
+		bounds[o + 3] = mxx; bounds[o + 4] = mxy; bounds[o + 5] = mxz;
+	}
 }
 
 /** Convenience: builds over `itemCount` boxes in any order; `order` maps leaf slots to items. */

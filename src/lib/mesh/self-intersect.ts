@@ -132,9 +132,12 @@ function isDegenerate(positions: Float64Array, a: number, b: number, c: number):
 	const vx = positions[c3] - positions[a3], vy = positions[c3 + 1] - positions[a3 + 1], vz = positions[c3 + 2] - positions[a3 + 2];
 	const p1 = uy * vz, p2 = uz * vy, p3 = uz * vx, p4 = ux * vz, p5 = ux * vy, p6 = uy * vx;
 	const E = 4e-16;
-	if (Math.abs(p1 - p2) > E * (Math.abs(p1) + Math.abs(p2))) return false;
-	if (Math.abs(p3 - p4) > E * (Math.abs(p3) + Math.abs(p4))) return false;
-	if (Math.abs(p5 - p6) > E * (Math.abs(p5) + Math.abs(p6))) return false;
+	// All three filters every time: a branch first taken after the loop is optimised would make V8
+	// drop the code and compile it again.
+	const nx = Math.abs(p1 - p2) > E * (Math.abs(p1) + Math.abs(p2));
+	const ny = Math.abs(p3 - p4) > E * (Math.abs(p3) + Math.abs(p4));
+	const nz = Math.abs(p5 - p6) > E * (Math.abs(p5) + Math.abs(p6));
+	if (nx || ny || nz) return false;
 	return isDegenerateTriangle(positions, a, b, c);
 }
 
@@ -183,20 +186,34 @@ export function encodeFaces(mesh: MeshBuffers, frame: CodeFrame, from: number, t
  * Sorts the live faces by code. Returns the sorted codes and slotFace (slot → face), length liveCount.
  */
 export function sortLiveFaces(live: Uint8Array, codes: Uint32Array, faceCount: number): { codes: Uint32Array; slotFace: Uint32Array } {
-	let liveCount = 0;
-	for (let t = 0; t < faceCount; t++) liveCount += live[t];
+	const liveCount = countLive(live, faceCount);
 	const liveFace = new Uint32Array(liveCount);
 	const liveCodes = new Uint32Array(liveCount);
+	gatherLive(live, codes, faceCount, liveFace, liveCodes);
+	const sorted = sortByCode(liveCodes);
+	const slotFace = sorted.order;
+	remapSlots(slotFace, liveFace, liveCount);
+	return { codes: sorted.codes, slotFace };
+}
+
+// The loops of the sort each in a function of their own, so a fresh process compiles each once.
+function countLive(live: Uint8Array, faceCount: number): number {
+	let liveCount = 0;
+	for (let t = 0; t < faceCount; t++) liveCount += live[t];
+	return liveCount;
+}
+
+function gatherLive(live: Uint8Array, codes: Uint32Array, faceCount: number, liveFace: Uint32Array, liveCodes: Uint32Array): void {
 	for (let t = 0, k = 0; t < faceCount; t++) {
 		if (live[t]) {
 			liveFace[k] = t;
 			liveCodes[k++] = codes[t];
 		}
 	}
-	const sorted = sortByCode(liveCodes);
-	const slotFace = sorted.order;
+}
+
+function remapSlots(slotFace: Uint32Array, liveFace: Uint32Array, liveCount: number): void {
 	for (let k = 0; k < liveCount; k++) slotFace[k] = liveFace[slotFace[k]];
-	return { codes: sorted.codes, slotFace };
 }
 
 /**
@@ -213,18 +230,12 @@ export function sortLiveFacesInto(
 	tmpCodes: Uint32Array,
 	tmpFace: Uint32Array
 ): number {
-	let liveCount = 0;
-	for (let t = 0; t < faceCount; t++) liveCount += live[t];
+	const liveCount = countLive(live, faceCount);
 	if (liveCount === faceCount) {
 		sortByCodeInto(codes, null, faceCount, outCodes, outSlotFace, tmpCodes, tmpFace);
 		return liveCount;
 	}
-	for (let t = 0, k = 0; t < faceCount; t++) {
-		if (live[t]) {
-			tmpFace[k] = t;
-			tmpCodes[k++] = codes[t];
-		}
-	}
+	gatherLive(live, codes, faceCount, tmpFace, tmpCodes);
 	sortByCodeInto(tmpCodes, tmpFace, liveCount, outCodes, outSlotFace, tmpCodes, tmpFace);
 	return liveCount;
 }
@@ -616,8 +627,8 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 	const ctx: Ctx = { positions: prep.positions, tp: new Float64Array(18), pl: new Float64Array(12), exact: 0, hit: new Float64Array(3) };
 	const sample: SelfIntersectionSample[] = [];
 	let pairs = 0;
-	let candidates = 0;
-	let clearSkips = 0;
+	// Candidate pairs and clear skips, kept by leafPairs.
+	const counts = new Float64Array(2);
 	let taskRuns = 0;
 	const clear = prep.clear ?? new Uint8Array(prep.positions.length / 3);
 
@@ -634,7 +645,6 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 	}
 
 	let stack = new Int32Array(1024);
-	const hit = ctx.hit;
 	for (let task = nextTask ? nextTask() : staticIndex; task >= 0 && task < taskCount; task = nextTask ? nextTask() : task + staticStep) {
 		taskRuns++;
 		let sp = 0;
@@ -686,58 +696,7 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 				sa = start[a]; ea = sa + count[a]; sb = start[b]; eb = sb + count[b]; same = false; nb6 = b6;
 			}
 			// Leaf against leaf (or a leaf against itself): box test, then the exact pair rule.
-			for (let i = sa; i < ea; i++) {
-				const i6 = 6 * i;
-				const minX = box[i6], minY = box[i6 + 1], minZ = box[i6 + 2], maxX = box[i6 + 3], maxY = box[i6 + 4], maxZ = box[i6 + 5];
-				// Every box of leaf b lies inside b's bounds: a face missing those meets none of them.
-				if (
-					nb6 >= 0 &&
-					(bounds[nb6] > maxX || bounds[nb6 + 3] < minX || bounds[nb6 + 1] > maxY || bounds[nb6 + 4] < minY || bounds[nb6 + 2] > maxZ || bounds[nb6 + 5] < minZ)
-				) continue;
-				let loaded = false;
-				const i3 = 3 * i;
-				const a0 = verts[i3], a1 = verts[i3 + 1], a2 = verts[i3 + 2];
-				const c0 = clear[a0], c1 = clear[a1], c2 = clear[a2];
-				const anyClear = c0 | c1 | c2;
-				for (let j = same ? i + 1 : sb; j < eb; j++) {
-					const j6 = 6 * j;
-					if (box[j6] > maxX || box[j6 + 3] < minX || box[j6 + 1] > maxY || box[j6 + 4] < minY || box[j6 + 2] > maxZ || box[j6 + 5] < minZ) continue;
-					if (filtered) {
-						const lo = Math.min(faceOf[i], faceOf[j]);
-						if (lo < rangeFrom || lo >= rangeTo) continue;
-					}
-					candidates++;
-					if (anyClear) {
-						// A pair sharing a clear vertex (one or two shared, never three: vertex-fans.ts) cannot count.
-						const j3 = 3 * j;
-						const b0 = verts[j3], b1 = verts[j3 + 1], b2 = verts[j3 + 2];
-						if (
-							(c0 && (a0 === b0 || a0 === b1 || a0 === b2)) ||
-							(c1 && (a1 === b0 || a1 === b1 || a1 === b2)) ||
-							(c2 && (a2 === b0 || a2 === b1 || a2 === b2))
-						) {
-							clearSkips++;
-							continue;
-						}
-					}
-					if (!loaded) {
-						loadTriangle(ctx, 0, verts[3 * i], verts[3 * i + 1], verts[3 * i + 2]);
-						loaded = true;
-					}
-					if (testPair(ctx, verts, i, j)) {
-						pairs++;
-						if (sampleLimit > 0) {
-							const fi = faceOf[i], fj = faceOf[j];
-							sample.push({ a: Math.min(fi, fj), b: Math.max(fi, fj), point: [hit[0], hit[1], hit[2]] });
-							// Keep the sampleLimit smallest (a, b) seen so far, so shards merge to the same sample.
-							if (sample.length >= 2 * sampleLimit + 64) {
-								sample.sort(bySampleKey);
-								sample.length = sampleLimit;
-							}
-						}
-					}
-				}
-			}
+			pairs += leafPairs(ctx, verts, box, clear, faceOf, bounds, sa, ea, sb, eb, same, nb6, filtered, rangeFrom, rangeTo, sample, sampleLimit, counts);
 		}
 	}
 	sample.sort(bySampleKey);
@@ -748,8 +707,94 @@ export function findInPrepared(prep: PreparedMesh, opts: SelfIntersectionOptions
 		sample,
 		degenerateSkipped: prep.degenerateSkipped,
 		ms: buildMs + traverseMs,
-		stats: { buildMs, traverseMs, candidatePairs: candidates, clearSkips, exactTests: ctx.exact, tasks: taskRuns }
+		stats: { buildMs, traverseMs, candidatePairs: counts[0], clearSkips: counts[1], exactTests: ctx.exact, tasks: taskRuns }
 	};
+}
+
+/**
+ * The pairs of slots i in [sa, ea) and j in [sb, eb) (j > i when `same`, one leaf against itself)
+ * whose boxes overlap, by the exact pair rule; nb6 ≥ 0 is 6 × leaf b's node, whose bounds first
+ * rule out faces of a. Adds candidates and clear skips to counts[0] and counts[1]; returns the pairs
+ * that count. A function of its own so that the traversal around it stays small: in a fresh
+ * process V8 compiles that loop on the spot while it runs, and this one on a helper thread.
+ */
+function leafPairs(
+	ctx: Ctx,
+	verts: Uint32Array,
+	box: Float32Array,
+	clear: Uint8Array,
+	faceOf: Uint32Array,
+	bounds: Float32Array,
+	sa: number,
+	ea: number,
+	sb: number,
+	eb: number,
+	same: boolean,
+	nb6: number,
+	filtered: boolean,
+	rangeFrom: number,
+	rangeTo: number,
+	sample: SelfIntersectionSample[],
+	sampleLimit: number,
+	counts: Float64Array
+): number {
+	const hit = ctx.hit;
+	let pairs = 0, candidates = 0, clearSkips = 0;
+	for (let i = sa; i < ea; i++) {
+		const i6 = 6 * i;
+		const minX = box[i6], minY = box[i6 + 1], minZ = box[i6 + 2], maxX = box[i6 + 3], maxY = box[i6 + 4], maxZ = box[i6 + 5];
+		// Every box of leaf b lies inside b's bounds: a face missing those meets none of them.
+		if (
+			nb6 >= 0 &&
+			(bounds[nb6] > maxX || bounds[nb6 + 3] < minX || bounds[nb6 + 1] > maxY || bounds[nb6 + 4] < minY || bounds[nb6 + 2] > maxZ || bounds[nb6 + 5] < minZ)
+		) continue;
+		let loaded = false;
+		const i3 = 3 * i;
+		const a0 = verts[i3], a1 = verts[i3 + 1], a2 = verts[i3 + 2];
+		const c0 = clear[a0], c1 = clear[a1], c2 = clear[a2];
+		const anyClear = c0 | c1 | c2;
+		for (let j = same ? i + 1 : sb; j < eb; j++) {
+			const j6 = 6 * j;
+			if (box[j6] > maxX || box[j6 + 3] < minX || box[j6 + 1] > maxY || box[j6 + 4] < minY || box[j6 + 2] > maxZ || box[j6 + 5] < minZ) continue;
+			if (filtered) {
+				const lo = Math.min(faceOf[i], faceOf[j]);
+				if (lo < rangeFrom || lo >= rangeTo) continue;
+			}
+			candidates++;
+			if (anyClear) {
+				// A pair sharing a clear vertex (one or two shared, never three: vertex-fans.ts) cannot count.
+				const j3 = 3 * j;
+				const b0 = verts[j3], b1 = verts[j3 + 1], b2 = verts[j3 + 2];
+				if (
+					(c0 && (a0 === b0 || a0 === b1 || a0 === b2)) ||
+					(c1 && (a1 === b0 || a1 === b1 || a1 === b2)) ||
+					(c2 && (a2 === b0 || a2 === b1 || a2 === b2))
+				) {
+					clearSkips++;
+					continue;
+				}
+			}
+			if (!loaded) {
+				loadTriangle(ctx, 0, a0, a1, a2);
+				loaded = true;
+			}
+			if (testPair(ctx, verts, i, j)) {
+				pairs++;
+				if (sampleLimit > 0) {
+					const fi = faceOf[i], fj = faceOf[j];
+					sample.push({ a: Math.min(fi, fj), b: Math.max(fi, fj), point: [hit[0], hit[1], hit[2]] });
+					// Keep the sampleLimit smallest (a, b) seen so far, so shards merge to the same sample.
+					if (sample.length >= 2 * sampleLimit + 64) {
+						sample.sort(bySampleKey);
+						sample.length = sampleLimit;
+					}
+				}
+			}
+		}
+	}
+	counts[0] += candidates;
+	counts[1] += clearSkips;
+	return pairs;
 }
 
 /** Counts self-intersecting face pairs of `mesh` (see the file comment for the rule). */

@@ -37,12 +37,25 @@ export function validateMesh(mesh: MeshBuffers, opts: ValidateOptions = {}): voi
 	const triCount = indices.length / 3;
 	if (opts.maxFaces !== undefined && triCount > opts.maxFaces) fail('too-many-faces', `mesh has ${triCount} triangles, more than the limit of ${opts.maxFaces}`);
 	const vertCount = positions.length / 3;
-	for (let i = 0; i < indices.length; i++) {
-		if (indices[i] >= vertCount) fail('index-out-of-range', `face ${(i / 3) | 0} refers to vertex ${indices[i]}, but there are only ${vertCount} vertices`);
+	const bad = firstIndexOutOfRange(indices, vertCount);
+	if (bad >= 0) fail('index-out-of-range', `face ${(bad / 3) | 0} refers to vertex ${indices[bad]}, but there are only ${vertCount} vertices`);
+	const odd = firstNonFinite(positions);
+	if (odd >= 0) {
+		fail('non-finite-coordinate', `vertex ${(odd / 3) | 0} has a coordinate that is not a finite number (${positions[odd]}); the mesh cannot be measured`);
 	}
-	for (let i = 0; i < positions.length; i++) {
-		if (!Number.isFinite(positions[i])) {
-			fail('non-finite-coordinate', `vertex ${(i / 3) | 0} has a coordinate that is not a finite number (${positions[i]}); the mesh cannot be measured`);
-		}
-	}
+}
+
+// The scans are functions of their own that return their result: in a fresh process code after an
+// optimised loop that has not run yet makes V8 drop the loop's code at its exit and compile again.
+
+/** First entry of `indices` that is not below vertCount, or −1. */
+export function firstIndexOutOfRange(indices: Uint32Array, vertCount: number): number {
+	for (let i = 0; i < indices.length; i++) if (indices[i] >= vertCount) return i;
+	return -1;
+}
+
+function firstNonFinite(positions: Float64Array): number {
+	// x − x is 0 for every finite x and NaN for NaN and ±∞.
+	for (let i = 0; i < positions.length; i++) if (positions[i] - positions[i] !== 0) return i;
+	return -1;
 }

@@ -61,18 +61,32 @@ export const FAN_MAX = 32;
 export function vertexFaces(indices: Uint32Array, vertCount: number, live: Uint8Array, start: Uint32Array, faces: Uint32Array): void {
 	const faceCount = indices.length / 3;
 	start.fill(0, 0, vertCount + 1);
+	// Each loop in a function of its own, so a fresh process compiles each once.
+	countCorners(indices, faceCount, live, start);
+	start[vertCount] = runningEnds(start, vertCount);
+	fillFromBack(indices, faceCount, live, start, faces);
+}
+
+function countCorners(indices: Uint32Array, faceCount: number, live: Uint8Array, start: Uint32Array): void {
 	for (let t = 0, t3 = 0; t < faceCount; t++, t3 += 3) {
 		if (!live[t]) continue;
 		start[indices[t3]]++;
 		start[indices[t3 + 1]]++;
 		start[indices[t3 + 2]]++;
 	}
+}
+
+/** start[v] becomes the end of v's range (the fill below moves it to the start); returns the total. */
+function runningEnds(start: Uint32Array, vertCount: number): number {
 	let sum = 0;
 	for (let v = 0; v < vertCount; v++) {
 		sum += start[v];
-		start[v] = sum; // end of v's range for now; the fill below moves it to the start
+		start[v] = sum;
 	}
-	start[vertCount] = sum;
+	return sum;
+}
+
+function fillFromBack(indices: Uint32Array, faceCount: number, live: Uint8Array, start: Uint32Array, faces: Uint32Array): void {
 	for (let t = faceCount - 1, t3 = 3 * t; t >= 0; t--, t3 -= 3) {
 		if (!live[t]) continue;
 		faces[--start[indices[t3]]] = t;

@@ -81,12 +81,31 @@ function weldHalfwords(
 ): { result: WeldResult; firstNonFinite: number } {
 	const indices = new Uint32Array(cornerCount);
 	// Meshes have about half as many vertices as triangles (a sixth of the corners); start there.
-	let size = tableSizeFor(Math.max(16, Math.ceil(cornerCount / 6)));
-	let mask = size - 1;
-	let table = new Uint32Array(4 * size);
+	const size = tableSizeFor(Math.max(16, Math.ceil(cornerCount / 6)));
+	const wt: WeldTable = { table: new Uint32Array(4 * size), size, vertCount: 0 };
 	const recent = new Uint32Array(4 * (RECENT_MASK + 1));
+	// The corner loop and the positions loop are functions of their own: in a fresh process code
+	// after an optimised loop that has not run yet makes V8 drop the loop's code at its exit.
+	const firstNonFinite = weldCorners(u16, cornerCount, base, groupStride, wt, recent, indices);
+	const vertCount = wt.vertCount;
+	const positions = new Float64Array(3 * vertCount);
+	tablePositions(wt.table, wt.size, positions);
+	return { result: { positions, indices, vertCount, weldedVertices: cornerCount - vertCount }, firstNonFinite };
+}
+
+/** The weld's table: slot s is [x, y, z, id + 1]; replaced by a larger one when half full. */
+interface WeldTable {
+	table: Uint32Array;
+	size: number;
+	vertCount: number;
+}
+
+/** Welds the corners into wt and indices; returns the first corner with a NaN/∞ coordinate, or −1. */
+function weldCorners(u16: Uint16Array, cornerCount: number, base: number, groupStride: number, wt: WeldTable, recent: Uint32Array, indices: Uint32Array): number {
+	let table = wt.table;
+	let size = wt.size;
+	let mask = size - 1;
 	let vertCount = 0;
-	let firstNonFinite = -1;
 	let hw = base, k = 0;
 	for (let c = 0; c < cornerCount; c++) {
 		let x = (u16[hw] | (u16[hw + 1] << 16)) >>> 0;
@@ -96,10 +115,7 @@ function weldHalfwords(
 		if (x === 0x80000000) x = 0;
 		if (y === 0x80000000) y = 0;
 		if (z === 0x80000000) z = 0;
-		if ((x & 0x7f800000) === 0x7f800000 || (y & 0x7f800000) === 0x7f800000 || (z & 0x7f800000) === 0x7f800000) {
-			firstNonFinite = c;
-			break;
-		}
+		if ((x & 0x7f800000) === 0x7f800000 || (y & 0x7f800000) === 0x7f800000 || (z & 0x7f800000) === 0x7f800000) return c;
 		const h = hash3(x, y, z);
 		const r4 = (h & RECENT_MASK) << 2;
 		if (recent[r4 + 3] !== 0 && recent[r4] === x && recent[r4 + 1] === y && recent[r4 + 2] === z) {
@@ -115,6 +131,7 @@ function weldHalfwords(
 		}
 		if (id1 === 0) {
 			id1 = ++vertCount;
+			wt.vertCount = vertCount;
 			table[s4] = x;
 			table[s4 + 1] = y;
 			table[s4 + 2] = z;
@@ -123,6 +140,8 @@ function weldHalfwords(
 				size *= 2;
 				mask = size - 1;
 				table = rehash32(table, size);
+				wt.table = table;
+				wt.size = size;
 			}
 		}
 		indices[c] = id1 - 1;
@@ -131,8 +150,11 @@ function weldHalfwords(
 		recent[r4 + 2] = z;
 		recent[r4 + 3] = id1;
 	}
-	const asFloat = new Float32Array(table.buffer);
-	const positions = new Float64Array(3 * vertCount);
+	return -1;
+}
+
+function tablePositions(table: Uint32Array, size: number, positions: Float64Array): void {
+	const asFloat = new Float32Array(table.buffer, table.byteOffset, table.length);
 	for (let s = 0; s < size; s++) {
 		const id1 = table[4 * s + 3];
 		if (id1 === 0) continue;
@@ -141,7 +163,6 @@ function weldHalfwords(
 		positions[v3 + 1] = asFloat[4 * s + 1];
 		positions[v3 + 2] = asFloat[4 * s + 2];
 	}
-	return { result: { positions, indices, vertCount, weldedVertices: cornerCount - vertCount }, firstNonFinite };
 }
 
 function rehash32(old: Uint32Array, size: number): Uint32Array<ArrayBuffer> {

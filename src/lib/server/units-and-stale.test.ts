@@ -11,7 +11,7 @@ import { implicitMesh } from '../mesh/testing/repair-support';
 import { sphere } from '../mesh/testing/implicit-shapes';
 import { writeBinaryStl } from '../mesh/write';
 import { getDb } from './db';
-import { checkRun, gateProfile, project, revision, ruleResult } from './db/schema';
+import { checkRun, gateProfile, mailOutbox, project, revision, ruleResult } from './db/schema';
 import { processCheckJob } from './jobs/check';
 import { claimJob } from './jobs/queue';
 import { processRepairJob } from './jobs/repair';
@@ -99,5 +99,21 @@ describe('size and units through the jobs (1 m = 1000 mm, by definition)', () =>
 		expect(await staleRevisionIds(db, projectId)).toEqual([]);
 		const ctx = await loadRevisionForUser(db, users.engineer, heldId);
 		expect(ctx.rev.status).toBe('held');
+	});
+
+	it('with the size rule off, the held mail still names the likely unit mistake after the rules that hold it', async () => {
+		const db = getDb();
+		await addProfile({ ...DEFAULT_GATE_RULES, expectedSize: null });
+		const bytes = writeBinaryStl(implicitMesh(sphere(0.06), 0.01));
+		const up = await uploadBytes(db, users.designer, bytes, 'pod-in-metres-2.stl', 'sensor-pods', 'pod-units-off');
+		await drain();
+		const [rev] = await db.select().from(revision).where(eq(revision.id, up.revisionId));
+		expect(rev.status).toBe('held');
+		const mails = (await db.select().from(mailOutbox)).filter((m) => m.subject.startsWith('Held: ') && m.subject.includes('pod units off'));
+		expect(mails).toHaveLength(1);
+		expect(mails[0].textBody).toContain('Shortest edge');
+		expect(mails[0].textBody).toContain('Also to look at (does not hold on its own) — Size and units');
+		expect(mails[0].textBody).toContain('likely ×1,000 (m → mm)');
+		expect(mails[0].textBody.indexOf('Shortest edge')).toBeLessThan(mails[0].textBody.indexOf('Also to look at'));
 	});
 });

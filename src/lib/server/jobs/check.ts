@@ -223,7 +223,13 @@ export async function writeCheckResult(db: Db, j: ClaimedJob, workerId: string, 
 			reason: passes ? (next === 'held' ? limitsOut!.reason : null) : failed.map((o) => RULE_TITLES[o.rule]).join('; '),
 			latestCheckId: run.id,
 			detail: { checkRun: run.id, failed: failed.map((o) => o.rule), profileVersion: profile.version },
-			heldReasons: passes ? [limitsOut?.reason ?? ''] : failed.map((o) => `${RULE_TITLES[o.rule]}: ${o.measured}. ${o.explanation}`)
+			heldReasons: passes
+				? [limitsOut?.reason ?? '']
+				: [
+						...failed.map((o) => `${RULE_TITLES[o.rule]}: ${o.measured}. ${o.explanation}`),
+						// A unit mistake the project's rules do not hold on still heads the designer's fix list.
+						...outcomes.filter((o) => !o.passed && o.severity === 'warning' && o.rule === 'expected-size').map((o) => `Also to look at (does not hold on its own) — ${RULE_TITLES[o.rule]}: ${o.measured}. ${o.explanation}`)
+					]
 		});
 		await finishJob(tx, j.id);
 		return true;

@@ -1,5 +1,5 @@
 // npm run bench:digest: the run digest's tick (every app process runs it every second) on 100,000
-// revisions in 500 generator runs, seeded by SQL on a throwaway MariaDB (scripts/bench-digest.sh):
+// revisions in 500 generator runs, seeded by SQL on a throwaway MariaDB (scripts/bench-db.sh --seed):
 // the first digests of every run, the idle tick with nothing due, the candidate query as it was before
 // the check-run mark for comparison, the plans of the two loose index scans, and a tick with one
 // re-checked run. Revision rows only: no files, no check runs (foreign key checks off for the seeding).

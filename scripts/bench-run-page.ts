@@ -3,7 +3,7 @@
 // and the in-memory charts and table. The revisions are ingested for real; their check results are
 // written by the check job's own writer from one real report of a 20 k-triangle mesh (varied per
 // revision), so the reports in the database have their real size. Needs DATABASE_URL (a throwaway
-// database; scripts/bench-run-page.sh starts one).
+// database; scripts/bench-db.sh starts one).
 import { Readable } from 'node:stream';
 import { eq } from 'drizzle-orm';
 import { getDb, closeDb } from '../src/lib/server/db';

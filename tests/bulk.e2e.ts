@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { expect, test, type Page } from '@playwright/test';
-import { proposeStandardRepair as repair, setReviewerAlsoEngineer, shot, signInAs, signOut } from './helpers';
+import { proposeStandardRepair as repair, setAlsoRole, shot, signInAs, signOut } from './helpers';
 
 const TAG = Date.now().toString(36);
 const PARTS = [0, 1, 2, 3].map((i) => `bulk-pod-${TAG}-${i}`);
@@ -14,7 +14,7 @@ async function waitFor(page: Page, id: number, status: string) {
 
 test('a reviewer bulk-signs-off repair proposals: the ones the reviewer ran are refused and listed, the others signed off', async ({ page, baseURL }) => {
 	test.setTimeout(240_000);
-	await setReviewerAlsoEngineer(page, true);
+	await setAlsoRole(page, 'reviewer', 'engineer', true);
 	try {
 		// Four held uploads, each a part of its own.
 		await signInAs(page, 'designer');
@@ -75,6 +75,6 @@ test('a reviewer bulk-signs-off repair proposals: the ones the reviewer ran are 
 	} finally {
 		await page.goto('/');
 		if (await page.getByRole('button', { name: 'Sign out' }).isVisible()) await signOut(page);
-		await setReviewerAlsoEngineer(page, false);
+		await setAlsoRole(page, 'reviewer', 'engineer', false);
 	}
 });

@@ -41,12 +41,12 @@ export async function setProfileField(page: Page, project: string, set: (page: P
 	await signOut(page);
 }
 
-/** As admin, gives the reviewer the engineer role too (so the reviewer can run repairs), or takes it away. */
-export async function setReviewerAlsoEngineer(page: Page, on: boolean) {
+/** As admin, gives a demo user a second role (say the reviewer the engineer role, so they can run repairs), or takes it away. */
+export async function setAlsoRole(page: Page, who: 'engineer' | 'reviewer' | 'designer', role: 'engineer' | 'reviewer' | 'designer', on: boolean) {
 	await signInAs(page, 'admin');
 	await page.goto('/admin/users');
-	const row = page.getByRole('row').filter({ hasText: 'reviewer@example.test' });
-	const box = row.getByRole('checkbox', { name: 'engineer' });
+	const row = page.getByRole('row').filter({ hasText: `${who}@example.test` });
+	const box = row.getByRole('checkbox', { name: role });
 	if (on) await box.check();
 	else await box.uncheck();
 	await row.getByRole('button', { name: 'Save' }).click();

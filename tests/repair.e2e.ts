@@ -1,24 +1,12 @@
 import { expect, test, type Page } from '@playwright/test';
-import { shot, signInAs, signOut, uploadAndOpen } from './helpers';
+import { setAlsoRole, shot, signInAs, signOut, uploadAndOpen } from './helpers';
 
 const PART = `tow-repair-${Date.now().toString(36)}`;
-
-async function setEngineerAlsoReviewer(page: Page, on: boolean) {
-	await signInAs(page, 'admin');
-	await page.goto('/admin/users');
-	const row = page.getByRole('row').filter({ hasText: 'engineer@example.test' });
-	const box = row.getByRole('checkbox', { name: 'reviewer' });
-	if (on) await box.check();
-	else await box.uncheck();
-	await row.getByRole('button', { name: 'Save' }).click();
-	await expect(row.getByText('saved')).toBeVisible();
-	await signOut(page);
-}
 
 test('an engineer repairs a held revision, cannot sign off their own repair, and a different reviewer signs it off', async ({ page }) => {
 	test.setTimeout(150_000);
 	// The engineer also holds the reviewer role here, so the four-eyes rule is what stops them.
-	await setEngineerAlsoReviewer(page, true);
+	await setAlsoRole(page, 'engineer', 'reviewer', true);
 	try {
 		await signInAs(page, 'designer');
 		await uploadAndOpen(page, { project: 'tow-bodies', part: PART, file: 'fixtures/tow-body-hole.obj' });
@@ -75,7 +63,7 @@ test('an engineer repairs a held revision, cannot sign off their own repair, and
 		await page.goto('/queue');
 		await signOut(page);
 	} finally {
-		await setEngineerAlsoReviewer(page, false);
+		await setAlsoRole(page, 'engineer', 'reviewer', false);
 	}
 });
 

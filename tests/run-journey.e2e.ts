@@ -14,7 +14,7 @@ import { parse } from 'csv-parse/sync';
 import { unzipSync } from 'fflate';
 import { icosphere, torus, withoutFaces } from '../src/lib/mesh/testing/test-meshes';
 import { writeBinaryStl } from '../src/lib/mesh/write';
-import { setReviewerAlsoEngineer, shot, signInAs, signOut } from './helpers';
+import { setAlsoRole, shot, signInAs, signOut } from './helpers';
 
 const SAMPLES = 30;
 /** From this iteration on the generator cuts a duct through the pod: a torus, genus 1. */
@@ -60,7 +60,7 @@ test('a generator run from upload to dataset: counts and topology change, repair
 	const partOf = (i: number) => `pod-${stamp}-${String(i).padStart(2, '0')}`;
 	const bytes = Array.from({ length: SAMPLES }, (_, i) => podMesh(i));
 
-	await setReviewerAlsoEngineer(page, true);
+	await setAlsoRole(page, 'reviewer', 'engineer', true);
 	try {
 		// The designer's generator sends the 30 samples at once, in a shuffled order, each with its iteration.
 		await signInAs(page, 'designer');
@@ -236,6 +236,6 @@ test('a generator run from upload to dataset: counts and topology change, repair
 	} finally {
 		await page.goto('/');
 		if (await page.getByRole('button', { name: 'Sign out' }).isVisible()) await signOut(page);
-		await setReviewerAlsoEngineer(page, false);
+		await setAlsoRole(page, 'reviewer', 'engineer', false);
 	}
 });

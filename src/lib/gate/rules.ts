@@ -68,6 +68,9 @@ export function minEdgeThreshold(rules: GateRules, ctx: GateContext): number | n
 /** Millimetres per unit, for the unit mistakes a file most often carries (STL and OBJ store no units). */
 const MM_PER_UNIT: Record<string, number> = { mm: 1, cm: 10, m: 1000, in: 25.4, ft: 304.8 };
 const UNIT_WORDS: Record<string, string> = { mm: 'millimetres', cm: 'centimetres', m: 'metres', in: 'inches', ft: 'feet' };
+const unitWords = (u: string) => UNIT_WORDS[u] ?? u;
+/** "metres read as millimetres": what a unit fix says happened at export. */
+const misread = (f: UnitFix) => `${unitWords(f.fileUnits)} read as ${unitWords(f.projectUnits)}`;
 
 /** The body's size as the scale rule measures it: the bounding-box diagonal, in model units. */
 export function bodySize(r: InspectionReport): number {
@@ -256,7 +259,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 			explanation: ok
 				? 'No edge is shorter than the limit set for the target cell size.'
 				: unitFix
-					? `The edges are short because the whole body is: it measures ${len(bodySize(r), u)} across, and its size points to a unit mistake (${UNIT_WORDS[unitFix.fileUnits]} read as ${UNIT_WORDS[unitFix.projectUnits] ?? unitFix.projectUnits}; see Size and units). Scaled ${fmtFactor(unitFix.factor)} the shortest edge would be ${len(r.minEdgeLength * unitFix.factor, u)}, ${r.minEdgeLength * unitFix.factor >= minLen ? 'above' : 'still below'} the limit. Fix the units first; collapsing edges of a body at the wrong scale would wreck it.`
+					? `The edges are short because the whole body is: it measures ${len(bodySize(r), u)} across, and its size points to a unit mistake (${misread(unitFix)}; see Size and units). Scaled ${fmtFactor(unitFix.factor)} the shortest edge would be ${len(r.minEdgeLength * unitFix.factor, u)}, ${r.minEdgeLength * unitFix.factor >= minLen ? 'above' : 'still below'} the limit. Fix the units first; collapsing edges of a body at the wrong scale would wreck it.`
 					: `Some edges are much shorter than the target cell size (${len(ctx.targetCellSize, u)}). The mesher either refines down to them, wasting cells and time step, or produces badly shaped cells next to them. Upstream: export with a coarser or more uniform triangulation, or let a repair collapse the short edges.`,
 			location: null
 		});
@@ -324,8 +327,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 			limit: 'no size rule in this project',
 			explanation: [
 				`This project does not check size, so this does not hold the revision, but the body measures ${len(across, u)} across (bounding-box diagonal), ${cellsAcross < UNSET_SIZE_MIN_CELLS ? 'less than half a cell' : `more than ${n(SIZE_IN_CELLS.max)} cells`} of the target cell size ${len(ctx.targetCellSize, u)}: no volume mesh for CFD can use that size.`,
-				`Mesh files carry no units; the numbers look like ${UNIT_WORDS[unitFix.fileUnits]} read as ${UNIT_WORDS[unitFix.projectUnits] ?? unitFix.projectUnits}: scaled ${fmtFactor(unitFix.factor)} (${unitFix.fileUnits} → ${unitFix.projectUnits}) the body would be ${len(across * unitFix.factor, u)} across.`,
-				`Export again in ${UNIT_WORDS[unitFix.projectUnits] ?? unitFix.projectUnits}, or let a repair rescale it by ${fmtFactor(unitFix.factor)}. To hold such files, an administrator can turn on the project's size check.`
+				`Mesh files carry no units; the numbers look like ${misread(unitFix)}: scaled ${fmtFactor(unitFix.factor)} (${unitFix.fileUnits} → ${unitFix.projectUnits}) the body would be ${len(across * unitFix.factor, u)} across.`,
+				`Export again in ${unitWords(unitFix.projectUnits)}, or let a repair rescale it by ${fmtFactor(unitFix.factor)}. To hold such files, an administrator can turn on the project's size check.`
 			].join(' '),
 			location: null
 		});
@@ -349,7 +352,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 								`The body measures ${len(across, u, null, du)} across (bounding-box diagonal), ${across < range.min ? 'smaller' : 'larger'} than the ${len(range.min, u, null, du)} to ${len(range.max, u, null, du)} this project expects${cells}.`,
 								'Mesh files carry no units, so this is most often a unit mistake at export.',
 								fix
-									? `The numbers look like ${UNIT_WORDS[fix.fileUnits]} read as ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}: scaled ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits}) the body would be ${len(across * fix.factor, u, null, du)} across. Export again in ${UNIT_WORDS[fix.projectUnits] ?? fix.projectUnits}, or let a repair rescale it by ${fmtFactor(fix.factor)}.`
+									? `The numbers look like ${misread(fix)}: scaled ${fmtFactor(fix.factor)} (${fix.fileUnits} → ${fix.projectUnits}) the body would be ${len(across * fix.factor, u, null, du)} across. Export again in ${unitWords(fix.projectUnits)}, or let a repair rescale it by ${fmtFactor(fix.factor)}.`
 									: `No usual unit factor explains it (mm, cm, m, in and ft were tried). Check the export scale, and the project’s target cell size and expected size.`
 							].join(' '),
 			location: null

@@ -261,6 +261,7 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		area: fm.area,
 		faceQuality: fm.faceQuality,
 		skipFace: collapsed.mask,
+		positions: p,
 		indices: idx,
 		edges: topo.edges,
 		shortEdges: em.shortEdges,

@@ -33,17 +33,17 @@ function flatSheet(n: number, without: [number, number][] = []): MeshBuffers {
 	return { positions: Float64Array.from(pos), indices: Uint32Array.from(idx) };
 }
 
-/** Closed cylinder of n even segments around z (radius 1, height 2), side and both caps as fans. */
-function cylinder(n: number, caps: { bottom: boolean; top: boolean }): MeshBuffers {
+/** Closed cylinder of n even segments around z (radius 1, height h), side and both caps as fans. */
+function cylinder(n: number, caps: { bottom: boolean; top: boolean }, h = 2): MeshBuffers {
 	const pos: number[] = [];
 	for (let i = 0; i < n; i++) {
 		const a = (2 * Math.PI * i) / n;
-		pos.push(Math.cos(a), Math.sin(a), 0, Math.cos(a), Math.sin(a), 2);
+		pos.push(Math.cos(a), Math.sin(a), 0, Math.cos(a), Math.sin(a), h);
 	}
 	const bc = pos.length / 3;
 	pos.push(0, 0, 0);
 	const tc = pos.length / 3;
-	pos.push(0, 0, 2);
+	pos.push(0, 0, h);
 	const idx: number[] = [];
 	for (let i = 0; i < n; i++) {
 		const b0 = 2 * i, t0 = b0 + 1, b1 = (2 * (i + 1)) % (2 * n), t1 = b1 + 1;
@@ -245,5 +245,28 @@ describe('slivers are described by what is measured', () => {
 		const h = hint(r, 'sliver-cluster')!;
 		expect(h.message).toMatch(/^1 patch of needle-thin triangles \(11 faces with radius ratio below 0\.05/);
 		expect(h.message).not.toMatch(/marching|cubes|generator|implicit/i);
+	});
+});
+
+describe('slivers: merge vertices only where they nearly coincide', () => {
+	// Common practice: collapsing an edge moves the surface by up to half its length, so it is the
+	// remedy for an edge that is tiny against the part, never for a long strip of the right shape.
+	it('calls the side strips of a tessellated cylinder long, thin strips to remesh, not vertices to merge', () => {
+		const r = buildReport(asParsed(cylinder(64, { bottom: true, top: true }, 7.5)));
+		expect(r.watertight).toBe(true);
+		const h = hint(r, 'sliver-cluster')!;
+		expect(h.message).toMatch(/long, thin strips/);
+		expect(h.message).toMatch(/Remesh the surface/);
+		expect(h.message).not.toMatch(/merging/);
+	});
+
+	it('advises merging on a fan of needles whose short edges are tiny against the part', () => {
+		const p: number[] = [0, 0, 0];
+		for (let i = 0; i < 12; i++) p.push(10 * Math.cos(1e-5 * i), 10 * Math.sin(1e-5 * i), 0);
+		const idx: number[] = [];
+		for (let i = 0; i + 1 < 12; i++) idx.push(0, 1 + i, 2 + i);
+		const h = hint(buildReport(asParsed({ positions: Float64Array.from(p), indices: Uint32Array.from(idx) })), 'sliver-cluster')!;
+		expect(h.message).toMatch(/Each has an edge under .*merging those nearly coincident vertices/);
+		expect(h.message).not.toMatch(/strip/);
 	});
 });

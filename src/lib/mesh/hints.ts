@@ -18,6 +18,7 @@ export interface HintInput {
 	exactWeld: ExactWeldPreview | null;
 	faceQuality: Float64Array;
 	skipFace: Uint8Array;
+	positions: Float64Array;
 	indices: Uint32Array;
 	edges: EdgeTable;
 	shortEdges: number;
@@ -199,9 +200,20 @@ export function buildHints(inp: HintInput): Hint[] {
 			const clusters = countAtLeast(size, tol.sliverClusterMin);
 			const inClusters = sumAtLeast(size, tol.sliverClusterMin);
 			if (clusters > 0) {
+				// Two kinds of thin triangle want opposite remedies: one with a tiny edge (two vertices
+				// nearly coincide, as where a generator's vertex lands next to another) loses it when those
+				// vertices are merged; a long strip with no tiny edge (a coarse tessellation of a flat face or
+				// a cylinder) has the right shape and only a remesh helps: collapsing its short edge would
+				// move the surface by half that edge. "Tiny" is a thousandth of the part's size.
+				const tiny = 1e-3 * diag;
+				const withTiny = tinyEdgeSlivers(inp.positions, inp.indices, q, skip, tol.sliverQuality, parent, size, tol.sliverClusterMin, tiny);
+				const head = `${clusters} patch${clusters === 1 ? '' : 'es'} of needle-thin triangles (${int(inClusters)} faces with radius ratio below ${tol.sliverQuality}, joined edge to edge). A volume mesher builds poorly shaped cells against them.`;
+				const strips = inClusters - withTiny;
+				const merge = withTiny > 0 ? ` ${withTiny === inClusters ? (withTiny === 1 ? 'It has' : 'Each has') : `${int(withTiny)} of them ${withTiny === 1 ? 'has' : 'have'}`} an edge under ${len(tiny)} (a thousandth of the part's size): merging those nearly coincident vertices removes ${withTiny === 1 ? 'it' : 'them'} without visibly moving the surface.` : '';
+				const remesh = strips > 0 ? ` ${withTiny > 0 ? `The other ${int(strips)} ${strips === 1 ? 'is a long, thin strip' : 'are long, thin strips'}` : `None has an edge under ${len(tiny)} (a thousandth of the part's size): ${strips === 1 ? 'it is a long, thin strip' : 'they are long, thin strips'}`}, as a coarse tessellation of flat faces and cylinders leaves them; the shape there is as meant. Remesh the surface there, or export it with a maximum edge length near the cell size; collapsing their short edges would change the shape.` : '';
 				hints.push({
 					kind: 'sliver-cluster',
-					message: `${clusters} patch${clusters === 1 ? '' : 'es'} of needle-thin triangles (${int(inClusters)} faces with radius ratio below ${tol.sliverQuality}, joined edge to edge). A volume mesher builds poorly shaped cells against them; remeshing those patches, or merging the nearly coincident vertices there, gives better cells.`,
+					message: head + merge + remesh,
 					count: clusters,
 					areaShare: null
 				});
@@ -280,6 +292,21 @@ function identity(a: Int32Array): void {
 /** size[root] = sliver faces in the cluster of that root. */
 function clusterSizes(q: Float64Array, skip: Uint8Array, below: number, parent: Int32Array, size: Uint32Array): void {
 	for (let t = 0; t < q.length; t++) if (!skip[t] && q[t] < below) size[findRoot(parent, t)]++;
+}
+
+/** Sliver faces in clusters of at least min faces whose shortest edge is under tiny. */
+function tinyEdgeSlivers(p: Float64Array, idx: Uint32Array, q: Float64Array, skip: Uint8Array, below: number, parent: Int32Array, size: Uint32Array, min: number, tiny: number): number {
+	const tiny2 = tiny * tiny;
+	let n = 0;
+	for (let t = 0; t < q.length; t++) {
+		if (skip[t] || !(q[t] < below) || size[findRoot(parent, t)] < min) continue;
+		const a = 3 * idx[3 * t], b = 3 * idx[3 * t + 1], c = 3 * idx[3 * t + 2];
+		const ab = (p[a] - p[b]) ** 2 + (p[a + 1] - p[b + 1]) ** 2 + (p[a + 2] - p[b + 2]) ** 2;
+		const bc = (p[b] - p[c]) ** 2 + (p[b + 1] - p[c + 1]) ** 2 + (p[b + 2] - p[c + 2]) ** 2;
+		const ca = (p[c] - p[a]) ** 2 + (p[c + 1] - p[a + 1]) ** 2 + (p[c + 2] - p[a + 2]) ** 2;
+		if (Math.min(ab, bc, ca) < tiny2) n++;
+	}
+	return n;
 }
 
 function countAtLeast(a: Uint32Array, min: number): number {

@@ -7,13 +7,34 @@ import { shot, signInAs, signOut } from './helpers';
 test('an upload refused for a bad part name shows the error beside the field and no empty progress bar', async ({ page }) => {
 	await signInAs(page, 'designer');
 	await page.goto('/upload?project=sensor-pods');
-	await page.getByLabel('Part').fill('Bad Name!');
+	await page.getByLabel('Part').fill('!!!');
 	await page.getByLabel('Files').setInputFiles('fixtures/cube-closed.stl');
 	await page.getByRole('button', { name: 'Upload' }).click();
-	await expect(page.getByText('Use lower-case letters, digits and dashes')).toBeVisible();
+	await expect(page.getByText('Needs a letter or digit')).toBeVisible();
 	const row = page.getByTestId('upload-item');
 	await expect(row.getByTestId('upload-waiting')).toHaveText(/Not sent: correct the fields above/);
 	await expect(row.getByRole('progressbar')).toHaveCount(0);
+	await signOut(page);
+});
+
+test('a part named as a person writes it is created under that name, its address made from it', async ({ page }) => {
+	await signInAs(page, 'designer');
+	await page.goto('/upload?project=sensor-pods');
+	await page.getByLabel('Part').fill('Pod with fins Ø40');
+	await expect(page.getByTestId('new-part')).toContainText('at the address pod-with-fins-40');
+	await page.getByLabel('Files').setInputFiles('fixtures/cube-closed.stl');
+	await page.getByRole('button', { name: 'Upload' }).click();
+	const row = page.getByTestId('upload-item');
+	await expect(row).toContainText('pod-with-fins-40: new part');
+	await row.getByRole('link', { name: 'Open revision' }).click();
+	await expect(page.locator('h1')).toContainText('Pod with fins Ø40');
+	// The same name again (any case) is the same part, a new revision of it.
+	await page.goto('/upload?project=sensor-pods');
+	await page.getByLabel('Part').fill('pod WITH fins ø40');
+	await expect(page.getByTestId('new-part')).toHaveCount(0);
+	await page.getByLabel('Files').setInputFiles('fixtures/cube-one-face-missing.stl');
+	await page.getByRole('button', { name: 'Upload' }).click();
+	await expect(page.getByTestId('upload-item')).toContainText('pod-with-fins-40: new revision');
 	await signOut(page);
 });
 

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { distribution, inBar, topologyTimeline } from './run-charts';
-import { parseFileMeta, partSlugFromName, parseRunKind } from './run-meta';
+import { parseFileMeta, partSlugFromName, parseRunKind, slugFromName } from './run-meta';
 
 describe('run figures', () => {
 	it('draws one bar per value for a whole-number measure and bins a continuous one so every value lands in exactly one bar', () => {
@@ -33,6 +33,12 @@ describe('run names and metadata', () => {
 		expect(partSlugFromName('runs/Kiel-Bülb.obj')).toBe('kiel-bulb');
 		expect(partSlugFromName('___.stl')).toBeNull();
 		expect(partSlugFromName('x'.repeat(80) + '.ply')).toHaveLength(64);
+	});
+
+	it('makes a part address from a name a person typed (the upload page), keeping a dotted word', () => {
+		expect(slugFromName('Pod with fins')).toBe('pod-with-fins');
+		expect(slugFromName('Kiel-Bülb v2.stl')).toBe('kiel-bulb-v2-stl');
+		expect(slugFromName('!!!')).toBeNull();
 	});
 	it('reads metadata and kinds, refusing what it cannot use', () => {
 		expect(parseFileMeta('{"iteration": 3, "seed": 9}')).toEqual({ iteration: 3, seed: 9 });

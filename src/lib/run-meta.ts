@@ -55,14 +55,12 @@ export function parseRunKind(raw: string | null | undefined): RunKindValue | nul
 }
 
 /**
- * The part a file of a samples run names by its file name: the name without folders and without its
- * mesh extension, lower-cased, every run of characters other than a–z and 0–9 turned into one dash,
- * dashes trimmed from both ends, at most 64 characters ("Pod_07 (v2).STL" → "pod-07-v2"). Null when
- * nothing is left (e.g. "___.stl").
+ * A part's address from a name a person typed ("Pod with fins" → "pod-with-fins"): lower-cased,
+ * accents dropped, every run of characters other than a–z and 0–9 turned into one dash, dashes
+ * trimmed from both ends, at most 64 characters. Null when nothing is left (e.g. "!!!").
  */
-export function partSlugFromName(name: string): string | null {
-	const base = (name.replace(/\\/g, '/').split('/').pop() ?? '').replace(/\.(stl|ply|obj)$/i, '');
-	const slug = base
+export function slugFromName(name: string): string | null {
+	const slug = name
 		.normalize('NFKD')
 		.replace(/[\u0300-\u036f]/g, '')
 		.toLowerCase()
@@ -71,4 +69,13 @@ export function partSlugFromName(name: string): string | null {
 		.slice(0, 64)
 		.replace(/-+$/, '');
 	return slug || null;
+}
+
+/**
+ * The part a file of a samples run names by its file name: the name without folders and without its
+ * mesh extension, made an address as slugFromName does ("Pod_07 (v2).STL" → "pod-07-v2"). Null when
+ * nothing is left (e.g. "___.stl").
+ */
+export function partSlugFromName(name: string): string | null {
+	return slugFromName((name.replace(/\\/g, '/').split('/').pop() ?? '').replace(/\.(stl|ply|obj)$/i, ''));
 }

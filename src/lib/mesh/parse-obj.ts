@@ -1,9 +1,11 @@
 /**
- * OBJ reader: `v` and `f` (v, v/vt, v//vn, v/vt/vn; negative = relative), polygons fan-split,
+ * OBJ reader: `v` and `f` (v, v/vt, v//vn, v/vt/vn; negative = relative), polygons fan-split (concave
+ * ones split again by ear clipping once the vertices are known: polygons.ts),
  * `o`/`g` names as regions (contiguous face runs; faces before any o/g form "default"). Every
  * other statement (vt, vn, usemtl, s, l, …) is skipped and counted. Scans the bytes line by line
  * (see text-scan.ts); only names are decoded to strings.
  */
+import { SplitPolygons, splitConcavePolygons } from './polygons';
 import { DEFAULT_MAX_FACES, MeshReadError, type MeshRegion, type ParsedMesh, type ReadOptions } from './types';
 import { countDuplicatePositions } from './weld';
 import {
@@ -25,6 +27,7 @@ export function parseObj(bytes: Uint8Array, opts: ReadOptions = {}): ParsedMesh 
 	let triCount = 0;
 	let corners = new Uint32Array(64);
 	let polygonsSplit = 0;
+	const polygons = new SplitPolygons();
 	let faceStatements = 0;
 	let skipped = 0;
 	let maxRef = 0;
@@ -107,7 +110,10 @@ export function parseObj(bytes: Uint8Array, opts: ReadOptions = {}): ParsedMesh 
 			if (n < 3) throw new MeshReadError(`OBJ line ${fmt(line)}: face has ${n} ${n === 1 ? 'vertex' : 'vertices'}; a face needs at least 3`);
 			faceStatements++;
 			const tris = n - 2;
-			if (tris > 1) polygonsSplit++;
+			if (tris > 1) {
+				polygonsSplit++;
+				polygons.add(triCount, n);
+			}
 			if (triCount + tris > maxFaces) checkFaceLimit(triCount + tris, maxFaces, 'OBJ');
 			if (3 * (triCount + tris) > indices.length) indices = growU32(indices, 3 * (triCount + tris));
 			let o = 3 * triCount;
@@ -133,10 +139,12 @@ export function parseObj(bytes: Uint8Array, opts: ReadOptions = {}): ParsedMesh 
 	}
 	if (triCount === 0) throw new MeshReadError(`OBJ file holds no faces ('f' lines): there is no surface to inspect`);
 	const pos = positions.slice(0, 3 * vertCount);
+	const tri = indices.slice(0, 3 * triCount);
+	splitConcavePolygons(pos, tri, polygons);
 	return {
 		format: 'obj',
 		positions: pos,
-		indices: indices.slice(0, 3 * triCount),
+		indices: tri,
 		regions,
 		stats: {
 			weldedVertices: 0,

@@ -11,6 +11,7 @@
  * - unknown header lines (obj_info) are logged to the console.
  * So this reader is the product's; loaders.gl stays the outside reference in parse-ply.test.ts.
  */
+import { SplitPolygons, splitConcavePolygons } from './polygons';
 import { DEFAULT_MAX_FACES, MeshReadError, type MeshFormat, type ParsedMesh, type ReadOptions } from './types';
 import { countDuplicatePositions } from './weld';
 import {
@@ -170,12 +171,13 @@ export function parsePly(bytes: Uint8Array, opts: ReadOptions = {}): ParsedMesh 
 
 	const vertCount = vEl.count;
 	const positions = new Float64Array(3 * vertCount);
-	const st = { indices: new Uint32Array(3 * fEl.count), triCount: 0, polygonsSplit: 0 };
+	const st = { indices: new Uint32Array(3 * fEl.count), triCount: 0, polygonsSplit: 0, polygons: new SplitPolygons() };
 	const ctx: ReadCtx = { bytes, h, vEl, fEl, xyz, listIdx, positions, st, maxFaces, vertCount };
 	if (h.format === 'ascii') readAscii(ctx);
 	else readBinary(ctx, h.format === 'binary_little_endian');
 
 	const indices = st.indices.length === 3 * st.triCount ? st.indices : st.indices.slice(0, 3 * st.triCount);
+	splitConcavePolygons(positions, indices, st.polygons);
 	return {
 		format: FORMATS[h.format],
 		positions,
@@ -199,7 +201,7 @@ interface ReadCtx {
 	xyz: number[];
 	listIdx: number;
 	positions: Float64Array;
-	st: { indices: Uint32Array<ArrayBuffer>; triCount: number; polygonsSplit: number };
+	st: { indices: Uint32Array<ArrayBuffer>; triCount: number; polygonsSplit: number; polygons: SplitPolygons };
 	maxFaces: number;
 	vertCount: number;
 }
@@ -231,11 +233,14 @@ function tooFewCorners(f: number, n: number, where: string): never {
 	throw new MeshReadError(`PLY face ${fmt(f)} (0-based${where}) has ${fmt(n)} vertices; a face needs at least 3`);
 }
 
-/** Appends face corners c[0..n) as a triangle fan. */
+/** Appends face corners c[0..n) as a triangle fan (concave polygons are split again after reading: polygons.ts). */
 function addFan(ctx: ReadCtx, c: Uint32Array, n: number): void {
 	const st = ctx.st;
 	const tris = n - 2;
-	if (tris > 1) st.polygonsSplit++;
+	if (tris > 1) {
+		st.polygonsSplit++;
+		st.polygons.add(st.triCount, n);
+	}
 	if (st.triCount + tris > ctx.maxFaces) checkFaceLimit(st.triCount + tris, ctx.maxFaces, 'PLY');
 	if (3 * (st.triCount + tris) > st.indices.length) st.indices = growU32(st.indices, 3 * (st.triCount + tris));
 	const ix = st.indices;

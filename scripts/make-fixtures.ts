@@ -226,3 +226,12 @@ console.log('fixtures written to', dir);
 	const indices = new Uint32Array([...tri.flat(), ...tri.flat().map((v) => v + 8)]);
 	put('blocks-0.01-apart.stl', writeBinaryStl({ positions, indices }));
 }
+
+// A 40 × 20 × 10 block whose top face was triangulated with a vertex in the middle of its front
+// edge while the front face was not: a T-junction slit (no area, nothing missing), as CAD faces
+// triangulated one by one leave it.
+{
+	const V = [[0, 0, 0], [40, 0, 0], [40, 20, 0], [0, 20, 0], [0, 0, 10], [40, 0, 10], [40, 20, 10], [0, 20, 10], [20, 0, 10]];
+	const f = [[0, 3, 2], [0, 2, 1], [0, 1, 5], [0, 5, 4], [3, 7, 6], [3, 6, 2], [0, 4, 7], [0, 7, 3], [1, 2, 6], [1, 6, 5], [4, 8, 7], [8, 6, 7], [8, 5, 6]];
+	put('block-t-junction.stl', writeBinaryStl({ positions: Float64Array.from(V.flat()), indices: Uint32Array.from(f.flat()) }));
+}

@@ -18,7 +18,7 @@ test('an engineer builds a two-step recipe, reorders it, saves it on the project
 	const form = page.getByTestId('recipe-form');
 	const steps = form.getByTestId('recipe-step');
 	// The standard recipe is the starting point: eight rows.
-	await expect(steps).toHaveCount(8);
+	await expect(steps).toHaveCount(9);
 	while ((await steps.count()) > 0) await form.getByRole('button', { name: 'Remove step 1' }).click();
 
 	await form.getByLabel('Operation to add').selectOption({ label: 'Fill holes' });

@@ -26,7 +26,7 @@ test('an engineer repairs a held revision, cannot sign off their own repair, and
 		await expect(changes).toContainText('What the repair changed');
 		await expect(page.getByTestId('deviation')).toContainText('within the deviation limit');
 		await expect(page.getByTestId('repair-verdict')).toContainText("within this project's repair limits");
-		await expect(page.getByTestId('repair-log').locator('li')).toHaveCount(8);
+		await expect(page.getByTestId('repair-log').locator('li')).toHaveCount(9);
 		await expect(page.getByTestId('four-eyes')).toHaveText('You ran this repair; a different reviewer must sign it off.');
 		await expect(page.getByRole('button', { name: 'Sign off for the solver' })).toHaveCount(0);
 		await page.screenshot({ path: shot('repair-proposed-engineer'), fullPage: true });

@@ -28,6 +28,18 @@ describe('gate rules', () => {
 		expect(severityScore(out)).toBe(10);
 	});
 
+	it('holds a block with a T-junction slit and says nothing is missing, not that a face is', () => {
+		const r = report('block-t-junction.stl');
+		expect(r.holes).toHaveLength(1);
+		expect(r.holes[0].area).toBe(0);
+		const closed = evaluateGate(r, DEFAULT_GATE_RULES, ctx).find((o) => o.rule === 'closed')!;
+		expect(closed.passed).toBe(false);
+		expect(closed.explanation).toContain('no width (40 units of seam in all)');
+		expect(closed.explanation).toContain('T-junction');
+		expect(closed.explanation).toContain('Nothing is missing');
+		expect(closed.explanation).not.toMatch(/flat face is missing|add the missing faces/);
+	});
+
 	it('reads the shortest-edge limit as a fraction of the cell size or as an absolute length', () => {
 		expect(minEdgeThreshold({ ...DEFAULT_GATE_RULES, minEdgeLength: { mode: 'fraction-of-cell', value: 0.6 } }, ctx)).toBeCloseTo(1.2, 12);
 		expect(minEdgeThreshold({ ...DEFAULT_GATE_RULES, minEdgeLength: { mode: 'absolute', value: 0.3 } }, ctx)).toBe(0.3);

@@ -168,6 +168,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 		const seams = r.hints.find((h) => h.kind === 'unwelded-seams');
 		const cut = r.hints.find((h) => h.kind === 'clipped-by-bbox-plane');
 		const flat = r.hints.find((h) => h.kind === 'flat-surface');
+		const slits = r.hints.find((h) => h.kind === 'zero-width-openings');
 		const weldCloses = seams && r.exactWeld ? r.exactWeld.boundaryEdges === 0 : false;
 		push(verdict(r.boundaryEdges === 0), {
 			rule: 'closed',
@@ -186,7 +187,9 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 									: `Part of this comes from unwelded seams: an exact weld would leave ${plural(r.exactWeld!.boundaryEdges, 'open edge')}. Weld first, then look at what is left.`
 								: flat
 									? 'The surface is a flat sheet, not a body: it has no thickness, so it cannot enclose a volume. Export the solid, not one of its faces.'
-									: cut
+									: slits
+										? `${slits.message}${slits.count < r.boundaryLoops ? ` The other ${plural(r.boundaryLoops - slits.count, 'opening')} ${r.boundaryLoops - slits.count === 1 ? 'is a real hole' : 'are real holes'}: close ${r.boundaryLoops - slits.count === 1 ? 'it' : 'them'} where the shape is made, or let a repair fill ${r.boundaryLoops - slits.count === 1 ? 'it' : 'them'}.` : ''}`
+										: cut
 										? `${cut.message} Enlarging the sampling box upstream is better than patching here.`
 										: 'Nothing about these openings points to a particular cause: close them where the shape is made (cap the openings, or add the missing faces in the CAD export), then export again; small holes can also be filled by a repair.'
 						]

@@ -43,7 +43,10 @@ function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, t
 	const box = new Float64Array(6);
 	for (let l = 0; l < loopCount; l++) {
 		let per = 0, per2 = 0, sx = 0, sy = 0, sz = 0, corners = 0, straight = 0;
+		// Vector area about the first rim vertex: the area a planar rim encloses, 0 for a slit whose sides lie on each other.
+		let ax2 = 0, ay2 = 0, az2 = 0;
 		const s = loopStart[l], n = loopStart[l + 1] - s;
+		const o3 = 3 * loopVerts[s];
 		const [x0, y0, z0, x1, y1, z1] = indexedBounds(p, loopVerts, s, s + n, box);
 		for (let i = s; i < s + n; i++) {
 			const e = loopEdges[i];
@@ -63,6 +66,11 @@ function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, t
 			sx += p[v3];
 			sy += p[v3 + 1];
 			sz += p[v3 + 2];
+			const vx = p[v3] - p[o3], vy = p[v3 + 1] - p[o3 + 1], vz = p[v3 + 2] - p[o3 + 2];
+			const wx = p[w3] - p[o3], wy = p[w3 + 1] - p[o3 + 1], wz = p[w3 + 2] - p[o3 + 2];
+			ax2 += vy * wz - vz * wy;
+			ay2 += vz * wx - vx * wz;
+			az2 += vx * wy - vy * wx;
 		}
 		const lmin = [x0, y0, z0], lmax = [x1, y1, z1];
 		let onPlane: BboxPlane | null = null;
@@ -73,6 +81,7 @@ function holeTable(parsed: ParsedMesh, topo: TopologyResult, fm: FaceMeasures, t
 		holes.push({
 			edgeCount: n,
 			perimeter: per,
+			area: 0.5 * Math.hypot(ax2, ay2, az2),
 			centroid: [sx / n, sy / n, sz / n],
 			bbox: { min: [x0, y0, z0], max: [x1, y1, z1] },
 			onBboxPlane: onPlane,

@@ -62,6 +62,14 @@ export function smallShellIds(shellArea: ArrayLike<number>, shellFaces: ArrayLik
 	return together / total < tol.smallShellAreaShare ? ids : [];
 }
 
+/**
+ * A hole that encloses no area: its width (2 × area / perimeter, for a slit of length L and width w
+ * about w) is at most a millionth of the part's size, the standard weld tolerance.
+ */
+export function isSlit(h: HoleInfo, diag: number): boolean {
+	return h.perimeter > 0 && (2 * h.area) / h.perimeter <= 1e-6 * diag;
+}
+
 /** Evidence that a hole is where a sampling box cut the surface (see buildHints). */
 function looksCut(h: HoleInfo, bbox: Bbox, diag: number): boolean {
 	if (!h.onBboxPlane) return false;
@@ -153,11 +161,16 @@ export function buildHints(inp: HintInput): Hint[] {
 		});
 	}
 
-	// Openings: those with the marks of a sampling-box cut, and the rest said plainly.
+	// Openings: slits that enclose no area (T-junctions), those with the marks of a sampling-box cut,
+	// and the rest said plainly.
 	const planes = new Map<string, number>();
 	let clipped = 0, clippedPerimeter = 0, plain = 0, plainPerimeter = 0, largestPlain = 0, fewSided = 0;
+	let slits = 0, slitLength = 0;
 	for (const h of inp.holes) {
-		if (looksCut(h, bb, diag)) {
+		if (isSlit(h, diag)) {
+			slits++;
+			slitLength += h.perimeter / 2;
+		} else if (looksCut(h, bb, diag)) {
 			clipped++;
 			clippedPerimeter += h.perimeter;
 			planes.set(h.onBboxPlane!, (planes.get(h.onBboxPlane!) ?? 0) + 1);
@@ -167,6 +180,14 @@ export function buildHints(inp: HintInput): Hint[] {
 			if (h.perimeter > largestPlain) largestPlain = h.perimeter;
 			if (h.corners > 0 && h.corners <= 8) fewSided++;
 		}
+	}
+	if (slits > 0 && !seamsCloseAll) {
+		hints.push({
+			kind: 'zero-width-openings',
+			message: `${slits === 1 ? '1 opening has' : `${int(slits)} openings have`} no width (${len(slitLength)} of seam in all): ${slits === 1 ? 'its rim runs' : 'their rims run'} out and back along the same line, as where a face has a vertex in the middle of its neighbour's edge (a T-junction, left where neighbouring faces were triangulated separately). Nothing is missing. Splitting those edges at the vertices on them closes the seam without moving anything: upstream in the export, or with the repair step that closes T-junction slits.`,
+			count: slits,
+			areaShare: null
+		});
 	}
 	if (clipped > 0 && !seamsCloseAll) {
 		const where = [...planes.keys()].sort().join(', ');

@@ -31,6 +31,12 @@ export interface HoleInfo {
 	edgeCount: number;
 	/** Sum of the loop's edge lengths, model units. */
 	perimeter: number;
+	/**
+	 * Area the rim encloses: the magnitude of its vector area, ½ |Σ (vᵢ − v₀) × (vᵢ₊₁ − v₀)| (exact for
+	 * a planar rim). 0 for a slit whose two sides lie on each other, as where a vertex sits in the
+	 * middle of a neighbouring face's edge (a T-junction); 2 × area / perimeter is a slit's width.
+	 */
+	area: number;
 	/** Mean of the loop's vertex positions (each loop corner once). */
 	centroid: Vec3;
 	bbox: Bbox;
@@ -128,6 +134,7 @@ export type HintKind =
 	| 'flat-surface'
 	| 'clipped-by-bbox-plane'
 	| 'openings'
+	| 'zero-width-openings'
 	| 'sliver-cluster'
 	| 'short-edges'
 	| 'inside-out';

@@ -8,6 +8,7 @@ export { fillHoles, DEFAULT_MAX_HOLE_EDGES, MAX_HOLE_EDGES, type FillHoleOptions
 export { collapseShortEdges, MIN_NORMAL_COS, type CollapseCounts } from './collapse-short-edges';
 export { rescale, type RescaleCounts } from './rescale';
 export { splitNonManifoldVertices, type SplitCounts } from './split-non-manifold';
+export { splitTJunctions, type TJunctionCounts } from './split-t-junctions';
 export { boundaryHalfedgeLoops, type HalfedgeLoops } from './boundary-loops';
 export { meshDeviation, MAX_AREA_SAMPLES, type MeshDeviation, type OneSidedDeviation, type DeviationOptions } from './deviation';
 export {

@@ -46,6 +46,11 @@ export const REPAIR_OPS: readonly OpDef[] = [
 	},
 	{ op: 'remove-degenerate-faces', label: 'Remove zero-area and duplicate faces', params: [] },
 	{
+		op: 'split-t-junctions',
+		label: 'Close T-junction slits',
+		params: [{ key: 'relativeTolerance', label: 'vertex off the edge by under (× bounding-box diagonal)', kind: 'relative', required: true }]
+	},
+	{
 		op: 'remove-small-shells',
 		label: 'Remove small shells',
 		params: [

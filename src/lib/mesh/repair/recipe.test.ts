@@ -30,7 +30,7 @@ describe.each(FORMATS)('standard recipe on a mesh read back from %s', (_fmt, wri
 		expect(before.consistentlyOriented).toBe(false);
 		const { mesh, log } = applyRecipe(m, STANDARD_RECIPE(CELL));
 		expect(log.map((e) => e.op)).toEqual([
-			'weld', 'remove-degenerate-faces', 'remove-small-shells', 'split-non-manifold-vertices',
+			'weld', 'remove-degenerate-faces', 'split-t-junctions', 'remove-small-shells', 'split-non-manifold-vertices',
 			'orient', 'fill-holes', 'collapse-short-edges', 'orient'
 		]);
 		const rep = inspect(mesh);
@@ -87,8 +87,10 @@ describe('applyRecipe', () => {
 		expect(weld.params.relativeTolerance).toBe(1e-6);
 		expect(weld.params.resolvedTolerance as number).toBeGreaterThan(0);
 		expect((weld.counts as { verticesMerged: number }).verticesMerged).toBeGreaterThan(0);
-		expect((log[2].counts as { shellsRemoved: number }).shellsRemoved).toBe(3);
-		const fill = log[5].counts as { holesFilled: number; holesLeft: unknown[] };
+		// The defects are real holes, not slits: nothing is split.
+		expect((log[2].counts as { junctions: number }).junctions).toBe(0);
+		expect((log[3].counts as { shellsRemoved: number }).shellsRemoved).toBe(3);
+		const fill = log[6].counts as { holesFilled: number; holesLeft: unknown[] };
 		expect(fill.holesFilled).toBeGreaterThanOrEqual(3);
 		expect(fill.holesLeft).toEqual([]);
 		for (const e of log) expect(e.ms).toBeGreaterThanOrEqual(0);

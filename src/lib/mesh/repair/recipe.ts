@@ -9,6 +9,7 @@ import { orientConsistently } from './orient';
 import { removeDegenerateAndDuplicateFaces } from './remove-degenerate';
 import { removeSmallShells } from './remove-small-shells';
 import { splitNonManifoldVertices } from './split-non-manifold';
+import { splitTJunctions } from './split-t-junctions';
 import { weldByTolerance } from './weld-tolerance';
 import { rescale } from './rescale';
 import { MAX_RECIPE_STEPS, REPAIR_OPS } from './ops';
@@ -19,6 +20,7 @@ export type RepairStep =
 	| { op: 'weld'; tolerance: number }
 	| { op: 'weld'; relativeTolerance: number }
 	| { op: 'remove-degenerate-faces' }
+	| { op: 'split-t-junctions'; relativeTolerance: number }
 	| { op: 'remove-small-shells'; maxFaces?: number; maxAreaShare?: number; maxVolumeShare?: number }
 	| { op: 'split-non-manifold-vertices' }
 	| { op: 'orient' }
@@ -109,17 +111,19 @@ export function parseRecipe(json: unknown): RepairStep[] {
  * marching-cubes cell or the intended CFD surface cell):
  * 1. weld within 1e-6 × bbox diagonal (far above float noise of exported seams, far below a cell);
  * 2. remove degenerate and duplicate faces;
- * 3. remove shells under 0.1 % of the total area (the largest shell always stays);
- * 4. split pinch vertices (and non-manifold edges where bodies touch along them, see split-non-manifold.ts);
- * 5. orient outward;
- * 6. fill holes with a perimeter up to 40 cells and at most 200 edges: a marching-cubes boundary
+ * 3. close T-junction slits: split boundary edges at boundary vertices within 1e-6 × bbox diagonal
+ *    of them (split-t-junctions.ts; nothing moves), before a slit could be filled with slivers;
+ * 4. remove shells under 0.1 % of the total area (the largest shell always stays);
+ * 5. split pinch vertices (and non-manifold edges where bodies touch along them, see split-non-manifold.ts);
+ * 6. orient outward;
+ * 7. fill holes with a perimeter up to 40 cells and at most 200 edges: a marching-cubes boundary
  *    zig-zags, so its perimeter is about 1.6 × that of the round opening (measured on the test
  *    shapes), and 40 cells covers openings up to about 8 cells across;
- * 7. collapse edges shorter than 0.02 cells;
- * 8. orient again (filling and collapsing keep orientation; this is a cheap check that costs O(F)).
+ * 8. collapse edges shorter than 0.02 cells;
+ * 9. orient again (filling and collapsing keep orientation; this is a cheap check that costs O(F)).
  * The multipliers are choices of this product (common practice in spirit), not from a source.
  * The weld merges any two vertices closer than its tolerance, so on very fine grids it also closes
- * the tiniest marching-cubes edges (clamped at 1e-4 cells) without the checks of step 7; faces
+ * the tiniest marching-cubes edges (clamped at 1e-4 cells) without the checks of step 8; faces
  * that collapse are dropped and the later steps clean up duplicates and pinches.
  */
 export function STANDARD_RECIPE(targetCellSize: number): RepairStep[] {
@@ -129,6 +133,7 @@ export function STANDARD_RECIPE(targetCellSize: number): RepairStep[] {
 	return [
 		{ op: 'weld', relativeTolerance: 1e-6 },
 		{ op: 'remove-degenerate-faces' },
+		{ op: 'split-t-junctions', relativeTolerance: 1e-6 },
 		{ op: 'remove-small-shells', maxAreaShare: 0.001 },
 		{ op: 'split-non-manifold-vertices' },
 		{ op: 'orient' },
@@ -153,6 +158,11 @@ export function applyStep(mesh: MeshBuffers, step: RepairStep): { mesh: MeshBuff
 		}
 		case 'remove-degenerate-faces':
 			return { ...removeDegenerateAndDuplicateFaces(mesh), params };
+		case 'split-t-junctions': {
+			const tol = step.relativeTolerance * bboxDiagonal(mesh);
+			params.resolvedTolerance = tol;
+			return { ...splitTJunctions(mesh, tol), params };
+		}
 		case 'remove-small-shells':
 			return { ...removeSmallShells(mesh, step), params };
 		case 'split-non-manifold-vertices':

@@ -1,6 +1,8 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { inspectBytes } from '../mesh/inspect';
+import { concat, unitCube } from '../mesh/testing/test-meshes';
+import { writeBinaryStl } from '../mesh/write';
 import { DEFAULT_GATE_RULES, gateRulesSchema } from './profile';
 import type { InspectionReport } from '../mesh/report';
 import { DEFAULT_GATE_RULES as D, SIZE_IN_CELLS } from './profile';
@@ -178,6 +180,27 @@ describe('the size and units rule (unit definitions: 1 in = 25.4 mm, 1 ft = 304.
 });
 
 describe('advice that fits the mesh', () => {
+	it('calls crossings between two shells overlapping bodies to unite, not a surface folding through itself', () => {
+		// Two unit cubes, the second moved by (0.5, 0.5, 0.5): each closed, their surfaces cross.
+		const r = inspectBytes(writeBinaryStl(concat(unitCube(), unitCube([0.5, 0.5, 0.5]))), 'two-cubes.stl');
+		expect(r.selfIntersectingPairs).toBeGreaterThan(0);
+		expect(r.selfIntersectionSample.every((x) => x.shells[0] !== x.shells[1])).toBe(true);
+		expect(r.hints.map((h) => h.kind)).toEqual(['separate-bodies', 'overlapping-bodies']);
+		const o = evaluateGate(r, DEFAULT_GATE_RULES, ctx).find((x) => x.rule === 'no-self-intersections')!;
+		expect(o.passed).toBe(false);
+		expect(o.explanation).toContain('2 separate bodies pass into each other');
+		expect(o.explanation).toContain('boolean union');
+		expect(o.explanation).not.toContain('folds through itself');
+	});
+
+	it('keeps the fold advice for a surface pushed through itself (one shell)', () => {
+		const r = report('sphere-vertex-pushed-through.stl');
+		expect(r.selfIntersectingPairs).toBeGreaterThan(0);
+		expect(r.hints.map((h) => h.kind)).not.toContain('overlapping-bodies');
+		const o = evaluateGate(r, DEFAULT_GATE_RULES, ctx).find((x) => x.rule === 'no-self-intersections')!;
+		expect(o.explanation).toContain('folds through itself');
+	});
+
 	it('does not promise an orientation repair for a non-orientable (Möbius) surface', () => {
 		const r = structuredClone(report('cube-closed.stl'));
 		Object.assign(r, { orientable: false, consistentlyOriented: false, flippedFaces: 1, genus: null });

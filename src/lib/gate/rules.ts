@@ -233,6 +233,11 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 
 	if (rules.noSelfIntersections) {
 		const pairs = r.selfIntersectingPairs;
+		// Crossings between two shells are bodies passing into each other, not a surface folding through itself.
+		const overlap = r.hints.find((h) => h.kind === 'overlapping-bodies');
+		const between = r.selfIntersectionSample.filter((x) => x.shells && x.shells[0] !== x.shells[1]);
+		const overlapAll = between.length > 0 && between.length === r.selfIntersectionSample.length;
+		const overlapAt = between[0]?.point;
 		push(pairs === null ? 'not-checked' : verdict(pairs === 0), {
 			rule: 'no-self-intersections',
 			measured: pairs === null ? 'not checked' : pairs === 0 ? 'none' : `${plural(pairs, 'crossing face pair')}`,
@@ -244,7 +249,9 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 						? 'No two faces cross or touch other than along shared edges and vertices.'
 						: r.hints.some((h) => h.kind === 'unwelded-seams')
 							? `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}. The seams of this mesh are not welded, and faces that meet only along such a seam are counted here too: weld first (nothing moves), then check again to see which crossings are real.`
-							: `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}: the surface passes through itself. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape where it folds through itself (where walls are thinner than the sampling or export resolution, refine there).`,
+							: overlap && overlapAll
+								? `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${overlapAt ? `, for example near ${at(overlapAt, u, size ?? 0)}` : ''}. ${overlap.message} Shellgate does not do this automatically: it changes the shape.`
+								: `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}: the surface passes through itself. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape where it folds through itself (where walls are thinner than the sampling or export resolution, refine there).${overlap ? ` Besides: ${overlap.message}` : ''}`,
 			location: r.selfIntersectionSample.length ? { points: r.selfIntersectionSample.slice(0, 20).map((s) => s.point), note: 'sample of crossing points' } : null
 		});
 	}

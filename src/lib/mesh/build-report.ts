@@ -6,7 +6,7 @@ import { fmtLength } from '../format';
 import { analyseTopology, collapsedFaces, type TopologyResult } from './topology';
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
 import { frontalArea, REFINE, type SilhouetteScratch } from './projection';
-import { buildHints } from './hints';
+import { buildHints, overlappingBodiesHint } from './hints';
 import { exactWeldMap } from './weld';
 import { DEFAULT_TOLERANCES } from './tolerances';
 import {
@@ -16,6 +16,7 @@ import {
 	type ExactWeldPreview,
 	type HoleInfo,
 	type InspectionReport,
+	type SelfIntersectionInput,
 	type ShellInfo,
 	type Tolerances,
 	type VolumeUndefinedReason,
@@ -158,6 +159,29 @@ function closedShellFaces(faceShell: Int32Array, boundaryEdges: Uint32Array, non
 
 /** Build the full report (self-intersections come in through opts.selfIntersections). */
 export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): InspectionReport {
+	return buildReportParts(parsed, opts).report;
+}
+
+/**
+ * Puts a self-intersection result into a report: the count, the sample with each face's shell, its
+ * time, and the overlapping-bodies hint (after the separate-bodies one) when listed pairs join two
+ * shells and no unwelded seam explains them. faceShell: shell of each face (−1 for faces left out of the topology).
+ */
+export function attachSelfIntersections(report: InspectionReport, si: SelfIntersectionInput, faceShell: Int32Array): void {
+	report.selfIntersectingPairs = si.pairs;
+	report.selfIntersectionSample = si.sample.map((x) => ({ a: x.a, b: x.b, point: [x.point[0], x.point[1], x.point[2]] as Vec3, shells: [faceShell[x.a], faceShell[x.b]] as [number, number] }));
+	report.timings.selfIntersections = si.ms;
+	// Unwelded seams split one surface into shells whose faces meet along the seam: not bodies.
+	const seams = report.hints.some((h) => h.kind === 'unwelded-seams');
+	const hint = seams ? null : overlappingBodiesHint(report.selfIntersectionSample, si.pairs);
+	if (hint) {
+		const after = report.hints.findIndex((h) => h.kind === 'separate-bodies');
+		report.hints.splice(after < 0 ? report.hints.length : after + 1, 0, hint);
+	}
+}
+
+/** buildReport, and the shell of each face for stages that arrive after the report (inspect-node). */
+export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = {}): { report: InspectionReport; faceShell: Int32Array } {
 	const timings: Record<string, number> = { ...(opts.timings ?? {}) };
 	const triCount = (parsed.indices.length / 3) | 0;
 	const vertCount = (parsed.positions.length / 3) | 0;
@@ -280,14 +304,13 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 	timings.hints = performance.now() - t0;
 
 	const si = opts.selfIntersections ?? null;
-	if (si) timings.selfIntersections = si.ms;
 	let orientable = true, flippedFaces = 0;
 	for (const s of shells) {
 		if (!s.orientable) orientable = false;
 		flippedFaces += s.flippedFaces;
 	}
 	const regionCounts = parsed.regions.map((r) => ({ name: r.name, faces: r.faceCount }));
-	return {
+	const report: InspectionReport = {
 		engineVersion: ENGINE_VERSION,
 		format: parsed.format,
 		fileName: opts.fileName ?? '',
@@ -312,8 +335,8 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		eulerCharacteristic: topo.referencedVertices - topo.edges.edgeCount + topo.activeFaces,
 		genus: genusSum,
 		watertight: topo.activeFaces > 0 && topo.boundaryEdges === 0 && topo.nonManifoldEdges === 0 && topo.nonManifoldVertices === 0,
-		selfIntersectingPairs: si ? si.pairs : null,
-		selfIntersectionSample: si ? si.sample.map((x) => ({ a: x.a, b: x.b, point: [x.point[0], x.point[1], x.point[2]] as Vec3 })) : [],
+		selfIntersectingPairs: null,
+		selfIntersectionSample: [],
 		degenerateFaces: fm.degenerateCount,
 		duplicateFaces: topo.duplicateFaces,
 		minEdgeLength: em.minEdgeLength,
@@ -346,4 +369,6 @@ export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): 
 		timings,
 		tolerances: tol
 	};
+	if (si) attachSelfIntersections(report, si, sh.faceShell);
+	return { report, faceShell: sh.faceShell };
 }

@@ -3,7 +3,7 @@
  * named only where the measures point to it (see looksCut).
  */
 import type { EdgeTable } from './edges';
-import type { Bbox, ExactWeldPreview, Hint, HoleInfo, ShellInfo, Tolerances } from './report-types';
+import type { Bbox, ExactWeldPreview, Hint, HoleInfo, SelfIntersectionSample, ShellInfo, Tolerances } from './report-types';
 import { fmtCount, fmtLength } from '../format';
 
 export interface HintInput {
@@ -267,6 +267,26 @@ export function buildHints(inp: HintInput): Hint[] {
 		});
 	}
 	return hints;
+}
+
+/**
+ * Separate bodies that pass into each other: listed crossing pairs whose two faces lie in different
+ * shells. The self-intersection count can arrive after the other hints (inspect-node), so this one
+ * is made when it does (attachSelfIntersections in build-report.ts). Null when no listed pair joins
+ * two shells.
+ */
+export function overlappingBodiesHint(sample: SelfIntersectionSample[], pairs: number): Hint | null {
+	const between = sample.filter((x) => x.shells[0] !== x.shells[1]);
+	if (between.length === 0) return null;
+	const bodies = new Set(between.flatMap((x) => x.shells)).size;
+	const all = between.length === sample.length;
+	const of = sample.length < pairs ? `${all ? 'all' : int(between.length)} of the ${int(sample.length)} listed (of ${plural(pairs, 'crossing pair')})` : all ? `all ${plural(pairs, 'crossing pair')}` : `${int(between.length)} of the ${plural(pairs, 'crossing pair')}`;
+	return {
+		kind: 'overlapping-bodies',
+		message: `${int(bodies)} separate bodies pass into each other: ${of} join faces of two different shells. Bodies that overlap or touch give the flow no single closed surface around them, and where they cross no repair can tell which part is meant: unite them into one body (a boolean union) or move them apart where the shape is made.${all ? '' : ' The other crossings lie within one shell.'}`,
+		count: bodies,
+		areaShare: null
+	};
 }
 
 // The face and edge loops of the sliver clusters, each a small function returning its result: a

@@ -8,7 +8,8 @@ import { readMesh } from './read';
 import { findSelfIntersections } from './self-intersect';
 import { startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
 import { validateMesh } from './validate';
-import { buildReport, type InspectionReport } from './report';
+import { type InspectionReport } from './report';
+import { attachSelfIntersections, buildReportParts } from './build-report';
 import type { InspectRunOptions } from './inspect';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
 import { DEFAULT_MAX_FACES } from './types';
@@ -55,7 +56,7 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 		siError = e;
 		return null;
 	});
-	const report = buildReport(parsed, {
+	const { report, faceShell } = buildReportParts(parsed, {
 		...opts,
 		fileName,
 		timings,
@@ -69,19 +70,14 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 		const si = await siPromise;
 		if (siError) throw siError;
 		if (si) {
-			report.selfIntersectingPairs = si.pairs;
-			report.selfIntersectionSample = si.sample.map((x) => ({ a: x.a, b: x.b, point: [x.point[0], x.point[1], x.point[2]] }));
-			report.timings.selfIntersections = si.ms;
+			attachSelfIntersections(report, si, faceShell);
 			// How long the report spent on self-intersections after its own stages were done
 			// (taking traversal tasks itself, then waiting for the workers' last ones).
 			report.timings.selfIntersectionsWait = performance.now() - tWait;
 		}
 	} else if (!opts.skipSelfIntersections) {
 		progress('self-intersections', 80);
-		const si = findSelfIntersections(parsed, { sampleLimit });
-		report.selfIntersectingPairs = si.pairs;
-		report.selfIntersectionSample = si.sample.map((x) => ({ a: x.a, b: x.b, point: [x.point[0], x.point[1], x.point[2]] }));
-		report.timings.selfIntersections = si.ms;
+		attachSelfIntersections(report, findSelfIntersections(parsed, { sampleLimit }), faceShell);
 	}
 	if (opts.cellSize !== undefined && report.faces > 0) {
 		progress('walls and gaps', 90);

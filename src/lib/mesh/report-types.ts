@@ -131,6 +131,7 @@ export type HintKind =
 	| 'unwelded-seams'
 	| 'floating-shells'
 	| 'separate-bodies'
+	| 'overlapping-bodies'
 	| 'flat-surface'
 	| 'clipped-by-bbox-plane'
 	| 'openings'
@@ -153,6 +154,8 @@ export interface SelfIntersectionSample {
 	a: number;
 	b: number;
 	point: Vec3;
+	/** Shells (indices into `shells`) of faces a and b: different where separate bodies pass into each other. */
+	shells: [number, number];
 }
 
 export interface Tolerances {

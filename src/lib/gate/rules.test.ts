@@ -39,7 +39,12 @@ describe('gate rules', () => {
 		expect(closed.explanation).toContain('no width (40 units of seam in all)');
 		expect(closed.explanation).toContain('T-junction');
 		expect(closed.explanation).toContain('Nothing is missing');
-		expect(closed.explanation).not.toMatch(/flat face is missing|add the missing faces/);
+		expect(closed.explanation).not.toMatch(/flat face is missing|add the missing faces|around, centred/);
+		// The faces either side of the slit touch along it: counted as crossings, and said to be the slit's.
+		const si = evaluateGate(r, DEFAULT_GATE_RULES, ctx).find((o) => o.rule === 'no-self-intersections')!;
+		expect(r.selfIntersectingPairs).toBeGreaterThan(0);
+		expect(si.explanation).toContain('close the slits first');
+		expect(si.explanation).not.toContain('folds through itself');
 	});
 
 	it('reads the shortest-edge limit as a fraction of the cell size or as an absolute length', () => {

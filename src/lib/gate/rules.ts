@@ -180,7 +180,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					: [
 							`The surface has ${plural(r.boundaryLoops, 'hole')} (${plural(r.boundaryEdges, 'edge')} that belong to only one face).`,
 							'A CFD mesher needs a closed surface to tell fluid from solid; through a gap the volume mesh leaks and the case will not run.',
-							big ? `The largest hole is ${len(big.perimeter, u)} around, centred near ${at(big.centroid, u, size ?? 0)}.` : '',
+							big && !(slits && slits.count === r.boundaryLoops) ? `The largest hole is ${len(big.perimeter, u)} around, centred near ${at(big.centroid, u, size ?? 0)}.` : '',
 							seams
 								? weldCloses
 									? 'All of these openings are unwelded seams: vertices at the same position are stored twice, and an exact weld closes the surface without moving anything. Weld first (one repair step, or weld on export).'
@@ -249,6 +249,8 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 						? 'No two faces cross or touch other than along shared edges and vertices.'
 						: r.hints.some((h) => h.kind === 'unwelded-seams')
 							? `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}. The seams of this mesh are not welded, and faces that meet only along such a seam are counted here too: weld first (nothing moves), then check again to see which crossings are real.`
+							: r.hints.some((h) => h.kind === 'zero-width-openings')
+								? `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}. This mesh has T-junction slits (see "Closed surface"), and the faces on either side of a slit touch along it without sharing an edge, so they are counted here too: close the slits first (nothing moves), then check again to see which crossings are real.`
 							: overlap && overlapAll
 								? `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${overlapAt ? `, for example near ${at(overlapAt, u, size ?? 0)}` : ''}. ${overlap.message} Shellgate does not do this automatically: it changes the shape.`
 								: `${plural(pairs, 'pair')} of faces cross or touch other than along shared edges${r.selfIntersectionSample[0] ? `, for example near ${at(r.selfIntersectionSample[0].point, u, size ?? 0)}` : ''}: the surface passes through itself. The solver cannot tell inside from outside where a surface crosses itself. Shellgate does not repair this automatically: moving faces would change the shape. Upstream: regenerate or remesh the shape where it folds through itself (where walls are thinner than the sampling or export resolution, refine there).${overlap ? ` Besides: ${overlap.message}` : ''}`,

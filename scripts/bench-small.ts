@@ -46,7 +46,7 @@ for (const [name, m] of meshes) {
 		const res = spawnSync(process.execPath, [cli, file, '--json'], { encoding: 'utf8', maxBuffer: 1 << 24 });
 		if (res.status !== 0) throw new Error(`command line on ${file} failed:\n${res.stderr}`);
 		const report = JSON.parse(res.stdout);
-		method = String(report.projectedArea.flow.method).includes('exact union') ? 'union' : 'raster';
+		{ const text = String(report.projectedArea.flow.method); method = text.includes('exact union') ? 'union' : text.includes('slabs') ? 'slabs' : 'raster'; }
 		for (const [k, v] of Object.entries(report.timings as Record<string, number>)) (stages[k] ??= []).push(v);
 	}
 	const med = Object.fromEntries(Object.entries(stages).map(([k, v]) => [k, median(v)]));

@@ -11,6 +11,7 @@
  * O(F + E + covered cells + refined samples).
  */
 import type { EdgeTable } from './edges';
+import { slabSilhouetteArea } from './projection-slabs';
 import { unionSilhouetteArea } from './projection-union';
 import type { Vec3 } from './report-types';
 
@@ -43,7 +44,7 @@ export function basisFor(d: Vec3): [Vec3, Vec3] {
 
 /** A frontal area with the way it was found: the exact union of the projected triangles, or the raster. */
 export interface FrontalArea extends SilhouetteArea {
-	method: 'union' | 'raster';
+	method: 'union' | 'slabs' | 'raster';
 }
 
 /**
@@ -52,6 +53,9 @@ export interface FrontalArea extends SilhouetteArea {
  * with the command line (README, "Engine bench").
  */
 export const EXACT_UNION_MAX_FACES = 256;
+
+/** Meshes of at most this many faces (and more than EXACT_UNION_MAX_FACES) get the slab integration (projection-slabs.ts). */
+export const SLAB_MAX_FACES = 300_000;
 
 /**
  * Frontal area along a unit direction: exact union for meshes of at most exactMaxFaces faces, the
@@ -66,21 +70,26 @@ export function frontalArea(
 	cells: number,
 	scratch?: SilhouetteScratch,
 	oneSided?: Uint8Array,
-	exactMaxFaces = EXACT_UNION_MAX_FACES
+	exactMaxFaces = EXACT_UNION_MAX_FACES,
+	slabMaxFaces = SLAB_MAX_FACES
 ): FrontalArea {
 	const triCount = (indices.length / 3) | 0;
-	if (triCount <= exactMaxFaces) {
+	if (triCount <= slabMaxFaces) {
 		const vertCount = (positions.length / 3) | 0;
 		const [u, w] = basisFor(direction);
 		const proj = scratch && scratch.proj.length >= 2 * vertCount ? scratch.proj : new Float64Array(2 * vertCount);
 		if (scratch) scratch.proj = proj;
 		projectVertices(positions, vertCount, u[0], u[1], u[2], w[0], w[1], w[2], proj);
-		try {
-			const r = unionSilhouetteArea(proj, indices, triCount, skipFace, oneSided);
-			if (Number.isFinite(r.area) && Number.isFinite(r.errorBound)) return { area: r.area, errorBound: r.errorBound, cellsX: 0, cellsY: 0, cellSize: 0, method: 'union' };
-		} catch {
-			// The raster below answers for every input.
+		if (triCount <= exactMaxFaces) {
+			try {
+				const r = unionSilhouetteArea(proj, indices, triCount, skipFace, oneSided);
+				if (Number.isFinite(r.area) && Number.isFinite(r.errorBound)) return { area: r.area, errorBound: r.errorBound, cellsX: 0, cellsY: 0, cellSize: 0, method: 'union' };
+			} catch {
+				// The slabs or the raster below answer.
+			}
 		}
+		const r = slabSilhouetteArea(proj, indices, triCount, skipFace, oneSided, et);
+		if (r && Number.isFinite(r.area) && Number.isFinite(r.errorBound)) return { area: r.area, errorBound: r.errorBound, cellsX: 0, cellsY: 0, cellSize: 0, method: 'slabs' };
 	}
 	return { ...silhouetteArea(positions, indices, skipFace, et, direction, cells, scratch, oneSided), method: 'raster' };
 }

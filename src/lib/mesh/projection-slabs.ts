@@ -1,0 +1,449 @@
+/**
+ * Silhouette (frontal) area by horizontal slabs: the area of the union of the projected triangles
+ * (the same faces as the raster in projection.ts: skipFace[t] = 1 skips a face, zero-area faces
+ * take no part, and of a face with oneSided[t] = 1 only the facing side counts), integrated in y.
+ *
+ * Let f(y) be the length of the union's cut by the line at height y. The union's outline lies on
+ * the outline candidates of projection.ts (boundary, non-manifold and fold edges), and whether a
+ * point of a candidate lies on the outline changes only where it meets another candidate or a
+ * corner of one. So between two heights of candidate corners, and away from crossings of two
+ * candidates, f is linear in y and the midpoint rule is exact: area of the slab = height × f(mid).
+ * f(mid) is the length of the union of the triangles' intervals on that line (left and right ends
+ * sorted apart: the union is where more left ends than right ends lie before x).
+ *
+ * A slab's candidates are ordered by x at its middle; when two neighbours in that order are out of
+ * order at its bottom or top by more than the rounding of the x values, they cross inside it and the
+ * slab is split at the crossing. Error bound, summed over slabs of height H:
+ *  - H × 2n·ε_x for the n intervals on the middle line (ε_x bounds the rounding of each end),
+ *  - 2H × (d + ε_x) for each neighbouring pair of candidates out of order by d ≤ ε_x at an end
+ *    (a crossing too close to the end to split at: the kink it puts in f moves f by at most d),
+ *  - H × the candidates' x-travel across the slab, for a slab still crossed after MAX_SPLITS splits
+ *    (f moves by at most that within the slab),
+ *  - the area of every face whose facing the rounding may have decided wrongly (|cross| within its
+ *    rounding), and a relative 2^-52 per slab for the final sum.
+ * The projected corners are taken as computed, as the raster and the union take them.
+ * O(F + candidates × log + Σ over slabs of the triangles crossing them).
+ */
+import type { EdgeTable } from './edges';
+
+export interface SlabArea {
+	area: number;
+	errorBound: number;
+	/** Slabs integrated (after splits at crossings). */
+	slabs: number;
+}
+
+const U = 2 ** -52;
+/** Splits at crossings allowed per slab before it is counted with the coarse bound instead. */
+const MAX_SPLITS = 4096;
+/** Cap on triangles visited on the slabs' middle lines, per face and fixed (1–5 per face on the bench's tow bodies, 46 on a holed torus of 800 faces). */
+const WORK_PER_FACE = 200;
+const WORK_BASE = 1 << 20;
+
+/** Reusable buffers (per mesh, across directions). */
+export interface SlabScratch {
+	f64: Float64Array;
+	i32: Int32Array;
+}
+
+/**
+ * Union area of the projected triangles by slabs; null when the slabs do not apply (faces with area
+ * but no outline candidate, which a closed outline always has): the caller uses the raster.
+ */
+export function slabSilhouetteArea(
+	proj: Float64Array,
+	indices: Uint32Array,
+	triCount: number,
+	skipFace: Uint8Array,
+	oneSided: Uint8Array | undefined,
+	et: EdgeTable
+): SlabArea | null {
+	// Included triangles and their y-ranges; faces whose facing the rounding may decide wrongly.
+	const tris = new Int32Array(triCount);
+	const faceOut = new Float64Array(4);
+	const nTri = gatherFaces(proj, indices, triCount, skipFace, oneSided ?? NONE, oneSided !== undefined, tris, faceOut);
+	const doubtful = faceOut[0];
+	const scale = faceOut[1];
+	// Candidates and their corner heights.
+	const cand = new Int32Array(et.edgeCount);
+	const nCand = outlineCandidates(et, proj, indices, cand);
+	if (nTri === 0) return { area: 0, errorBound: doubtful, slabs: 0 };
+	if (nCand === 0) return null;
+	const ys = new Float64Array(2 * nCand);
+	const nY = candidateHeights(cand, nCand, et.edgeLo, et.edgeHi, proj, ys);
+	const nSlab = nY - 1;
+	if (nSlab < 1) return null;
+	// Rounding of an x value on a line (interpolated along an edge): a few units in the last place
+	// of the largest coordinate, generously.
+	const epsX = 16 * U * scale;
+	// Slab lists: triangles meeting each slab's open interval, candidates spanning it (CSR).
+	const triStart = new Int32Array(nSlab + 1);
+	const triSpan = new Int32Array(2 * nTri);
+	spanTriangles(proj, indices, tris, nTri, ys, nY, triSpan, triStart);
+	const triList = new Int32Array(triStart[nSlab]);
+	fillTriangles(tris, nTri, triSpan, triStart, nSlab, triList);
+	const candStart = new Int32Array(nSlab + 1);
+	const candSpan = new Int32Array(2 * nCand);
+	spanCandidates(cand, nCand, et.edgeLo, et.edgeHi, proj, ys, nY, candSpan, candStart);
+	const candList = new Int32Array(candStart[nSlab]);
+	fillTriangles(cand, nCand, candSpan, candStart, nSlab, candList);
+	let maxTri = 0, maxCand = 0;
+	for (let s = 0; s < nSlab; s++) {
+		maxTri = Math.max(maxTri, triStart[s + 1] - triStart[s]);
+		maxCand = Math.max(maxCand, candStart[s + 1] - candStart[s]);
+	}
+	const lr = new Float64Array(2 * maxTri);
+	const cx = new Float64Array(3 * maxCand);
+	const order = new Int32Array(maxCand);
+	const out = new Float64Array(3);
+	// Work cap: triangles visited on the slabs' middle lines (crossings add lines). Past it, give way to the raster.
+	const budget = WORK_PER_FACE * triCount + WORK_BASE;
+	if (!integrateSlabs(proj, indices, et.edgeLo, et.edgeHi, ys, nSlab, triStart, triList, candStart, candList, epsX, budget, lr, cx, order, out)) return null;
+	const area = out[0];
+	const bound = out[1] + doubtful + U * (out[2] + 1) * area;
+	return { area, errorBound: bound * (1 + 1e-9), slabs: out[2] };
+}
+
+const NONE = new Uint8Array(0);
+
+/**
+ * Faces that take part (not skipped, not edge-on, of the facing side where oneSided): their
+ * numbers into tris, the count returned. out[0] = area of faces whose |cross| lies within its
+ * rounding (their facing is in doubt), out[1] = the largest coordinate magnitude.
+ */
+function gatherFaces(proj: Float64Array, indices: Uint32Array, triCount: number, skipFace: Uint8Array, oneSided: Uint8Array, useOneSided: boolean, tris: Int32Array, out: Float64Array): number {
+	let n = 0, doubtful = 0, scale = 0;
+	for (let t = 0; t < triCount; t++) {
+		if (skipFace[t]) continue;
+		const t3 = 3 * t;
+		const a2 = 2 * indices[t3], b2 = 2 * indices[t3 + 1], c2 = 2 * indices[t3 + 2];
+		const ax = proj[a2], ay = proj[a2 + 1], bx = proj[b2], by = proj[b2 + 1], qx = proj[c2], qy = proj[c2 + 1];
+		scale = Math.max(scale, Math.abs(ax), Math.abs(ay), Math.abs(bx), Math.abs(by), Math.abs(qx), Math.abs(qy));
+		const p = (bx - ax) * (qy - ay), q = (by - ay) * (qx - ax);
+		const cross = p - q;
+		// Two products and a difference of differences: within 8 units in the last place of the terms.
+		const err = 8 * U * (Math.abs(p) + Math.abs(q));
+		if (Math.abs(cross) <= err) doubtful += 0.5 * (Math.abs(cross) + err);
+		if (cross === 0) continue;
+		if (cross < 0 && useOneSided && oneSided[t] === 1) continue;
+		tris[n++] = t;
+	}
+	out[0] = doubtful;
+	out[1] = scale;
+	return n;
+}
+
+/**
+ * Outline candidates into cand (the count returned): boundary and non-manifold edges, and two-face
+ * edges whose opposite corners project to the same side (projection.ts, markCandidates).
+ */
+export function outlineCandidates(et: EdgeTable, proj: Float64Array, indices: Uint32Array, cand: Int32Array): number {
+	const { edgeCount, edgeStart, heSorted, edgeLo, edgeHi } = et;
+	let n = 0;
+	for (let e = 0; e < edgeCount; e++) {
+		const s = edgeStart[e];
+		if (edgeStart[e + 1] - s === 2) {
+			const p2 = 2 * edgeLo[e], q2 = 2 * edgeHi[e];
+			const px = proj[p2], py = proj[p2 + 1];
+			const h0 = heSorted[s], h1 = heSorted[s + 1];
+			const o0 = 2 * indices[h0 % 3 === 0 ? h0 + 2 : h0 - 1];
+			const o1 = 2 * indices[h1 % 3 === 0 ? h1 + 2 : h1 - 1];
+			const ex = proj[q2] - px, ey = proj[q2 + 1] - py;
+			const s0 = ex * (proj[o0 + 1] - py) - ey * (proj[o0] - px);
+			const s1 = ex * (proj[o1 + 1] - py) - ey * (proj[o1] - px);
+			if (s0 * s1 < 0) continue;
+		}
+		cand[n++] = e;
+	}
+	return n;
+}
+
+/** Sorted distinct heights of the candidates' corners into ys; returns how many. */
+function candidateHeights(cand: Int32Array, nCand: number, edgeLo: Uint32Array, edgeHi: Uint32Array, proj: Float64Array, ys: Float64Array): number {
+	for (let i = 0; i < nCand; i++) {
+		const e = cand[i];
+		ys[2 * i] = proj[2 * edgeLo[e] + 1];
+		ys[2 * i + 1] = proj[2 * edgeHi[e] + 1];
+	}
+	ys.sort();
+	let m = 0;
+	for (let i = 0; i < ys.length; i++) if (m === 0 || ys[i] !== ys[m - 1]) ys[m++] = ys[i];
+	return m;
+}
+
+/** First index i with ys[i] > y (ys sorted, n values). */
+function above(ys: Float64Array, n: number, y: number): number {
+	let a = 0, b = n;
+	while (a < b) {
+		const m = (a + b) >> 1;
+		if (ys[m] > y) b = m;
+		else a = m + 1;
+	}
+	return a;
+}
+
+/** First index i with ys[i] >= y. */
+function atOrAbove(ys: Float64Array, n: number, y: number): number {
+	let a = 0, b = n;
+	while (a < b) {
+		const m = (a + b) >> 1;
+		if (ys[m] >= y) b = m;
+		else a = m + 1;
+	}
+	return a;
+}
+
+/**
+ * Slabs s0 .. s1 − 1 each triangle's y-range meets in their open intervals, into span (2 per
+ * triangle), and per slab the count into start[s + 1] (then summed to starts).
+ */
+function spanTriangles(proj: Float64Array, indices: Uint32Array, tris: Int32Array, nTri: number, ys: Float64Array, nY: number, span: Int32Array, start: Int32Array): void {
+	const nSlab = nY - 1;
+	for (let i = 0; i < nTri; i++) {
+		const t3 = 3 * tris[i];
+		const ya = proj[2 * indices[t3] + 1], yb = proj[2 * indices[t3 + 1] + 1], yc = proj[2 * indices[t3 + 2] + 1];
+		const y0 = Math.min(ya, yb, yc), y1 = Math.max(ya, yb, yc);
+		// Slab s is (ys[s], ys[s + 1]): it meets (y0, y1) when ys[s + 1] > y0 and ys[s] < y1.
+		let s0 = above(ys, nY, y0) - 1;
+		if (s0 < 0) s0 = 0;
+		let s1 = atOrAbove(ys, nY, y1);
+		if (s1 > nSlab) s1 = nSlab;
+		if (s1 < s0) s1 = s0;
+		span[2 * i] = s0;
+		span[2 * i + 1] = s1;
+		for (let s = s0; s < s1; s++) start[s + 1]++;
+	}
+	for (let s = 0; s < nSlab; s++) start[s + 1] += start[s];
+}
+
+/** Slabs each candidate spans (its corners are slab boundaries), as spanTriangles. */
+function spanCandidates(cand: Int32Array, nCand: number, edgeLo: Uint32Array, edgeHi: Uint32Array, proj: Float64Array, ys: Float64Array, nY: number, span: Int32Array, start: Int32Array): void {
+	const nSlab = nY - 1;
+	for (let i = 0; i < nCand; i++) {
+		const e = cand[i];
+		const ya = proj[2 * edgeLo[e] + 1], yb = proj[2 * edgeHi[e] + 1];
+		const s0 = atOrAbove(ys, nY, Math.min(ya, yb)), s1 = atOrAbove(ys, nY, Math.max(ya, yb));
+		span[2 * i] = s0;
+		span[2 * i + 1] = s1;
+		for (let s = s0; s < s1; s++) start[s + 1]++;
+	}
+	for (let s = 0; s < nSlab; s++) start[s + 1] += start[s];
+}
+
+/** Items into each slab's run of list, by the spans and starts above (start is left as it was). */
+function fillTriangles(items: Int32Array, n: number, span: Int32Array, start: Int32Array, nSlab: number, list: Int32Array): void {
+	const at = start.slice(0, nSlab);
+	for (let i = 0; i < n; i++) {
+		const s1 = span[2 * i + 1], v = items[i];
+		for (let s = span[2 * i]; s < s1; s++) list[at[s]++] = v;
+	}
+}
+
+/** x where the segment p–q (p2, q2 offsets into proj) crosses height y (p, q at different heights). */
+function xAt(proj: Float64Array, p2: number, q2: number, y: number): number {
+	const px = proj[p2], py = proj[p2 + 1], qx = proj[q2], qy = proj[q2 + 1];
+	return px + ((y - py) * (qx - px)) / (qy - py);
+}
+
+/**
+ * Every slab, split at crossings of its candidates: out[0] = area, out[1] = error bound (without the
+ * doubtful faces and the final sum), out[2] = slabs integrated. False when the triangles visited
+ * passed budget (out is then not set).
+ */
+function integrateSlabs(
+	proj: Float64Array,
+	indices: Uint32Array,
+	edgeLo: Uint32Array,
+	edgeHi: Uint32Array,
+	ys: Float64Array,
+	nSlab: number,
+	triStart: Int32Array,
+	triList: Int32Array,
+	candStart: Int32Array,
+	candList: Int32Array,
+	epsX: number,
+	budget: number,
+	lr: Float64Array,
+	cx: Float64Array,
+	order: Int32Array,
+	out: Float64Array
+): boolean {
+	let area = 0, bound = 0, slabs = 0, work = 0;
+	const res = new Float64Array(3);
+	for (let s = 0; s < nSlab; s++) {
+		let ya = ys[s];
+		const yTop = ys[s + 1];
+		const c0 = candStart[s], c1 = candStart[s + 1], t0 = triStart[s], t1 = triStart[s + 1];
+		if (c1 === c0) continue; // no candidate spans it: the union does not reach this slab
+		// From the bottom up: the part up to the first crossing, then the rest again.
+		let splits = 0;
+		while (ya < yTop) {
+			let yb = yTop;
+			for (;;) {
+				const ym = 0.5 * (ya + yb);
+				const cut = firstCrossing(proj, edgeLo, edgeHi, candList, c0, c1, ya, ym, yb, epsX, cx, order, res);
+				const crossed = cut !== -Infinity;
+				if (crossed && splits < MAX_SPLITS) {
+					// A crossing within rounding of an end is split off in a sliver a few units in the
+					// last place high, which the coarse bound below then costs next to nothing.
+					const tiny = 4 * U * (Math.abs(ya) + Math.abs(yb)) + Number.MIN_VALUE;
+					const at = cut > ya + tiny ? (cut < yb - tiny ? cut : yb - tiny) : ya + tiny;
+					if (at > ya && at < yb) {
+						splits++;
+						yb = at;
+						continue;
+					}
+				}
+				const h = yb - ya;
+				work += t1 - t0;
+				const len = unionLength(proj, indices, triList, t0, t1, ym, lr);
+				area += h * len;
+				// res[1]: 2 Σ (d + ε_x) over pairs out of order by at most ε_x; res[2]: x-travel of the candidates.
+				bound += h * (2 * RES_N[0] * epsX + res[1]);
+				// A crossing left inside (too many splits, or a slab too thin to split): f moves by at most the candidates' travel.
+				if (crossed) bound += h * res[2];
+				slabs++;
+				break;
+			}
+			ya = yb;
+		}
+		if (work > budget) return false;
+	}
+	out[0] = area;
+	out[1] = bound;
+	out[2] = slabs;
+	return true;
+}
+
+/** unionLength's interval count. */
+const RES_N = new Float64Array(1);
+
+/**
+ * Length of the union of the triangles' intervals on the line at height y (triangles list[t0 .. t1)).
+ * RES_N[0] = intervals.
+ */
+function unionLength(proj: Float64Array, indices: Uint32Array, list: Int32Array, t0: number, t1: number, y: number, lr: Float64Array): number {
+	const n = gatherIntervals(proj, indices, list, t0, t1, y, lr);
+	RES_N[0] = n;
+	if (n === 0) return 0;
+	const maxN = lr.length >> 1;
+	const L = lr.subarray(0, n), R = lr.subarray(maxN, maxN + n);
+	L.sort();
+	R.sort();
+	return sweepLength(L, R, n);
+}
+
+/** Intervals of the listed triangles on the line at height y: left ends from lr[0], right ends from lr[lr.length / 2]. */
+function gatherIntervals(proj: Float64Array, indices: Uint32Array, list: Int32Array, t0: number, t1: number, y: number, lr: Float64Array): number {
+	const half = lr.length >> 1;
+	let n = 0;
+	for (let i = t0; i < t1; i++) {
+		const t3 = 3 * list[i];
+		const a2 = 2 * indices[t3], b2 = 2 * indices[t3 + 1], c2 = 2 * indices[t3 + 2];
+		const ax = proj[a2], ay = proj[a2 + 1], bx = proj[b2], by = proj[b2 + 1], qx = proj[c2], qy = proj[c2 + 1];
+		let xl = Infinity, xr = -Infinity;
+		if ((ay - y) * (by - y) < 0) {
+			const x = ax + ((y - ay) * (bx - ax)) / (by - ay);
+			xl = Math.min(xl, x);
+			xr = Math.max(xr, x);
+		}
+		if ((by - y) * (qy - y) < 0) {
+			const x = bx + ((y - by) * (qx - bx)) / (qy - by);
+			xl = Math.min(xl, x);
+			xr = Math.max(xr, x);
+		}
+		if ((qy - y) * (ay - y) < 0) {
+			const x = qx + ((y - qy) * (ax - qx)) / (ay - qy);
+			xl = Math.min(xl, x);
+			xr = Math.max(xr, x);
+		}
+		// A corner exactly on the line: its x joins the interval.
+		if (ay === y) (xl = Math.min(xl, ax)), (xr = Math.max(xr, ax));
+		if (by === y) (xl = Math.min(xl, bx)), (xr = Math.max(xr, bx));
+		if (qy === y) (xl = Math.min(xl, qx)), (xr = Math.max(xr, qx));
+		if (xr > xl) {
+			lr[n] = xl;
+			lr[half + n] = xr;
+			n++;
+		}
+	}
+	return n;
+}
+
+/** Length covered by n intervals given by their sorted left ends L and sorted right ends R. */
+function sweepLength(L: Float64Array, R: Float64Array, n: number): number {
+	let i = 0, j = 0, depth = 0, from = 0, len = 0;
+	while (i < n) {
+		if (L[i] <= R[j]) {
+			if (depth === 0) from = L[i];
+			depth++;
+			i++;
+		} else {
+			depth--;
+			if (depth === 0) len += R[j] - from;
+			j++;
+		}
+	}
+	// Every left end is in; the last right end closes the last run.
+	return len + (R[n - 1] - from);
+}
+
+/**
+ * Candidates of one slab ordered by x at ym; returns the height where the first neighbouring pair
+ * out of order by more than epsX at ya or yb crosses (−Infinity when none). res[1] = 2 Σ (d + epsX)
+ * over neighbouring pairs out of order by d ≤ epsX or in order by less than epsX at an end;
+ * res[2] = Σ |x(yb) − x(ya)| over the candidates.
+ */
+function firstCrossing(
+	proj: Float64Array,
+	edgeLo: Uint32Array,
+	edgeHi: Uint32Array,
+	list: Int32Array,
+	c0: number,
+	c1: number,
+	ya: number,
+	ym: number,
+	yb: number,
+	epsX: number,
+	cx: Float64Array,
+	order: Int32Array,
+	res: Float64Array
+): number {
+	const m = c1 - c0;
+	let travel = 0;
+	for (let i = 0; i < m; i++) {
+		const e = list[c0 + i];
+		const p2 = 2 * edgeLo[e], q2 = 2 * edgeHi[e];
+		const xa = xAt(proj, p2, q2, ya), xb = xAt(proj, p2, q2, yb);
+		cx[3 * i] = xa;
+		cx[3 * i + 1] = xAt(proj, p2, q2, ym);
+		cx[3 * i + 2] = xb;
+		travel += Math.abs(xb - xa);
+	}
+	sortByMiddle(cx, m, order);
+	let close = 0, cut = -Infinity;
+	for (let k = 0; k + 1 < m; k++) {
+		const i = 3 * order[k], j = 3 * order[k + 1];
+		const da = cx[j] - cx[i], dm = cx[j + 1] - cx[i + 1], db = cx[j + 2] - cx[i + 2];
+		if (da < -epsX && cut === -Infinity) cut = ya + ((ym - ya) * -da) / (dm - da);
+		else if (db < -epsX && cut === -Infinity) cut = ym + ((yb - ym) * dm) / (dm - db);
+		if (da < epsX) close += Math.max(0, -da) + epsX;
+		if (db < epsX) close += Math.max(0, -db) + epsX;
+	}
+	res[1] = 2 * close;
+	res[2] = travel;
+	return cut;
+}
+
+/** order[0 .. m) = 0 .. m − 1 sorted by cx[3i + 1] (insertion sort: a slab has few candidates). */
+function sortByMiddle(cx: Float64Array, m: number, order: Int32Array): void {
+	for (let i = 0; i < m; i++) {
+		const v = cx[3 * i + 1];
+		let j = i;
+		while (j > 0 && cx[3 * order[j - 1] + 1] > v) {
+			order[j] = order[j - 1];
+			j--;
+		}
+		order[j] = i;
+	}
+}

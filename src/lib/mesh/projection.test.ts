@@ -19,8 +19,8 @@ function shadow(m: MeshBuffers, d: Vec3, cells: number, oneSided = false) {
 	return silhouetteArea(m.positions, m.indices, mask, topo.edges, dir, cells, undefined, oneSided ? new Uint8Array(m.indices.length / 3).fill(1) : undefined);
 }
 
-/** frontalArea with every face of one facing where the shell is closed; exactMaxFaces and slabMaxFaces pick the method. */
-function frontal(m: MeshBuffers, d: Vec3, exactMaxFaces = Infinity, cells = 128, skip?: Uint8Array, slabMaxFaces = SLAB_MAX_FACES) {
+/** frontalArea with every face of one facing where the shell is closed; exactMaxFaces and slabMaxFaces pick the method (by default the exact union). */
+function frontal(m: MeshBuffers, d: Vec3, exactMaxFaces = Infinity, cells = 128, skip?: Uint8Array, slabMaxFaces = 0) {
 	const { mask } = collapsedFaces(m.indices);
 	if (skip) for (let t = 0; t < skip.length; t++) mask[t] |= skip[t];
 	const topo = analyseTopology(m.indices, m.positions.length / 3, mask);
@@ -120,12 +120,13 @@ describe('frontal area as the exact union of the projected triangles (small mesh
 		}
 	});
 
-	it('uses the union up to EXACT_UNION_MAX_FACES faces, the slabs up to SLAB_MAX_FACES, and gives the raster’s result unchanged above', () => {
+	it('uses the slabs up to SLAB_MAX_FACES faces, the union where they give way, and gives the raster’s result unchanged above', () => {
+		expect(frontal(unitCube(), [1, 0, 0], EXACT_UNION_MAX_FACES, 128, undefined, SLAB_MAX_FACES).method).toBe('slabs');
 		expect(frontal(unitCube(), [1, 0, 0], EXACT_UNION_MAX_FACES).method).toBe('union');
 		const big = icosphere(4);
 		expect(big.indices.length / 3).toBeGreaterThan(EXACT_UNION_MAX_FACES);
 		const d: Vec3 = [0.3, -0.5, 0.8];
-		expect(frontal(big, d, EXACT_UNION_MAX_FACES).method).toBe('slabs');
+		expect(frontal(big, d, EXACT_UNION_MAX_FACES, 128, undefined, SLAB_MAX_FACES).method).toBe('slabs');
 		const r = frontal(big, d, EXACT_UNION_MAX_FACES, 128, undefined, 1000);
 		const l = Math.hypot(...d);
 		const { method, ...rest } = r;
@@ -169,15 +170,15 @@ function triangleSoup(n: number, seed: number): MeshBuffers {
 	return { positions, indices };
 }
 
-describe('frontal area by slabs (meshes above the exact union’s size)', () => {
+describe('frontal area by slabs', () => {
 	it('gives the unit cube exactly 1 along each axis and √3 along its diagonal', () => {
 		for (const d of [[1, 0, 0], [0, 1, 0], [0, 0, 1]] as Vec3[]) {
-			const r = frontal(unitCube(), d, 0);
+			const r = frontal(unitCube(), d, 0, 128, undefined, Infinity);
 			expect(r.method).toBe('slabs');
 			expect(Math.abs(r.area - 1)).toBeLessThanOrEqual(r.errorBound);
 		}
 		// Published: the hexagonal shadow of the unit cube along its diagonal has area √3.
-		const diag = frontal(unitCube(), [1, 1, 1], 0);
+		const diag = frontal(unitCube(), [1, 1, 1], 0, 128, undefined, Infinity);
 		expect(diag.method).toBe('slabs');
 		expect(Math.abs(diag.area - Math.sqrt(3))).toBeLessThanOrEqual(diag.errorBound + 4e-16);
 		expect(diag.errorBound).toBeLessThan(1e-12);
@@ -186,7 +187,7 @@ describe('frontal area by slabs (meshes above the exact union’s size)', () => 
 	it('matches the area of the projected polygon of an icosphere (its convex hull: common practice for a convex body)', () => {
 		for (const m of [icosphere(2), icosphere(4)]) {
 			for (const d of [[1, 0, 0], [0.3, -0.5, 0.8], [1, 1, 0]] as Vec3[]) {
-				const r = frontal(m, d, 0), hull = projectedHullArea(m, d);
+				const r = frontal(m, d, 0, 128, undefined, Infinity), hull = projectedHullArea(m, d);
 				expect(r.method).toBe('slabs');
 				expect(Math.abs(r.area - hull)).toBeLessThanOrEqual(r.errorBound + 1e-12);
 				expect(r.errorBound / r.area).toBeLessThan(1e-9);
@@ -196,7 +197,7 @@ describe('frontal area by slabs (meshes above the exact union’s size)', () => 
 
 	it('sees a torus along its axis as a polygonal annulus (area of a regular polygon from its circumradius)', () => {
 		const n = 48, R = 2, r = 0.5;
-		const res = frontal(torus(n, 16, R, r), [0, 0, 1], 0);
+		const res = frontal(torus(n, 16, R, r), [0, 0, 1], 0, 128, undefined, Infinity);
 		const polygonal = (n / 2) * Math.sin((2 * Math.PI) / n) * ((R + r) ** 2 - (R - r) ** 2);
 		expect(res.method).toBe('slabs');
 		expect(Math.abs(res.area - polygonal)).toBeLessThanOrEqual(res.errorBound + 1e-12);
@@ -222,6 +223,7 @@ describe('frontal area by slabs (meshes above the exact union’s size)', () => 
 			[triangleSoup(40, 1), false],
 			[triangleSoup(60, 2), false],
 			[torus(16, 16), true],
+			[torus(16, 16), false],
 			[concat(unitCube(), unitCube([0.5, 0.25, 0.1])), true],
 			[marchingCubes(s.field, gridFor(s.min, s.max, 0.25)), true]
 		];
@@ -244,6 +246,8 @@ describe('frontal area by slabs (meshes above the exact union’s size)', () => 
 		const topo = analyseTopology(m.indices, m.positions.length / 3, mask);
 		const r = frontalArea(m.positions, m.indices, mask, topo.edges, [0, 0, 1], 128, undefined, undefined, 0);
 		expect(r.method).toBe('raster');
+		// Up to EXACT_UNION_MAX_FACES the exact union answers instead.
+		expect(frontalArea(m.positions, m.indices, mask, topo.edges, [0, 0, 1], 128).method).toBe('union');
 		const { union } = bothExact(m, [0, 0, 1]);
 		expect(Math.abs(r.area - union.area)).toBeLessThanOrEqual(r.errorBound + union.errorBound);
 	});
@@ -252,7 +256,7 @@ describe('frontal area by slabs (meshes above the exact union’s size)', () => 
 		const s = sphereShape(1);
 		for (const m of [torus(120, 48), marchingCubes(s.field, gridFor(s.min, s.max, 0.05))]) {
 			for (const d of [[1, 0, 0], [0.3, -0.5, 0.8]] as Vec3[]) {
-				const r = frontal(m, d, 0), ref = shadow(m, d, 4096, true);
+				const r = frontal(m, d, 0, 128, undefined, Infinity), ref = shadow(m, d, 4096, true);
 				expect(r.method).toBe('slabs');
 				expect(Math.abs(r.area - ref.area)).toBeLessThanOrEqual(r.errorBound + ref.errorBound);
 				expect(r.errorBound).toBeLessThan(ref.errorBound / 100);
@@ -266,7 +270,7 @@ describe('frontal area by slabs (meshes above the exact union’s size)', () => 
 		const skip = new Uint8Array(m.indices.length / 3);
 		skip.fill(1, 13);
 		for (const d of [[0, 0, 1], [0, 1, 0]] as Vec3[]) {
-			const r = frontal(m, d, 0, 128, skip);
+			const r = frontal(m, d, 0, 128, skip, Infinity);
 			expect(r.method).toBe('slabs');
 			expect(Math.abs(r.area - 1)).toBeLessThanOrEqual(r.errorBound);
 		}

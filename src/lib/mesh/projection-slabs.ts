@@ -59,9 +59,9 @@ export function slabSilhouetteArea(
 	et: EdgeTable
 ): SlabArea | null {
 	// Included triangles and their y-ranges; faces whose facing the rounding may decide wrongly.
-	const tris = new Int32Array(triCount);
-	const faceOut = new Float64Array(4);
-	const nTri = gatherFaces(proj, indices, triCount, skipFace, oneSided ?? NONE, oneSided !== undefined, tris, faceOut);
+	const tris = new Int32Array(triCount + 1);
+	const faceOut = new Float64Array(2);
+	const nTri = gatherFaces(proj, indices, triCount, skipFace, oneSided ?? new Uint8Array(triCount), tris, faceOut);
 	const doubtful = faceOut[0];
 	const scale = faceOut[1];
 	// Candidates and their corner heights.
@@ -80,11 +80,13 @@ export function slabSilhouetteArea(
 	const triStart = new Int32Array(nSlab + 1);
 	const triSpan = new Int32Array(2 * nTri);
 	spanTriangles(proj, indices, tris, nTri, ys, nY, triSpan, triStart);
+	prefixSums(triStart, nSlab);
 	const triList = new Int32Array(triStart[nSlab]);
 	fillTriangles(tris, nTri, triSpan, triStart, nSlab, triList);
 	const candStart = new Int32Array(nSlab + 1);
 	const candSpan = new Int32Array(2 * nCand);
 	spanCandidates(cand, nCand, et.edgeLo, et.edgeHi, proj, ys, nY, candSpan, candStart);
+	prefixSums(candStart, nSlab);
 	const candList = new Int32Array(candStart[nSlab]);
 	fillTriangles(cand, nCand, candSpan, candStart, nSlab, candList);
 	let maxTri = 0, maxCand = 0;
@@ -104,32 +106,35 @@ export function slabSilhouetteArea(
 	return { area, errorBound: bound * (1 + 1e-9), slabs: out[2] };
 }
 
-const NONE = new Uint8Array(0);
-
 /**
  * Faces that take part (not skipped, not edge-on, of the facing side where oneSided): their
  * numbers into tris, the count returned. out[0] = area of faces whose |cross| lies within its
  * rounding (their facing is in doubt), out[1] = the largest coordinate magnitude.
  */
-function gatherFaces(proj: Float64Array, indices: Uint32Array, triCount: number, skipFace: Uint8Array, oneSided: Uint8Array, useOneSided: boolean, tris: Int32Array, out: Float64Array): number {
+function gatherFaces(proj: Float64Array, indices: Uint32Array, triCount: number, skipFace: Uint8Array, oneSided: Uint8Array, tris: Int32Array, out: Float64Array): number {
+	// Branch-free tests: every operation runs from the first face on, so the optimised loop never
+	// meets one without type feedback (which would send it back to be compiled again).
 	let n = 0, doubtful = 0, scale = 0;
+	out[0] = 0;
+	out[1] = 0;
 	for (let t = 0; t < triCount; t++) {
-		if (skipFace[t]) continue;
 		const t3 = 3 * t;
 		const a2 = 2 * indices[t3], b2 = 2 * indices[t3 + 1], c2 = 2 * indices[t3 + 2];
 		const ax = proj[a2], ay = proj[a2 + 1], bx = proj[b2], by = proj[b2 + 1], qx = proj[c2], qy = proj[c2 + 1];
 		scale = Math.max(scale, Math.abs(ax), Math.abs(ay), Math.abs(bx), Math.abs(by), Math.abs(qx), Math.abs(qy));
 		const p = (bx - ax) * (qy - ay), q = (by - ay) * (qx - ax);
-		const cross = p - q;
+		const cross = p - q, size = Math.abs(cross);
 		// Two products and a difference of differences: within 8 units in the last place of the terms.
 		const err = 8 * U * (Math.abs(p) + Math.abs(q));
-		if (Math.abs(cross) <= err) doubtful += 0.5 * (Math.abs(cross) + err);
-		if (cross === 0) continue;
-		if (cross < 0 && useOneSided && oneSided[t] === 1) continue;
-		tris[n++] = t;
+		const live = skipFace[t] === 0 ? 1 : 0;
+		doubtful += (size <= err ? live : 0) * 0.5 * (size + err);
+		const drop = (cross === 0 ? 1 : 0) | ((cross < 0 ? 1 : 0) & oneSided[t]);
+		tris[n] = t;
+		n += live & (drop ^ 1);
+		// Stored on every face: a store after the loop would not have run when the loop is optimised.
+		out[0] = doubtful;
+		out[1] = scale;
 	}
-	out[0] = doubtful;
-	out[1] = scale;
 	return n;
 }
 
@@ -195,7 +200,7 @@ function atOrAbove(ys: Float64Array, n: number, y: number): number {
 
 /**
  * Slabs s0 .. s1 − 1 each triangle's y-range meets in their open intervals, into span (2 per
- * triangle), and per slab the count into start[s + 1] (then summed to starts).
+ * triangle), and per slab the count into start[s + 1] (prefixSums then makes them starts).
  */
 function spanTriangles(proj: Float64Array, indices: Uint32Array, tris: Int32Array, nTri: number, ys: Float64Array, nY: number, span: Int32Array, start: Int32Array): void {
 	const nSlab = nY - 1;
@@ -213,6 +218,10 @@ function spanTriangles(proj: Float64Array, indices: Uint32Array, tris: Int32Arra
 		span[2 * i + 1] = s1;
 		for (let s = s0; s < s1; s++) start[s + 1]++;
 	}
+}
+
+/** Running sums: counts in start[1 ..] become each slab's first place. */
+function prefixSums(start: Int32Array, nSlab: number): void {
 	for (let s = 0; s < nSlab; s++) start[s + 1] += start[s];
 }
 
@@ -227,7 +236,6 @@ function spanCandidates(cand: Int32Array, nCand: number, edgeLo: Uint32Array, ed
 		span[2 * i + 1] = s1;
 		for (let s = s0; s < s1; s++) start[s + 1]++;
 	}
-	for (let s = 0; s < nSlab; s++) start[s + 1] += start[s];
 }
 
 /** Items into each slab's run of list, by the spans and starts above (start is left as it was). */
@@ -237,12 +245,6 @@ function fillTriangles(items: Int32Array, n: number, span: Int32Array, start: In
 		const s1 = span[2 * i + 1], v = items[i];
 		for (let s = span[2 * i]; s < s1; s++) list[at[s]++] = v;
 	}
-}
-
-/** x where the segment p–q (p2, q2 offsets into proj) crosses height y (p, q at different heights). */
-function xAt(proj: Float64Array, p2: number, q2: number, y: number): number {
-	const px = proj[p2], py = proj[p2 + 1], qx = proj[q2], qy = proj[q2 + 1];
-	return px + ((y - py) * (qx - px)) / (qy - py);
 }
 
 /**
@@ -341,26 +343,23 @@ function gatherIntervals(proj: Float64Array, indices: Uint32Array, list: Int32Ar
 		const t3 = 3 * list[i];
 		const a2 = 2 * indices[t3], b2 = 2 * indices[t3 + 1], c2 = 2 * indices[t3 + 2];
 		const ax = proj[a2], ay = proj[a2 + 1], bx = proj[b2], by = proj[b2 + 1], qx = proj[c2], qy = proj[c2 + 1];
+		// An edge from a corner on the line counts too (its x is then the corner's, exactly).
 		let xl = Infinity, xr = -Infinity;
-		if ((ay - y) * (by - y) < 0) {
+		if ((ay - y) * (by - y) <= 0 && ay !== by) {
 			const x = ax + ((y - ay) * (bx - ax)) / (by - ay);
 			xl = Math.min(xl, x);
 			xr = Math.max(xr, x);
 		}
-		if ((by - y) * (qy - y) < 0) {
+		if ((by - y) * (qy - y) <= 0 && by !== qy) {
 			const x = bx + ((y - by) * (qx - bx)) / (qy - by);
 			xl = Math.min(xl, x);
 			xr = Math.max(xr, x);
 		}
-		if ((qy - y) * (ay - y) < 0) {
+		if ((qy - y) * (ay - y) <= 0 && qy !== ay) {
 			const x = qx + ((y - qy) * (ax - qx)) / (ay - qy);
 			xl = Math.min(xl, x);
 			xr = Math.max(xr, x);
 		}
-		// A corner exactly on the line: its x joins the interval.
-		if (ay === y) (xl = Math.min(xl, ax)), (xr = Math.max(xr, ax));
-		if (by === y) (xl = Math.min(xl, bx)), (xr = Math.max(xr, bx));
-		if (qy === y) (xl = Math.min(xl, qx)), (xr = Math.max(xr, qx));
 		if (xr > xl) {
 			lr[n] = xl;
 			lr[half + n] = xr;
@@ -414,9 +413,11 @@ function firstCrossing(
 	for (let i = 0; i < m; i++) {
 		const e = list[c0 + i];
 		const p2 = 2 * edgeLo[e], q2 = 2 * edgeHi[e];
-		const xa = xAt(proj, p2, q2, ya), xb = xAt(proj, p2, q2, yb);
+		const px = proj[p2], py = proj[p2 + 1];
+		const k = (proj[q2] - px) / (proj[q2 + 1] - py);
+		const xa = px + (ya - py) * k, xb = px + (yb - py) * k;
 		cx[3 * i] = xa;
-		cx[3 * i + 1] = xAt(proj, p2, q2, ym);
+		cx[3 * i + 1] = px + (ym - py) * k;
 		cx[3 * i + 2] = xb;
 		travel += Math.abs(xb - xa);
 	}

@@ -40,10 +40,26 @@ const MAX_SPLITS = 4096;
 const WORK_PER_FACE = 200;
 const WORK_BASE = 1 << 20;
 
-/** Reusable buffers (per mesh, across directions). */
+/** Buffers kept across the directions of one mesh (fresh pages cost more than reusing them). */
 export interface SlabScratch {
-	f64: Float64Array;
-	i32: Int32Array;
+	i32: Record<string, Int32Array>;
+	f64: Record<string, Float64Array>;
+}
+
+export function newSlabScratch(): SlabScratch {
+	return { i32: {}, f64: {} };
+}
+
+function i32(scratch: SlabScratch, key: string, n: number): Int32Array {
+	let a = scratch.i32[key];
+	if (!a || a.length < n) a = scratch.i32[key] = new Int32Array(Math.max(n, 1));
+	return a.subarray(0, n);
+}
+
+function f64(scratch: SlabScratch, key: string, n: number): Float64Array {
+	let a = scratch.f64[key];
+	if (!a || a.length < n) a = scratch.f64[key] = new Float64Array(Math.max(n, 1));
+	return a.subarray(0, n);
 }
 
 /**
@@ -56,20 +72,27 @@ export function slabSilhouetteArea(
 	triCount: number,
 	skipFace: Uint8Array,
 	oneSided: Uint8Array | undefined,
-	et: EdgeTable
+	et: EdgeTable,
+	scratch: SlabScratch = newSlabScratch()
 ): SlabArea | null {
 	// Included triangles and their y-ranges; faces whose facing the rounding may decide wrongly.
-	const tris = new Int32Array(triCount + 1);
+	const tris = i32(scratch, 'tris', triCount + 1);
 	const faceOut = new Float64Array(2);
-	const nTri = gatherFaces(proj, indices, triCount, skipFace, oneSided ?? new Uint8Array(triCount), tris, faceOut);
+	let one = oneSided;
+	if (!one) {
+		const none = i32(scratch, 'none', (triCount + 3) >> 2);
+		none.fill(0);
+		one = new Uint8Array(none.buffer, 0, triCount);
+	}
+	const nTri = gatherFaces(proj, indices, triCount, skipFace, one, tris, faceOut);
 	const doubtful = faceOut[0];
 	const scale = faceOut[1];
 	// Candidates and their corner heights.
-	const cand = new Int32Array(et.edgeCount);
+	const cand = i32(scratch, 'cand', et.edgeCount);
 	const nCand = outlineCandidates(et, proj, indices, cand);
 	if (nTri === 0) return { area: 0, errorBound: doubtful, slabs: 0 };
 	if (nCand === 0) return null;
-	const ys = new Float64Array(2 * nCand);
+	const ys = f64(scratch, 'ys', 2 * nCand);
 	const nY = candidateHeights(cand, nCand, et.edgeLo, et.edgeHi, proj, ys);
 	const nSlab = nY - 1;
 	if (nSlab < 1) return null;
@@ -77,26 +100,30 @@ export function slabSilhouetteArea(
 	// of the largest coordinate, generously.
 	const epsX = 16 * U * scale;
 	// Slab lists: triangles meeting each slab's open interval, candidates spanning it (CSR).
-	const triStart = new Int32Array(nSlab + 1);
-	const triSpan = new Int32Array(2 * nTri);
-	spanTriangles(proj, indices, tris, nTri, ys, nY, triSpan, triStart);
+	const vertCount = proj.length >> 1;
+	const vSlab = i32(scratch, 'vslab', 2 * vertCount);
+	vertexSlabs(proj, vertCount, ys, nY, vSlab);
+	const triStart = i32(scratch, 'triStart', nSlab + 1).fill(0);
+	const triSpan = i32(scratch, 'triSpan', 2 * nTri);
+	spanTriangles(indices, tris, nTri, vSlab, nY, triSpan, triStart);
 	prefixSums(triStart, nSlab);
-	const triList = new Int32Array(triStart[nSlab]);
-	fillTriangles(tris, nTri, triSpan, triStart, nSlab, triList);
-	const candStart = new Int32Array(nSlab + 1);
-	const candSpan = new Int32Array(2 * nCand);
-	spanCandidates(cand, nCand, et.edgeLo, et.edgeHi, proj, ys, nY, candSpan, candStart);
+	const triList = i32(scratch, 'triList', triStart[nSlab]);
+	const at = i32(scratch, 'at', nSlab);
+	fillLists(tris, nTri, triSpan, triStart, at, triList);
+	const candStart = i32(scratch, 'candStart', nSlab + 1).fill(0);
+	const candSpan = i32(scratch, 'candSpan', 2 * nCand);
+	spanCandidates(cand, nCand, et.edgeLo, et.edgeHi, vSlab, candSpan, candStart);
 	prefixSums(candStart, nSlab);
-	const candList = new Int32Array(candStart[nSlab]);
-	fillTriangles(cand, nCand, candSpan, candStart, nSlab, candList);
+	const candList = i32(scratch, 'candList', candStart[nSlab]);
+	fillLists(cand, nCand, candSpan, candStart, at, candList);
 	let maxTri = 0, maxCand = 0;
 	for (let s = 0; s < nSlab; s++) {
 		maxTri = Math.max(maxTri, triStart[s + 1] - triStart[s]);
 		maxCand = Math.max(maxCand, candStart[s + 1] - candStart[s]);
 	}
-	const lr = new Float64Array(2 * maxTri);
-	const cx = new Float64Array(3 * maxCand);
-	const order = new Int32Array(maxCand);
+	const lr = f64(scratch, 'lr', 2 * maxTri);
+	const cx = f64(scratch, 'cx', 3 * maxCand);
+	const order = i32(scratch, 'order', maxCand);
 	const out = new Float64Array(3);
 	// Work cap: triangles visited on the slabs' middle lines (crossings add lines). Past it, give way to the raster.
 	const budget = WORK_PER_FACE * triCount + WORK_BASE;
@@ -199,21 +226,30 @@ function atOrAbove(ys: Float64Array, n: number, y: number): number {
 }
 
 /**
- * Slabs s0 .. s1 − 1 each triangle's y-range meets in their open intervals, into span (2 per
- * triangle), and per slab the count into start[s + 1] (prefixSums then makes them starts).
+ * Per vertex, out[2v] = the first slab boundary above its height and out[2v + 1] = the first at or
+ * above it (indices into ys); monotone in the height, so a triangle's range of slabs follows from
+ * its corners' without a search of its own.
  */
-function spanTriangles(proj: Float64Array, indices: Uint32Array, tris: Int32Array, nTri: number, ys: Float64Array, nY: number, span: Int32Array, start: Int32Array): void {
+function vertexSlabs(proj: Float64Array, vertCount: number, ys: Float64Array, nY: number, out: Int32Array): void {
+	for (let v = 0; v < vertCount; v++) {
+		const y = proj[2 * v + 1];
+		out[2 * v] = above(ys, nY, y);
+		out[2 * v + 1] = atOrAbove(ys, nY, y);
+	}
+}
+
+/**
+ * Slabs s0 .. s1 − 1 each triangle's y-range meets in their open intervals, into span (2 per
+ * triangle), and per slab the count into start[s + 1] (prefixSums then makes them starts). Slab s is
+ * (ys[s], ys[s + 1]): it meets (y0, y1) when ys[s + 1] > y0 and ys[s] < y1.
+ */
+function spanTriangles(indices: Uint32Array, tris: Int32Array, nTri: number, vSlab: Int32Array, nY: number, span: Int32Array, start: Int32Array): void {
 	const nSlab = nY - 1;
 	for (let i = 0; i < nTri; i++) {
 		const t3 = 3 * tris[i];
-		const ya = proj[2 * indices[t3] + 1], yb = proj[2 * indices[t3 + 1] + 1], yc = proj[2 * indices[t3 + 2] + 1];
-		const y0 = Math.min(ya, yb, yc), y1 = Math.max(ya, yb, yc);
-		// Slab s is (ys[s], ys[s + 1]): it meets (y0, y1) when ys[s + 1] > y0 and ys[s] < y1.
-		let s0 = above(ys, nY, y0) - 1;
-		if (s0 < 0) s0 = 0;
-		let s1 = atOrAbove(ys, nY, y1);
-		if (s1 > nSlab) s1 = nSlab;
-		if (s1 < s0) s1 = s0;
+		const a = 2 * indices[t3], b = 2 * indices[t3 + 1], c = 2 * indices[t3 + 2];
+		const s0 = Math.max(0, Math.min(vSlab[a], vSlab[b], vSlab[c]) - 1);
+		const s1 = Math.max(s0, Math.min(nSlab, Math.max(vSlab[a + 1], vSlab[b + 1], vSlab[c + 1])));
 		span[2 * i] = s0;
 		span[2 * i + 1] = s1;
 		for (let s = s0; s < s1; s++) start[s + 1]++;
@@ -226,21 +262,20 @@ function prefixSums(start: Int32Array, nSlab: number): void {
 }
 
 /** Slabs each candidate spans (its corners are slab boundaries), as spanTriangles. */
-function spanCandidates(cand: Int32Array, nCand: number, edgeLo: Uint32Array, edgeHi: Uint32Array, proj: Float64Array, ys: Float64Array, nY: number, span: Int32Array, start: Int32Array): void {
-	const nSlab = nY - 1;
+function spanCandidates(cand: Int32Array, nCand: number, edgeLo: Uint32Array, edgeHi: Uint32Array, vSlab: Int32Array, span: Int32Array, start: Int32Array): void {
 	for (let i = 0; i < nCand; i++) {
 		const e = cand[i];
-		const ya = proj[2 * edgeLo[e] + 1], yb = proj[2 * edgeHi[e] + 1];
-		const s0 = atOrAbove(ys, nY, Math.min(ya, yb)), s1 = atOrAbove(ys, nY, Math.max(ya, yb));
+		const a = vSlab[2 * edgeLo[e] + 1], b = vSlab[2 * edgeHi[e] + 1];
+		const s0 = Math.min(a, b), s1 = Math.max(a, b);
 		span[2 * i] = s0;
 		span[2 * i + 1] = s1;
 		for (let s = s0; s < s1; s++) start[s + 1]++;
 	}
 }
 
-/** Items into each slab's run of list, by the spans and starts above (start is left as it was). */
-function fillTriangles(items: Int32Array, n: number, span: Int32Array, start: Int32Array, nSlab: number, list: Int32Array): void {
-	const at = start.slice(0, nSlab);
+/** Items into each slab's run of list, by the spans and starts above (at: scratch of one per slab). */
+function fillLists(items: Int32Array, n: number, span: Int32Array, start: Int32Array, at: Int32Array, list: Int32Array): void {
+	at.set(start.subarray(0, at.length));
 	for (let i = 0; i < n; i++) {
 		const s1 = span[2 * i + 1], v = items[i];
 		for (let s = span[2 * i]; s < s1; s++) list[at[s]++] = v;

@@ -11,7 +11,7 @@
  * O(F + E + covered cells + refined samples).
  */
 import type { EdgeTable } from './edges';
-import { slabSilhouetteArea } from './projection-slabs';
+import { newSlabScratch, slabSilhouetteArea, type SlabScratch } from './projection-slabs';
 import { unionSilhouetteArea } from './projection-union';
 import type { Vec3 } from './report-types';
 
@@ -49,10 +49,11 @@ export interface FrontalArea extends SilhouetteArea {
 
 /**
  * Meshes of at most this many faces get their frontal area from the union of the projected
- * triangles integrated over slabs (projection-slabs.ts), larger ones from the raster: the slabs cost
- * less than the raster at 200,000 faces and twice as much at 1,000,000 (README, "Engine bench").
+ * triangles integrated over slabs (projection-slabs.ts), larger ones from the raster: measured cold,
+ * the slabs take 0.6 × the raster's time at 35,000 faces, the same at 90,000, more at 200,000 and
+ * twice as much at 1,000,000 (README, "Engine bench").
  */
-export const SLAB_MAX_FACES = 300_000;
+export const SLAB_MAX_FACES = 100_000;
 
 /**
  * Meshes of at most this many faces whose slabs give way (a soup whose crossings pass the slabs'
@@ -85,7 +86,7 @@ export function frontalArea(
 		if (scratch) scratch.proj = proj;
 		projectVertices(positions, vertCount, u[0], u[1], u[2], w[0], w[1], w[2], proj);
 		if (triCount <= slabMaxFaces) {
-			const r = slabSilhouetteArea(proj, indices, triCount, skipFace, oneSided, et);
+			const r = slabSilhouetteArea(proj, indices, triCount, skipFace, oneSided, et, scratch ? (scratch.slabs ??= newSlabScratch()) : undefined);
 			if (r && Number.isFinite(r.area) && Number.isFinite(r.errorBound)) return { area: r.area, errorBound: r.errorBound, cellsX: 0, cellsY: 0, cellSize: 0, method: 'slabs' };
 		}
 		if (triCount <= exactMaxFaces) {
@@ -107,6 +108,8 @@ export interface SilhouetteScratch {
 	mark?: Uint8Array;
 	/** The refined sub-cells and the sub-cells candidates meet (one buffer, two halves). */
 	fine?: Uint8Array;
+	/** The slabs' buffers. */
+	slabs?: SlabScratch;
 }
 
 export function silhouetteArea(

@@ -116,18 +116,16 @@ export function slabSilhouetteArea(
 	prefixSums(candStart, nSlab);
 	const candList = i32(scratch, 'candList', candStart[nSlab]);
 	fillLists(cand, nCand, candSpan, candStart, at, candList);
-	let maxTri = 0, maxCand = 0;
-	for (let s = 0; s < nSlab; s++) {
-		maxTri = Math.max(maxTri, triStart[s + 1] - triStart[s]);
-		maxCand = Math.max(maxCand, candStart[s + 1] - candStart[s]);
-	}
-	const lr = f64(scratch, 'lr', 2 * maxTri);
+	let maxCand = 0;
+	for (let s = 0; s < nSlab; s++) maxCand = Math.max(maxCand, candStart[s + 1] - candStart[s]);
 	const cx = f64(scratch, 'cx', 3 * maxCand);
 	const order = i32(scratch, 'order', maxCand);
+	const mids = f64(scratch, 'mids', maxCand);
+	const hits = i32(scratch, 'hits', maxCand + 1);
 	const out = new Float64Array(3);
 	// Work cap: triangles visited on the slabs' middle lines (crossings add lines). Past it, give way to the raster.
 	const budget = WORK_PER_FACE * triCount + WORK_BASE;
-	if (!integrateSlabs(proj, indices, et.edgeLo, et.edgeHi, ys, nSlab, triStart, triList, candStart, candList, epsX, budget, lr, cx, order, out)) return null;
+	if (!integrateSlabs(proj, indices, et.edgeLo, et.edgeHi, ys, nSlab, triStart, triList, candStart, candList, epsX, budget, cx, order, mids, hits, out)) return null;
 	const area = out[0];
 	const bound = out[1] + doubtful + U * (out[2] + 1) * area;
 	return { area, errorBound: bound * (1 + 1e-9), slabs: out[2] };
@@ -300,13 +298,14 @@ function integrateSlabs(
 	candList: Int32Array,
 	epsX: number,
 	budget: number,
-	lr: Float64Array,
 	cx: Float64Array,
 	order: Int32Array,
+	mids: Float64Array,
+	hits: Int32Array,
 	out: Float64Array
 ): boolean {
 	let area = 0, bound = 0, slabs = 0, work = 0;
-	const res = new Float64Array(3);
+	const res = new Float64Array(3), gapOut = new Float64Array(1);
 	for (let s = 0; s < nSlab; s++) {
 		let ya = ys[s];
 		const yTop = ys[s + 1];
@@ -333,10 +332,11 @@ function integrateSlabs(
 				}
 				const h = yb - ya;
 				work += t1 - t0;
-				const len = unionLength(proj, indices, triList, t0, t1, ym, lr);
+				const len = coveredLength(proj, indices, triList, t0, t1, ym, cx, order, c1 - c0, epsX, mids, hits, gapOut);
 				area += h * len;
-				// res[1]: 2 Σ (d + ε_x) over pairs out of order by at most ε_x; res[2]: x-travel of the candidates.
-				bound += h * (2 * RES_N[0] * epsX + res[1]);
+				// Each crossing within ε_x, the narrow gaps; res[1]: 2 Σ (d + ε_x) over pairs out of order by
+				// at most ε_x; res[2]: x-travel of the candidates.
+				bound += h * (2 * (c1 - c0) * epsX + gapOut[0] + res[1]);
 				// A crossing left inside (too many splits, or a slab too thin to split): f moves by at most the candidates' travel.
 				if (crossed) bound += h * res[2];
 				slabs++;
@@ -352,28 +352,47 @@ function integrateSlabs(
 	return true;
 }
 
-/** unionLength's interval count. */
-const RES_N = new Float64Array(1);
-
 /**
- * Length of the union of the triangles' intervals on the line at height y (triangles list[t0 .. t1)).
- * RES_N[0] = intervals.
+ * Length of the union's cut at height y (triangles list[t0 .. t1)) from the m candidates crossing
+ * it, sorted by x there (x_k = cx[3 order[k] + 1]): no outline lies between two neighbours, so each
+ * gap between them is wholly inside the union or wholly outside, and it is inside when some
+ * triangle's interval on the line, widened by 2 epsX, holds its middle (exact for gaps wider than
+ * 8 epsX, as every x is within epsX). out[0] = the width of narrower gaps, each plus 2 epsX.
  */
-function unionLength(proj: Float64Array, indices: Uint32Array, list: Int32Array, t0: number, t1: number, y: number, lr: Float64Array): number {
-	const n = gatherIntervals(proj, indices, list, t0, t1, y, lr);
-	RES_N[0] = n;
-	if (n === 0) return 0;
-	const maxN = lr.length >> 1;
-	const L = lr.subarray(0, n), R = lr.subarray(maxN, maxN + n);
-	L.sort();
-	R.sort();
-	return sweepLength(L, R, n);
+function coveredLength(
+	proj: Float64Array,
+	indices: Uint32Array,
+	list: Int32Array,
+	t0: number,
+	t1: number,
+	y: number,
+	cx: Float64Array,
+	order: Int32Array,
+	m: number,
+	epsX: number,
+	mids: Float64Array,
+	hits: Int32Array,
+	out: Float64Array
+): number {
+	const g = m - 1;
+	out[0] = 0;
+	if (g < 1) return 0;
+	gapMiddles(cx, order, g, mids, hits);
+	markGaps(proj, indices, list, t0, t1, y, 2 * epsX, mids, g, hits);
+	return sumGaps(cx, order, g, hits, 8 * epsX, 2 * epsX, out);
 }
 
-/** Intervals of the listed triangles on the line at height y: left ends from lr[0], right ends from lr[lr.length / 2]. */
-function gatherIntervals(proj: Float64Array, indices: Uint32Array, list: Int32Array, t0: number, t1: number, y: number, lr: Float64Array): number {
-	const half = lr.length >> 1;
-	let n = 0;
+/** Middles of the g gaps between the sorted crossings, and their hit counts cleared. */
+function gapMiddles(cx: Float64Array, order: Int32Array, g: number, mids: Float64Array, hits: Int32Array): void {
+	for (let k = 0; k < g; k++) {
+		mids[k] = 0.5 * (cx[3 * order[k] + 1] + cx[3 * order[k + 1] + 1]);
+		hits[k] = 0;
+	}
+	hits[g] = 0;
+}
+
+/** For each triangle's interval on the line at height y, widened by w: +1 at the first gap middle it holds, −1 after the last. */
+function markGaps(proj: Float64Array, indices: Uint32Array, list: Int32Array, t0: number, t1: number, y: number, w: number, mids: Float64Array, g: number, hits: Int32Array): void {
 	for (let i = t0; i < t1; i++) {
 		const t3 = 3 * list[i];
 		const a2 = 2 * indices[t3], b2 = 2 * indices[t3 + 1], c2 = 2 * indices[t3 + 2];
@@ -395,31 +414,46 @@ function gatherIntervals(proj: Float64Array, indices: Uint32Array, list: Int32Ar
 			xl = Math.min(xl, x);
 			xr = Math.max(xr, x);
 		}
-		if (xr > xl) {
-			lr[n] = xl;
-			lr[half + n] = xr;
-			n++;
+		// First middle ≥ xl − w and first middle > xr + w (binary searches over g sorted middles).
+		const lo = firstAtOrAbove(mids, g, xl - w), hi = firstAbove(mids, g, xr + w);
+		if (hi > lo) {
+			hits[lo]++;
+			hits[hi]--;
 		}
 	}
-	return n;
 }
 
-/** Length covered by n intervals given by their sorted left ends L and sorted right ends R. */
-function sweepLength(L: Float64Array, R: Float64Array, n: number): number {
-	let i = 0, j = 0, depth = 0, from = 0, len = 0;
-	while (i < n) {
-		if (L[i] <= R[j]) {
-			if (depth === 0) from = L[i];
-			depth++;
-			i++;
-		} else {
-			depth--;
-			if (depth === 0) len += R[j] - from;
-			j++;
-		}
+function firstAtOrAbove(a: Float64Array, n: number, x: number): number {
+	let lo = 0, hi = n;
+	while (lo < hi) {
+		const mid = (lo + hi) >> 1;
+		if (a[mid] >= x) hi = mid;
+		else lo = mid + 1;
 	}
-	// Every left end is in; the last right end closes the last run.
-	return len + (R[n - 1] - from);
+	return lo;
+}
+
+function firstAbove(a: Float64Array, n: number, x: number): number {
+	let lo = 0, hi = n;
+	while (lo < hi) {
+		const mid = (lo + hi) >> 1;
+		if (a[mid] > x) hi = mid;
+		else lo = mid + 1;
+	}
+	return lo;
+}
+
+/** Width of the gaps hit; out[0] = Σ (width + pad) over gaps no wider than narrow. */
+function sumGaps(cx: Float64Array, order: Int32Array, g: number, hits: Int32Array, narrow: number, pad: number, out: Float64Array): number {
+	let run = 0, len = 0, doubt = 0;
+	for (let k = 0; k < g; k++) {
+		run += hits[k];
+		const wk = cx[3 * order[k + 1] + 1] - cx[3 * order[k] + 1];
+		len += run > 0 ? wk : 0;
+		doubt += wk <= narrow ? wk + pad : 0;
+		out[0] = doubt;
+	}
+	return len;
 }
 
 /**

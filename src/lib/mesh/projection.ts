@@ -50,10 +50,10 @@ export interface FrontalArea extends SilhouetteArea {
 /**
  * Meshes of at most this many faces get their frontal area from the union of the projected
  * triangles integrated over slabs (projection-slabs.ts), larger ones from the raster: measured cold,
- * the slabs take 0.6 × the raster's time at 35,000 faces, the same at 90,000, more at 200,000 and
- * twice as much at 1,000,000 (README, "Engine bench").
+ * the slabs take 0.6 × the raster's time at 35,000 faces, 0.7 × at 90,000, 0.9 × at 200,000 and
+ * about twice as much at 1,000,000 (README, "Engine bench"; between 200,000 and 1,000,000 not measured).
  */
-export const SLAB_MAX_FACES = 100_000;
+export const SLAB_MAX_FACES = 300_000;
 
 /**
  * Meshes of at most this many faces whose slabs give way (a soup whose crossings pass the slabs'

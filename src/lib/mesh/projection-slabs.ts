@@ -8,13 +8,14 @@
  * point of a candidate lies on the outline changes only where it meets another candidate or a
  * corner of one. So between two heights of candidate corners, and away from crossings of two
  * candidates, f is linear in y and the midpoint rule is exact: area of the slab = height × f(mid).
- * f(mid) is the length of the union of the triangles' intervals on that line (left and right ends
- * sorted apart: the union is where more left ends than right ends lie before x).
+ * f(mid) comes from the candidates' crossings with the middle line: the gap between two neighbouring
+ * crossings holds no outline, so it is wholly inside or outside the union (coveredLength).
  *
  * A slab's candidates are ordered by x at its middle; when two neighbours in that order are out of
  * order at its bottom or top by more than the rounding of the x values, they cross inside it and the
  * slab is split at the crossing. Error bound, summed over slabs of height H:
- *  - H × 2n·ε_x for the n intervals on the middle line (ε_x bounds the rounding of each end),
+ *  - H × 2m·ε_x for the m crossings on the middle line (ε_x bounds the rounding of each x), and the
+ *    width (+ 2ε_x) of every gap too narrow (8ε_x) to judge inside or outside,
  *  - 2H × (d + ε_x) for each neighbouring pair of candidates out of order by d ≤ ε_x at an end
  *    (a crossing too close to the end to split at: the kink it puts in f moves f by at most d),
  *  - H × the candidates' x-travel across the slab, for a slab still crossed after MAX_SPLITS splits
@@ -22,7 +23,7 @@
  *  - the area of every face whose facing the rounding may have decided wrongly (|cross| within its
  *    rounding), and a relative 2^-52 per slab for the final sum.
  * The projected corners are taken as computed, as the raster and the union take them.
- * O(F + candidates × log + Σ over slabs of the triangles crossing them).
+ * O(F + candidates × log + Σ over slabs of the triangles meeting them × log of its candidates).
  */
 import type { EdgeTable } from './edges';
 

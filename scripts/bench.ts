@@ -225,7 +225,7 @@ function main(): void {
 
 /** Benchmarks kept in scripts of their own, run as child processes after the table above. */
 const EXTRA_SCRIPTS: { name: string; file: string; what: string }[] = [
-	{ name: 'small', file: 'scripts/bench-small.ts', what: 'per-stage times of small meshes (12 to 1,280 faces) in a fresh command-line process, around the frontal area\'s switch from exact union to raster' },
+	{ name: 'small', file: 'scripts/bench-small.ts', what: 'per-stage times of small meshes (12 to 5,120 faces) in a fresh command-line process' },
 	{ name: 'readers', file: 'scripts/bench-readers.ts', what: 'file readers at 1M triangles (binary STL, binary PLY, OBJ, and @loaders.gl/ply for comparison)' },
 	{ name: 'repair', file: 'scripts/bench-repair.ts', what: 'the standard repair recipe on a 1M-triangle tow body with injected defects' },
 	{ name: 'thickness', file: 'scripts/bench-thickness.ts', what: 'cell-size checks (wall thickness, gap, longest and sharp edges) at 100k and 1M triangles' }

@@ -360,7 +360,9 @@ export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = 
 				method:
 					pf.method === 'union'
 						? 'silhouette as the exact union of all projected triangles (integer polygon clipping, corners snapped to a grid of at least 2^25 steps across the box of the outline); bound = area the snapping and the rounded edge crossings can move'
-						: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${fmtLength(pf.cellSize, opts.units ?? 'units')}; cells met by outline-candidate edges sampled again on ${REFINE}×${REFINE} sub-cells; bound = sub-cell area × sub-cells met by those edges`
+						: pf.method === 'slabs'
+							? 'silhouette as the union of all projected triangles, integrated over horizontal slabs between the heights where outline-candidate edges end or cross (the cut length is linear in each, so each slab counts its height × the cut length at its middle); bound = rounding of the cut lengths, and of crossings too close to split at'
+							: `silhouette by pixel-centre raster of all projected triangles, ${pf.cellsX}×${pf.cellsY} cells of ${fmtLength(pf.cellSize, opts.units ?? 'units')}; cells met by outline-candidate edges sampled again on ${REFINE}×${REFINE} sub-cells; bound = sub-cell area × sub-cells met by those edges`
 			}
 		},
 		wettedArea: reason === null ? wettedArea : null,

@@ -103,10 +103,10 @@ describe('openings: a sampling-box cut only with the evidence for it', () => {
 		const mm = buildReport(asParsed(withoutFaces(cube, xMax)), { units: 'mm', minEdgeLength: 1.5 });
 		expect(hint(mm, 'openings')?.message).toMatch(/largest rim 4 mm, 4 mm in all/);
 		expect(hint(mm, 'short-edges')?.message).toMatch(/shorter than the target length 1\.5 mm;/);
-		// A mesh this small gets the exact union (no cell size to state); a larger one states its cells in the unit.
-		expect(mm.projectedArea.flow.method).toMatch(/exact union of all projected triangles/);
+		// Small and everyday meshes get the slabs (no cell size to state).
+		expect(mm.projectedArea.flow.method).toMatch(/integrated over horizontal slabs/);
 		const sphereMm = buildReport(asParsed(icosphere(4)), { units: 'mm' });
-		expect(sphereMm.projectedArea.flow.method).toMatch(/cells of [\d.]+ [µm]m;/);
+		expect(sphereMm.projectedArea.flow.method).toMatch(/integrated over horizontal slabs/);
 		// Volume is not defined for an open surface (the old report gave a number for it).
 		expect(r.volume).toBeNull();
 		expect(r.volumeUndefinedReason).toBe('open');

@@ -25,8 +25,8 @@ function both(m: MeshBuffers, d: Vec3, oneSided?: Uint8Array, rasterCells = 512)
 	const l = Math.hypot(...d);
 	const dir: Vec3 = [d[0] / l, d[1] / l, d[2] / l];
 	return {
-		exact: frontalArea(m.positions, m.indices, mask, topo.edges, dir, 128, undefined, oneSided, Infinity),
-		raster: frontalArea(m.positions, m.indices, mask, topo.edges, dir, rasterCells, undefined, oneSided, 0)
+		exact: frontalArea(m.positions, m.indices, mask, topo.edges, dir, 128, undefined, oneSided, Infinity, 0),
+		raster: frontalArea(m.positions, m.indices, mask, topo.edges, dir, rasterCells, undefined, oneSided, 0, 0)
 	};
 }
 

@@ -1,5 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { basisFor, EXACT_UNION_MAX_FACES, frontalArea, segmentCells, silhouetteArea } from './projection';
+import { basisFor, EXACT_UNION_MAX_FACES, frontalArea, segmentCells, silhouetteArea, SLAB_MAX_FACES } from './projection';
+import { unionSilhouetteArea } from './projection-union';
+import { slabSilhouetteArea } from './projection-slabs';
+import { mulberry32 } from './random';
 import { gridFor, marchingCubes } from './testing/marching-cubes';
 import { sphere as sphereShape } from './testing/implicit-shapes';
 import { analyseTopology, collapsedFaces } from './topology';
@@ -16,14 +19,14 @@ function shadow(m: MeshBuffers, d: Vec3, cells: number, oneSided = false) {
 	return silhouetteArea(m.positions, m.indices, mask, topo.edges, dir, cells, undefined, oneSided ? new Uint8Array(m.indices.length / 3).fill(1) : undefined);
 }
 
-/** frontalArea with every face of one facing where the shell is closed; exactMaxFaces picks the method. */
-function frontal(m: MeshBuffers, d: Vec3, exactMaxFaces = Infinity, cells = 128, skip?: Uint8Array) {
+/** frontalArea with every face of one facing where the shell is closed; exactMaxFaces and slabMaxFaces pick the method (by default the exact union). */
+function frontal(m: MeshBuffers, d: Vec3, exactMaxFaces = Infinity, cells = 128, skip?: Uint8Array, slabMaxFaces = 0) {
 	const { mask } = collapsedFaces(m.indices);
 	if (skip) for (let t = 0; t < skip.length; t++) mask[t] |= skip[t];
 	const topo = analyseTopology(m.indices, m.positions.length / 3, mask);
 	const l = Math.hypot(...d);
 	const dir: Vec3 = [d[0] / l, d[1] / l, d[2] / l];
-	return frontalArea(m.positions, m.indices, mask, topo.edges, dir, cells, undefined, new Uint8Array(m.indices.length / 3).fill(1), exactMaxFaces);
+	return frontalArea(m.positions, m.indices, mask, topo.edges, dir, cells, undefined, new Uint8Array(m.indices.length / 3).fill(1), exactMaxFaces, slabMaxFaces);
 }
 
 /** Area of the convex hull of the mesh's corners projected along d (Andrew's monotone chain, shoelace formula). */
@@ -95,7 +98,7 @@ describe('frontal area as the exact union of the projected triangles (small mesh
 		const cases: MeshBuffers[] = [icosphere(2), torus(16, 16), torus(24, 12), concat(unitCube(), unitCube([0.5, 0.25, 0.1]))];
 		for (const m of cases) {
 			for (const d of [[1, 0, 0], [0.3, -0.5, 0.8], [0, 0, 1]] as Vec3[]) {
-				const exact = frontal(m, d), raster = frontal(m, d, 0, 512);
+				const exact = frontal(m, d), raster = frontal(m, d, 0, 512, undefined, 0);
 				expect(exact.method).toBe('union');
 				expect(raster.method).toBe('raster');
 				expect(Math.abs(exact.area - raster.area)).toBeLessThanOrEqual(raster.errorBound + exact.errorBound);
@@ -111,18 +114,20 @@ describe('frontal area as the exact union of the projected triangles (small mesh
 		const skip = new Uint8Array(m.indices.length / 3);
 		skip.fill(1, 13);
 		for (const d of [[0, 0, 1], [0, 1, 0]] as Vec3[]) {
-			const exact = frontal(m, d, Infinity, 128, skip), raster = frontal(m, d, 0, 512, skip);
+			const exact = frontal(m, d, Infinity, 128, skip), raster = frontal(m, d, 0, 512, skip, 0);
 			expect(exact.area).toBe(1);
 			expect(Math.abs(exact.area - raster.area)).toBeLessThanOrEqual(raster.errorBound);
 		}
 	});
 
-	it('uses the union up to EXACT_UNION_MAX_FACES faces and gives the raster’s result unchanged above', () => {
+	it('uses the slabs up to SLAB_MAX_FACES faces, the union where they give way, and gives the raster’s result unchanged above', () => {
+		expect(frontal(unitCube(), [1, 0, 0], EXACT_UNION_MAX_FACES, 128, undefined, SLAB_MAX_FACES).method).toBe('slabs');
 		expect(frontal(unitCube(), [1, 0, 0], EXACT_UNION_MAX_FACES).method).toBe('union');
 		const big = icosphere(4);
 		expect(big.indices.length / 3).toBeGreaterThan(EXACT_UNION_MAX_FACES);
 		const d: Vec3 = [0.3, -0.5, 0.8];
-		const r = frontal(big, d, EXACT_UNION_MAX_FACES);
+		expect(frontal(big, d, EXACT_UNION_MAX_FACES, 128, undefined, SLAB_MAX_FACES).method).toBe('slabs');
+		const r = frontal(big, d, EXACT_UNION_MAX_FACES, 128, undefined, 1000);
 		const l = Math.hypot(...d);
 		const { method, ...rest } = r;
 		expect(method).toBe('raster');
@@ -130,6 +135,145 @@ describe('frontal area as the exact union of the projected triangles (small mesh
 		const topo = analyseTopology(big.indices, big.positions.length / 3, mask);
 		const one = new Uint8Array(big.indices.length / 3).fill(1);
 		expect(rest).toEqual(silhouetteArea(big.positions, big.indices, mask, topo.edges, [d[0] / l, d[1] / l, d[2] / l], 128, undefined, one));
+	});
+});
+
+/** Both exact methods on the same projected triangles (no facing rule, so open soups work too). */
+function bothExact(m: MeshBuffers, d: Vec3, oneSided = false) {
+	const { mask } = collapsedFaces(m.indices);
+	const topo = analyseTopology(m.indices, m.positions.length / 3, mask);
+	const l = Math.hypot(...d);
+	const [u, w] = basisFor([d[0] / l, d[1] / l, d[2] / l]);
+	const nv = m.positions.length / 3, tc = m.indices.length / 3;
+	const proj = new Float64Array(2 * nv);
+	for (let v = 0; v < nv; v++) {
+		const x = m.positions[3 * v], y = m.positions[3 * v + 1], z = m.positions[3 * v + 2];
+		proj[2 * v] = x * u[0] + y * u[1] + z * u[2];
+		proj[2 * v + 1] = x * w[0] + y * w[1] + z * w[2];
+	}
+	const one = oneSided ? new Uint8Array(tc).fill(1) : undefined;
+	const slabs = slabSilhouetteArea(proj, m.indices, tc, mask, one, topo.edges);
+	const union = unionSilhouetteArea(proj, m.indices, tc, mask, one);
+	return { slabs, union };
+}
+
+/** n triangles with corners uniform in the unit square at height 0 (a soup of separate triangles). */
+function triangleSoup(n: number, seed: number): MeshBuffers {
+	const rnd = mulberry32(seed);
+	const positions = new Float64Array(9 * n), indices = new Uint32Array(3 * n);
+	for (let i = 0; i < 3 * n; i++) {
+		positions[3 * i] = rnd();
+		positions[3 * i + 1] = rnd();
+		positions[3 * i + 2] = 0;
+		indices[i] = i;
+	}
+	return { positions, indices };
+}
+
+describe('frontal area by slabs', () => {
+	it('gives the unit cube exactly 1 along each axis and √3 along its diagonal', () => {
+		for (const d of [[1, 0, 0], [0, 1, 0], [0, 0, 1]] as Vec3[]) {
+			const r = frontal(unitCube(), d, 0, 128, undefined, Infinity);
+			expect(r.method).toBe('slabs');
+			expect(Math.abs(r.area - 1)).toBeLessThanOrEqual(r.errorBound);
+		}
+		// Published: the hexagonal shadow of the unit cube along its diagonal has area √3.
+		const diag = frontal(unitCube(), [1, 1, 1], 0, 128, undefined, Infinity);
+		expect(diag.method).toBe('slabs');
+		expect(Math.abs(diag.area - Math.sqrt(3))).toBeLessThanOrEqual(diag.errorBound + 4e-16);
+		expect(diag.errorBound).toBeLessThan(1e-12);
+	});
+
+	it('matches the area of the projected polygon of an icosphere (its convex hull: common practice for a convex body)', () => {
+		for (const m of [icosphere(2), icosphere(4)]) {
+			for (const d of [[1, 0, 0], [0.3, -0.5, 0.8], [1, 1, 0]] as Vec3[]) {
+				const r = frontal(m, d, 0, 128, undefined, Infinity), hull = projectedHullArea(m, d);
+				expect(r.method).toBe('slabs');
+				expect(Math.abs(r.area - hull)).toBeLessThanOrEqual(r.errorBound + 1e-12);
+				expect(r.errorBound / r.area).toBeLessThan(1e-9);
+			}
+		}
+	});
+
+	it('sees a torus along its axis as a polygonal annulus (area of a regular polygon from its circumradius)', () => {
+		const n = 48, R = 2, r = 0.5;
+		const res = frontal(torus(n, 16, R, r), [0, 0, 1], 0, 128, undefined, Infinity);
+		const polygonal = (n / 2) * Math.sin((2 * Math.PI) / n) * ((R + r) ** 2 - (R - r) ** 2);
+		expect(res.method).toBe('slabs');
+		expect(Math.abs(res.area - polygonal)).toBeLessThanOrEqual(res.errorBound + 1e-12);
+	});
+
+	it('gives the union of two crossed triangles (a hexagram: 4/3 of one triangle, a published construction)', () => {
+		// Two equilateral triangles of side 1, the second turned by 180° about the common centre: the
+		// overlap is a regular hexagon of 2/3 of one triangle, so the union is 4/3 of one.
+		const h = Math.sqrt(3) / 2, c = h / 3;
+		const m: MeshBuffers = {
+			positions: new Float64Array([-0.5, -c, 0, 0.5, -c, 0, 0, h - c, 0, -0.5, c, 0, 0, c - h, 0, 0.5, c, 0]),
+			indices: new Uint32Array([0, 1, 2, 3, 4, 5])
+		};
+		const { slabs } = bothExact(m, [0, 0, 1]);
+		expect(slabs).not.toBeNull();
+		expect(Math.abs(slabs!.area - (4 / 3) * (h / 2))).toBeLessThanOrEqual(slabs!.errorBound + 1e-15);
+		expect(slabs!.errorBound).toBeLessThan(1e-12);
+	});
+
+	it('agrees with the exact union (clipper-lib) within both bounds on crossing soups, tori, overlapping cubes and a marching-cubes sphere', () => {
+		const s = sphereShape(1);
+		const cases: [MeshBuffers, boolean][] = [
+			[triangleSoup(40, 1), false],
+			[triangleSoup(60, 2), false],
+			[torus(16, 16), true],
+			[torus(16, 16), false],
+			[concat(unitCube(), unitCube([0.5, 0.25, 0.1])), true],
+			[marchingCubes(s.field, gridFor(s.min, s.max, 0.25)), true]
+		];
+		for (const [m, one] of cases) {
+			for (const d of [[0, 0, 1], [0.3, -0.5, 0.8], [1, 0, 0]] as Vec3[]) {
+				const { slabs, union } = bothExact(m, d, one);
+				expect(slabs).not.toBeNull();
+				expect(Math.abs(slabs!.area - union.area)).toBeLessThanOrEqual(slabs!.errorBound + union.errorBound);
+				// (A flat soup seen edge-on has no shadow: both 0.)
+				expect(slabs!.errorBound).toBeLessThanOrEqual(1e-6 * union.area);
+			}
+		}
+	});
+
+	it('gives way to the raster when a soup’s crossings would cost more than its work cap', () => {
+		// 150 random triangles cross each other thousands of times, each crossing a line through all of them.
+		const m = triangleSoup(150, 2);
+		expect(bothExact(m, [0, 0, 1]).slabs).toBeNull();
+		const { mask } = collapsedFaces(m.indices);
+		const topo = analyseTopology(m.indices, m.positions.length / 3, mask);
+		const r = frontalArea(m.positions, m.indices, mask, topo.edges, [0, 0, 1], 128, undefined, undefined, 0);
+		expect(r.method).toBe('raster');
+		// Up to EXACT_UNION_MAX_FACES the exact union answers instead.
+		expect(frontalArea(m.positions, m.indices, mask, topo.edges, [0, 0, 1], 128).method).toBe('union');
+		const { union } = bothExact(m, [0, 0, 1]);
+		expect(Math.abs(r.area - union.area)).toBeLessThanOrEqual(r.errorBound + union.errorBound);
+	});
+
+	it('agrees with a 4096-cell raster within its bound on larger closed meshes, with a far smaller bound', () => {
+		const s = sphereShape(1);
+		for (const m of [torus(120, 48), marchingCubes(s.field, gridFor(s.min, s.max, 0.05))]) {
+			for (const d of [[1, 0, 0], [0.3, -0.5, 0.8]] as Vec3[]) {
+				const r = frontal(m, d, 0, 128, undefined, Infinity), ref = shadow(m, d, 4096, true);
+				expect(r.method).toBe('slabs');
+				expect(Math.abs(r.area - ref.area)).toBeLessThanOrEqual(r.errorBound + ref.errorBound);
+				expect(r.errorBound).toBeLessThan(ref.errorBound / 100);
+			}
+		}
+	});
+
+	it('skips zero-area and skipped faces as the raster does', () => {
+		const sliver: MeshBuffers = { positions: new Float64Array([0, 0, 2, 1, 0, 2, 2, 0, 2]), indices: new Uint32Array([0, 1, 2]) };
+		const m = concat(unitCube(), sliver, unitCube([3, 0, 0]));
+		const skip = new Uint8Array(m.indices.length / 3);
+		skip.fill(1, 13);
+		for (const d of [[0, 0, 1], [0, 1, 0]] as Vec3[]) {
+			const r = frontal(m, d, 0, 128, skip, Infinity);
+			expect(r.method).toBe('slabs');
+			expect(Math.abs(r.area - 1)).toBeLessThanOrEqual(r.errorBound);
+		}
 	});
 });
 

@@ -87,8 +87,14 @@ function newBuffers(faces: number, nodes: number): ThicknessBuffers {
 	};
 }
 
-/** Largest mesh whose buffers a pool keeps (about 180 bytes a face: 108 MB here), a little over the files a kept engine thread keeps running (engine-pool.ts retireBytes). */
-const KEEP_FACES_MAX = 600_000;
+/**
+ * Largest mesh whose buffers a pool keeps (about 180 bytes a face: 540 MB at this size), as the
+ * self-intersection pool does; a kept engine thread that ran a file this large is retired when
+ * idle (engine-pool.ts retireBytes). Workers that were handed fresh buffers for a larger mesh are
+ * ended after the call, since an idle worker may never collect them (checks of 1 M faces in a row
+ * grew a kept engine thread by 180 MB each with a 600,000-face cap).
+ */
+const KEEP_FACES_MAX = 3_000_000;
 
 function copyInto<T extends Float32Array | Float64Array | Int32Array | Uint32Array>(to: SharedArrayBuffer, a: T): SharedArrayBuffer {
 	new Uint8Array(to, 0, a.byteLength).set(new Uint8Array(a.buffer, a.byteOffset, a.byteLength));
@@ -272,6 +278,8 @@ export function startFaceDistancesParallel(mesh: MeshBuffers, opts: ParallelDist
 				throw e;
 			} finally {
 				for (const c of cleanups) c();
+				// Fresh shared memory lives as long as a worker that saw it: those workers go.
+				if (n > KEEP_FACES_MAX) for (const w of workers) failed.add(w);
 				for (const w of failed) void w.terminate();
 				if (held) pool.release([...failed]);
 				else for (const w of workers) void w.terminate();

@@ -4,6 +4,7 @@ import { validateMesh } from './validate';
 import { indexedBounds } from './bounds';
 import { fmtLength } from '../format';
 import { analyseTopology, collapsedFaces, type TopologyResult } from './topology';
+import type { EdgeTable } from './edges';
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
 import { frontalArea, REFINE, type SilhouetteScratch } from './projection';
 import { buildHints, overlappingBodiesHint } from './hints';
@@ -157,9 +158,18 @@ function closedShellFaces(faceShell: Int32Array, boundaryEdges: Uint32Array, non
 	}
 }
 
-/** Build the full report (self-intersections come in through opts.selfIntersections). */
-export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}): InspectionReport {
-	return buildReportParts(parsed, opts).report;
+/** What buildReport made on the way that a later stage can use. */
+export interface ReportByproducts {
+	/** The edge table over every face, when no face was left out of it (no collapsed face): the one buildEdges would give. */
+	edges?: EdgeTable;
+}
+
+/**
+ * Build the full report (self-intersections come in through opts.selfIntersections). `out`
+ * receives byproducts for the caller's later stages (e.g. the cell-size checks' edge table).
+ */
+export function buildReport(parsed: ParsedMesh, opts: BuildReportOptions = {}, out?: ReportByproducts): InspectionReport {
+	return buildReportParts(parsed, opts, out).report;
 }
 
 /**
@@ -181,7 +191,7 @@ export function attachSelfIntersections(report: InspectionReport, si: SelfInters
 }
 
 /** buildReport, and the shell of each face for stages that arrive after the report (inspect-node). */
-export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = {}): { report: InspectionReport; faceShell: Int32Array } {
+export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = {}, out?: ReportByproducts): { report: InspectionReport; faceShell: Int32Array } {
 	const timings: Record<string, number> = { ...(opts.timings ?? {}) };
 	const triCount = (parsed.indices.length / 3) | 0;
 	const vertCount = (parsed.positions.length / 3) | 0;
@@ -200,6 +210,7 @@ export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = 
 	const collapsed = opts.collapsed ?? collapsedFaces(parsed.indices);
 	const topo = analyseTopology(parsed.indices, vertCount, collapsed.mask);
 	timings.topology = performance.now() - t0;
+	if (out && collapsed.count === 0) out.edges = topo.edges;
 
 	progress('measures', 45);
 	t0 = performance.now();

@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { inspectFileNode } from './inspect-node';
 import { inspectBytes } from './inspect';
 import { writeBinaryStl } from './write';
-import { concat, icosphere, unitCube } from './testing/test-meshes';
+import { concat, icosphere, torus, unitCube } from './testing/test-meshes';
+import { thicknessPool } from './thickness-node';
 
 describe('inspectFileNode', () => {
 	it('gives the same report as the one-thread inspection, timings and sample choice aside', async () => {
@@ -34,6 +35,33 @@ describe('inspectFileNode', () => {
 		expect(workers.timings.selfIntersectionsWait).toBeDefined();
 		const strip = (r: typeof one) => ({ ...r, timings: {}, selfIntersectionSample: r.selfIntersectionSample.length });
 		expect(strip(one)).toEqual(strip(workers));
+	});
+
+	it('gives the same report with the wall-and-gap rays on a kept worker beside the report, and hands the worker back', async () => {
+		// 48,000 faces: more than one chunk of rays, so the worker takes part.
+		const bytes = writeBinaryStl(concat(torus(200, 120, 2, 0.4), icosphere(3, 1)));
+		const opts = { cellSize: 0.1, thinCells: 2, flowDirection: [1, 0.25, 0] as [number, number, number] };
+		const serial = await inspectFileNode(bytes, 'ring.stl', opts);
+		const pool = thicknessPool();
+		// No started worker: nothing is started for it, the rays run after the report as before.
+		const cold = await inspectFileNode(bytes, 'ring.stl', { ...opts, wallsAlongside: true });
+		expect(pool.size).toBe(0);
+		expect(cold.timings.wallsWait).toBeUndefined();
+		pool.warm(1);
+		try {
+			const along = await inspectFileNode(bytes, 'ring.stl', { ...opts, wallsAlongside: true });
+			expect(along.timings.wallsWait).toBeDefined();
+			expect(pool.idleStarted).toBe(1);
+			const strip = (r: typeof serial) => ({ ...r, timings: {}, cellSizeChecks: r.cellSizeChecks && { ...r.cellSizeChecks, ms: 0 } });
+			expect(along.cellSizeChecks?.narrowestGap).not.toBeNull();
+			expect(strip(along)).toEqual(strip(serial));
+			expect(strip(cold)).toEqual(strip(serial));
+			// A stage that fails after the rays started: the error comes through and the worker is back in the pool.
+			await expect(inspectFileNode(bytes, 'ring.stl', { ...opts, flowDirection: [0, 0, 0], wallsAlongside: true })).rejects.toThrow(/flow direction/);
+			expect(pool.idleStarted).toBe(1);
+		} finally {
+			await pool.close();
+		}
 	});
 
 	it('leaves selfIntersectingPairs null when the stage is skipped', async () => {

@@ -9,12 +9,12 @@ import { findSelfIntersections } from './self-intersect';
 import { startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
 import { validateMesh } from './validate';
 import { type InspectionReport } from './report';
-import { attachSelfIntersections, buildReportParts } from './build-report';
+import { attachSelfIntersections, buildReportParts, type ReportByproducts } from './build-report';
 import type { InspectRunOptions } from './inspect';
 import { DEFAULT_SAMPLE_LIMIT } from './tolerances';
 import { DEFAULT_MAX_FACES } from './types';
 import { analyseCellSize, cellSizeChecksOf, cellSizeMaxDistance, DEFAULT_THIN_CELLS } from './thickness';
-import { faceDistancesBothParallel } from './thickness-node';
+import { startFaceDistancesParallel, type DistanceRun } from './thickness-node';
 
 export interface InspectNodeOptions extends InspectRunOptions {
 	/**
@@ -28,6 +28,13 @@ export interface InspectNodeOptions extends InspectRunOptions {
 	 * threads (default SELF_INTERSECT_WORKER_MIN_FACES); 0 uses the workers whatever the size.
 	 */
 	workerMinFaces?: number;
+	/**
+	 * Below the worker switch, start the wall-and-gap rays (opts.cellSize) on a kept worker of this
+	 * thread's wall-and-gap pool while this thread builds the report and counts self-intersections,
+	 * then join them; only when the pool has a worker started and idle (a kept engine thread's
+	 * warm-up starts it), never a cold one. Same results.
+	 */
+	wallsAlongside?: boolean;
 	/** Stage names: read, topology, measures, shells, projection, hints, self-intersections, done. */
 	onProgress?: (stage: string, percent: number) => void;
 	signal?: AbortSignal;
@@ -56,36 +63,63 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 		siError = e;
 		return null;
 	});
-	const { report, faceShell } = buildReportParts(parsed, {
-		...opts,
-		fileName,
-		timings,
-		selfIntersections: null,
-		onProgress: (stage, percent) => progress(stage, Math.round(percent * 0.8))
-	});
-	if (siRun && siPromise) {
-		progress('self-intersections', 80);
-		const tWait = performance.now();
-		siRun.help();
-		const si = await siPromise;
-		if (siError) throw siError;
-		if (si) {
-			attachSelfIntersections(report, si, faceShell);
-			// How long the report spent on self-intersections after its own stages were done
-			// (taking traversal tasks itself, then waiting for the workers' last ones).
-			report.timings.selfIntersectionsWait = performance.now() - tWait;
-		}
-	} else if (!opts.skipSelfIntersections) {
-		progress('self-intersections', 80);
-		attachSelfIntersections(report, findSelfIntersections(parsed, { sampleLimit }), faceShell);
+	const cellSize = opts.cellSize;
+	const maxDistance = cellSize === undefined ? 0 : cellSizeMaxDistance({ cellSize });
+	// The rays on a kept worker from here on, beside this thread's own stages (wallsAlongside).
+	let walls: DistanceRun | null = null;
+	let wallsT0 = 0;
+	if (opts.wallsAlongside && threads === 0 && cellSize !== undefined && cellSize > 0 && Number.isFinite(cellSize) && parsed.indices.length > 0) {
+		wallsT0 = performance.now();
+		walls = startFaceDistancesParallel(parsed, { cellSize, maxDistance, threads: 2, keptOnly: true });
+		// No kept worker idle (or a mesh of one chunk): nothing started, the rays run after the report.
+		if (walls.workers === 0) walls = null;
+		else timings.wallsStart = performance.now() - wallsT0;
 	}
-	if (opts.cellSize !== undefined && report.faces > 0) {
+	const byproducts: ReportByproducts = {};
+	let report: InspectionReport;
+	try {
+		let faceShell: Int32Array;
+		({ report, faceShell } = buildReportParts(
+			parsed,
+			{
+				...opts,
+				fileName,
+				timings,
+				selfIntersections: null,
+				onProgress: (stage, percent) => progress(stage, Math.round(percent * 0.8))
+			},
+			byproducts
+		));
+		if (siRun && siPromise) {
+			progress('self-intersections', 80);
+			const tWait = performance.now();
+			siRun.help();
+			const si = await siPromise;
+			if (siError) throw siError;
+			if (si) {
+				attachSelfIntersections(report, si, faceShell);
+				// How long the report spent on self-intersections after its own stages were done
+				// (taking traversal tasks itself, then waiting for the workers' last ones).
+				report.timings.selfIntersectionsWait = performance.now() - tWait;
+			}
+		} else if (!opts.skipSelfIntersections) {
+			progress('self-intersections', 80);
+			attachSelfIntersections(report, findSelfIntersections(parsed, { sampleLimit }), faceShell);
+		}
+	} catch (e) {
+		// The kept worker goes back to its pool before the error does.
+		await walls?.finish().catch(() => null);
+		throw e;
+	}
+	if (cellSize !== undefined && report.faces > 0) {
 		progress('walls and gaps', 90);
-		const t1 = performance.now();
+		const t1 = walls ? wallsT0 : performance.now();
+		const tJoin = performance.now();
 		const thinCells = opts.thinCells ?? DEFAULT_THIN_CELLS;
-		const maxDistance = cellSizeMaxDistance({ cellSize: opts.cellSize });
-		const distances = await faceDistancesBothParallel(parsed, { cellSize: opts.cellSize, maxDistance, threads: Math.max(1, threads) });
-		const res = analyseCellSize(parsed, { cellSize: opts.cellSize, thinCells, maxDistance, distances });
+		const run = walls ?? startFaceDistancesParallel(parsed, { cellSize, maxDistance, threads: Math.max(1, threads) });
+		const distances = await run.finish();
+		if (walls) report.timings.wallsWait = performance.now() - tJoin;
+		const res = analyseCellSize(parsed, { cellSize, thinCells, maxDistance, distances, edges: byproducts.edges });
 		report.cellSizeChecks = cellSizeChecksOf(res, thinCells, performance.now() - t1);
 		report.timings.cellSize = report.cellSizeChecks.ms;
 	}

@@ -38,6 +38,11 @@ export abstract class KeptWorkers<B> {
 		return this.workers.length;
 	}
 
+	/** Started workers a call could hold now without starting any (0 while a call holds them). */
+	get idleStarted(): number {
+		return this.busy ? 0 : this.workers.length;
+	}
+
 	/** `count` workers for one call, started as needed; null while another call holds them. */
 	protected holdWorkers(count: number): Worker[] | null {
 		if (this.busy) return null;

@@ -87,8 +87,14 @@ function newBuffers(faces: number, nodes: number): ThicknessBuffers {
 	};
 }
 
-/** Largest mesh whose buffers a pool keeps (about 180 bytes a face: 108 MB here), a little over the files a kept engine thread keeps running (engine-pool.ts retireBytes). */
-const KEEP_FACES_MAX = 600_000;
+/**
+ * Largest mesh whose buffers a pool keeps (about 180 bytes a face: 540 MB at this size), as the
+ * self-intersection pool does; a kept engine thread that ran a file this large is retired when
+ * idle (engine-pool.ts retireBytes). Workers that were handed fresh buffers for a larger mesh are
+ * ended after the call, since an idle worker may never collect them (checks of 1 M faces in a row
+ * grew a kept engine thread by 180 MB each with a 600,000-face cap).
+ */
+const KEEP_FACES_MAX = 3_000_000;
 
 function copyInto<T extends Float32Array | Float64Array | Int32Array | Uint32Array>(to: SharedArrayBuffer, a: T): SharedArrayBuffer {
 	new Uint8Array(to, 0, a.byteLength).set(new Uint8Array(a.buffer, a.byteOffset, a.byteLength));
@@ -140,24 +146,61 @@ export interface ParallelDistanceOptions extends FaceDistanceOptions {
 	pool?: ThicknessPool;
 }
 
+/** Wall and gap of every face, with the ray structure's build time. */
+export interface ParallelDistances {
+	thickness: FaceDistances;
+	gap: FaceDistances;
+	buildMs: number;
+}
+
+/** A wall-and-gap measure under way on workers (startFaceDistancesParallel). */
+export interface DistanceRun {
+	/** Workers casting rays for it (0: finish() does all the work on this thread, nothing has started). */
+	readonly workers: number;
+	/**
+	 * Takes the chunks no worker has taken yet on this thread, then waits for the workers' last
+	 * ones; resolves with the result, or rejects when a worker failed. Call it once.
+	 */
+	finish(): Promise<ParallelDistances>;
+}
+
 /**
  * faceDistancesBoth on `threads` threads (this one and threads − 1 workers). Same values, same
  * hit faces. `ms` of each result is the wall time of the whole call, build and workers included.
  */
-export async function faceDistancesBothParallel(mesh: MeshBuffers, opts: ParallelDistanceOptions): Promise<{ thickness: FaceDistances; gap: FaceDistances; buildMs: number }> {
+export async function faceDistancesBothParallel(mesh: MeshBuffers, opts: ParallelDistanceOptions): Promise<ParallelDistances> {
+	return startFaceDistancesParallel(mesh, opts).finish();
+}
+
+/**
+ * Starts faceDistancesBothParallel's workers and returns at once, so this thread can do other
+ * work while they cast rays; finish() has this thread take whatever chunks are left. With no
+ * worker (one thread, or a mesh of one chunk) all the work is done in finish(). `keptOnly`: use
+ * the pool's workers only when it has `threads − 1` started and idle, else none (no cold start).
+ */
+export function startFaceDistancesParallel(mesh: MeshBuffers, opts: ParallelDistanceOptions & { keptOnly?: boolean }): DistanceRun {
 	const t0 = performance.now();
 	const n = (mesh.indices.length / 3) | 0;
+	const pool = opts.pool ?? thicknessPool();
+	let workerCount = Math.max(0, Math.min((opts.threads ?? availableParallelism()) - 1, Math.ceil(n / CHUNK) - 1));
+	if (opts.keptOnly && pool.idleStarted < workerCount) workerCount = 0;
+	const tMax = opts.maxDistance ?? Infinity;
+	if (workerCount === 0) {
+		return {
+			workers: 0,
+			async finish() {
+				// This thread alone: the structure as it is, nothing copied into shared memory.
+				const t1 = performance.now();
+				const rb = opts.rayBvh ?? buildRayBvh(mesh);
+				const buildMs = performance.now() - t1;
+				const r = faceDistancesBoth(mesh, { cellSize: opts.cellSize, maxDistance: tMax, rayBvh: rb });
+				const ms = performance.now() - t0;
+				return { thickness: { ...r.thickness, ms }, gap: { ...r.gap, ms }, buildMs };
+			}
+		};
+	}
 	const rb = opts.rayBvh ?? buildRayBvh(mesh);
 	const buildMs = performance.now() - t0;
-	const tMax = opts.maxDistance ?? Infinity;
-	const workerCount = Math.max(0, Math.min((opts.threads ?? availableParallelism()) - 1, Math.ceil(n / CHUNK) - 1));
-	if (workerCount === 0) {
-		// This thread alone: the structure as it is, nothing copied into shared memory.
-		const r = faceDistancesBoth(mesh, { cellSize: opts.cellSize, maxDistance: tMax, rayBvh: rb });
-		const ms = performance.now() - t0;
-		return { thickness: { ...r.thickness, ms }, gap: { ...r.gap, ms }, buildMs };
-	}
-	const pool = opts.pool ?? thicknessPool();
 	const held = pool.acquire(workerCount);
 	const workers: Worker[] = held ?? Array.from({ length: workerCount }, () => spawnWorker());
 	// The pool's kept buffers when its workers run this call: fresh shared memory each call would
@@ -209,33 +252,40 @@ export async function faceDistancesBothParallel(mesh: MeshBuffers, opts: Paralle
 				w.postMessage({ id, job } satisfies WorkerInput);
 			})
 	);
-	// Handled here so a worker failing while this thread drains is never reported as unhandled.
+	// Handled here so a worker failing while this thread is busy elsewhere is never reported as unhandled.
 	const all = Promise.all(done);
 	all.catch(() => {});
-	try {
-		// This thread works too; workers still starting find fewer chunks left, never a wrong one.
-		let rays = drain(job, viewJob(job));
-		rays += (await all).reduce((a, b) => a + b, 0);
-		// Copied out: the kept buffers serve the pool's next call.
-		const result = (b: OutBuffers): FaceDistances => ({
-			value: new Float32Array(b[0], 0, n).slice(),
-			hitFace: new Int32Array(b[1], 0, n).slice(),
-			from: new Float64Array(b[2], 0, 3 * n).slice(),
-			rays,
-			ms: performance.now() - t0
-		});
-		const thickness = result(bufs.th), gap = result(bufs.gp);
-		return { thickness, gap, buildMs };
-	} catch (e) {
-		// A failed worker may still be draining: stop them all (a pooled one leaves the pool).
-		for (const w of workers) failed.add(w);
-		throw e;
-	} finally {
-		for (const c of cleanups) c();
-		for (const w of failed) void w.terminate();
-		if (held) pool.release([...failed]);
-		else for (const w of workers) void w.terminate();
-	}
+	return {
+		workers: workerCount,
+		async finish() {
+			try {
+				// This thread works too; workers still starting find fewer chunks left, never a wrong one.
+				let rays = drain(job, viewJob(job));
+				rays += (await all).reduce((a, b) => a + b, 0);
+				// Copied out: the kept buffers serve the pool's next call.
+				const result = (b: OutBuffers): FaceDistances => ({
+					value: new Float32Array(b[0], 0, n).slice(),
+					hitFace: new Int32Array(b[1], 0, n).slice(),
+					from: new Float64Array(b[2], 0, 3 * n).slice(),
+					rays,
+					ms: performance.now() - t0
+				});
+				const thickness = result(bufs.th), gap = result(bufs.gp);
+				return { thickness, gap, buildMs };
+			} catch (e) {
+				// A failed worker may still be draining: stop them all (a pooled one leaves the pool).
+				for (const w of workers) failed.add(w);
+				throw e;
+			} finally {
+				for (const c of cleanups) c();
+				// Fresh shared memory lives as long as a worker that saw it: those workers go.
+				if (n > KEEP_FACES_MAX) for (const w of workers) failed.add(w);
+				for (const w of failed) void w.terminate();
+				if (held) pool.release([...failed]);
+				else for (const w of workers) void w.terminate();
+			}
+		}
+	};
 }
 
 interface WorkerInput {

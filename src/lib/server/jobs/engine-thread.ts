@@ -29,6 +29,8 @@ export type EngineTask =
 			previous?: PreviousIteration;
 			/** Faces from which worker threads are used (inspect-node.ts); default ENGINE_WORKER_MIN_FACES. */
 			workerMinFaces?: number;
+			/** Below that, the wall-and-gap rays on a kept worker beside the report (inspect-node.ts wallsAlongside); default true. */
+			wallsAlongside?: boolean;
 	  }
 	| { task: 'repair'; bytes: Uint8Array; fileName: string; steps: RepairStep[]; maxFaces: number }
 	| { task: 'export'; bytes: Uint8Array; fileName: string; format: ExportFormat; maxFaces: number };
@@ -92,6 +94,9 @@ async function run(input: EngineTask, post: (m: EngineMessage) => void): Promise
 			...input.options,
 			threads: input.threads,
 			workerMinFaces: input.workerMinFaces ?? ENGINE_WORKER_MIN_FACES,
+			// The warm-up leaves a wall-and-gap worker started: below the worker switch the rays run
+			// on it while this thread builds the report (inspect-node.ts).
+			wallsAlongside: input.wallsAlongside ?? true,
 			onProgress: (stage, percent) => post({ type: 'progress', stage, percent: Math.min(94, 5 + percent * 0.9) })
 		});
 		if (input.previous) {

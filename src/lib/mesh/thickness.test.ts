@@ -152,6 +152,28 @@ describe('wall thickness and gap per face', () => {
 		});
 	}
 
+	it('takes the lower face number when a ray meets two faces at one distance (a shared edge), whatever their order', () => {
+		// A floor triangle whose centroid (0.5, 0.5, 0) lies under the diagonal of a ceiling square at
+		// z = 0.2 split along (0,0)–(1,1); the ceiling faces down, so the gap is 0.2 (analytic) on both.
+		const floor = [0, 0, 0, 1.5, 0, 0, 0, 1.5, 0];
+		const ceilA = [0, 0, 0.2, 1, 1, 0.2, 1, 0, 0.2];
+		const ceilB = [0, 0, 0.2, 0, 1, 0.2, 1, 1, 0.2];
+		for (const ceiling of [[ceilA, ceilB], [ceilB, ceilA]]) {
+			const positions = new Float64Array([...floor, ...ceiling[0], ...ceiling[1]]);
+			const m = { positions, indices: Uint32Array.from({ length: 9 }, (_, i) => i) };
+			// One sample (cell 3) and four (cell 0.5: the centroid and the points halfway to the corners).
+			for (const cellSize of [3, 0.5]) {
+				const both = faceDistancesBoth(m, { cellSize });
+				const one = faceDistances(m, 'outward', { cellSize });
+				for (const r of [both.gap, one]) {
+					expectClose(r.value[0], 0.2, 1e-6, `gap at cell ${cellSize}`);
+					expect(r.hitFace[0], `cell ${cellSize}`).toBe(1);
+				}
+				expect(Array.from(both.gap.from.slice(0, 3))).toEqual([0.5, 0.5, 0]);
+			}
+		}
+	});
+
 	it('refuses a cell size that is not a positive number', () => {
 		expect(() => analyseCellSize(unitCube(), { cellSize: 0 })).toThrow(/Cell size/);
 		expect(() => analyseCellSize(unitCube(), { cellSize: NaN })).toThrow(/Cell size/);

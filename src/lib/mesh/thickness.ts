@@ -21,9 +21,11 @@
  *    This drops the false narrow "gap" at every concave corner of 90° or more (the other leg is
  *    met side-on) and grazing hits on curved neighbours, while V-notches tighter than 60° count.
  *  - A face with zero area is not measured (Infinity).
+ *  - A ray that meets two faces at one distance (through the edge they share) reports the lower
+ *    face number, whatever order the traversal reached them in.
  *
  * Cost: O(F log F) to build the BVH (bvh.ts, Morton order), then per sample one traversal that
- * looks both ways along the normal (RayQuery.castLine), the child nearer the origin first. Memory
+ * looks both ways along the normal for all of a face's samples (RayQuery.castSamples), the child nearer the origin first. Memory
  * about 200 bytes per face on top of the mesh (ray BVH ~135, per-face results of both ways ~64).
  * Figures: `npm run bench` (scripts/bench-thickness.ts).
  */
@@ -214,7 +216,7 @@ export class RayQuery {
 				const v = (dx * rx + dy * ry + dz * rz) * inv;
 				if (v < 0 || u + v > 1) continue;
 				const t = (e2x * rx + e2y * ry + e2z * rz) * inv;
-				if (t < tMin || t >= best) continue;
+				if (t < tMin || t > best || (t === best && (bestSlot < 0 || faceOf[s] > faceOf[bestSlot]))) continue;
 				const s3 = 3 * s;
 				const va = vids[s3], vb = vids[s3 + 1], vc = vids[s3 + 2];
 				if (va === skipA || va === skipB || va === skipC || vb === skipA || vb === skipB || vb === skipC || vc === skipA || vc === skipB || vc === skipC) continue;
@@ -231,40 +233,40 @@ export class RayQuery {
 		return best;
 	}
 
-	/** Results of the last castLine: nearest accepted hit ahead (+d) and behind (−d), distance and face. */
-	aheadT = Infinity;
-	aheadFace = -1;
-	behindT = Infinity;
-	behindFace = -1;
-	private readonly stackHi = new Float64Array(STACK_SIZE);
+	/** Results of the last castLine (one line; castSamples for several): nearest accepted hit ahead (+d) and behind (−d), distance and face. */
+	lineAheadT = Infinity;
+	lineAheadFace = -1;
+	lineBehindT = Infinity;
+	lineBehindFace = -1;
 
 	/**
 	 * Both ways along the line o + t·d in one traversal: the nearest hit ahead that enters a solid
 	 * (a gap when d is the outward normal) and the nearest hit behind that leaves one (the wall),
 	 * each by the rules of cast(); both ask n·d ≤ −cos 60°. The boxes near o, which every ray from
 	 * a surface point opens, are visited once instead of twice. Results in aheadT/aheadFace,
-	 * behindT/behindFace (Infinity, −1 for none within tMaxAhead / tMaxBehind).
+	 * behindT/behindFace (Infinity, −1 for none within tMaxAhead / tMaxBehind). A face's single
+	 * sample takes this one: the same traversal as castSamples for one line, without its loop over lines.
 	 */
 	castLine(ox: number, oy: number, oz: number, dx: number, dy: number, dz: number, tMaxAhead: number, tMaxBehind: number, skipA: number, skipB: number, skipC: number): void {
 		// Through a Float64Array, so the traversal always sees doubles: an argument that is
 		// sometimes a small integer (an axis-aligned normal's 0) made the JIT throw its code away
 		// and rebuild it, which measured up to twice the whole run on a cold process.
-		const r = this.line;
+		const r = this.oneLine;
 		r[0] = ox; r[1] = oy; r[2] = oz; r[3] = dx; r[4] = dy; r[5] = dz; r[6] = tMaxAhead; r[7] = tMaxBehind;
 		this.castLineStored(skipA, skipB, skipC);
 	}
 
-	private readonly line = new Float64Array(8);
+	private readonly oneLine = new Float64Array(8);
 
 	private castLineStored(skipA: number, skipB: number, skipC: number): void {
-		const r = this.line;
+		const r = this.oneLine;
 		const ox = r[0], oy = r[1], oz = r[2], dx = r[3], dy = r[4], dz = r[5], tMaxAhead = r[6], tMaxBehind = r[7];
 		const { bvh, verts, vids, normals, faceOf, tMin } = this.rb;
 		const { firstChild, bounds, start, count } = bvh;
 		// Float32 normals are off by ~1e-7; the margin keeps the prefilter from rejecting a face the exact test accepts.
 		const preCos = -this.minCos + 1e-4;
-		this.aheadT = this.behindT = Infinity;
-		this.aheadFace = this.behindFace = -1;
+		this.lineAheadT = this.lineBehindT = Infinity;
+		this.lineAheadFace = this.lineBehindFace = -1;
 		if (bvh.nodeCount === 0 || count[0] === 0) return;
 		const ix = Math.abs(dx) > 1e-300 ? 1 / dx : dx < 0 || Object.is(dx, -0) ? -1e300 : 1e300;
 		const iy = Math.abs(dy) > 1e-300 ? 1 / dy : dy < 0 || Object.is(dy, -0) ? -1e300 : 1e300;
@@ -350,7 +352,8 @@ export class RayQuery {
 				if (v < 0 || u + v > 1) continue;
 				const t = (e2x * rx + e2y * ry + e2z * rz) * inv;
 				const at = t < 0 ? -t : t;
-				if (at < tMin || (t > 0 ? t >= ahead : at >= behind)) continue;
+				// On an exact tie between two faces, the lower face number, whatever the order they were reached in.
+				if (at < tMin || (t > 0 ? t > ahead || (t === ahead && (aheadSlot < 0 || faceOf[s] > faceOf[aheadSlot])) : at > behind || (at === behind && (behindSlot < 0 || faceOf[s] > faceOf[behindSlot])))) continue;
 				const s3 = 3 * s;
 				const va = vids[s3], vb = vids[s3 + 1], vc = vids[s3 + 2];
 				if (va === skipA || va === skipB || va === skipC || vb === skipA || vb === skipB || vb === skipC || vc === skipA || vc === skipB || vc === skipC) continue;
@@ -366,12 +369,197 @@ export class RayQuery {
 			}
 		}
 		if (aheadSlot >= 0) {
-			this.aheadT = ahead;
-			this.aheadFace = faceOf[aheadSlot];
+			this.lineAheadT = ahead;
+			this.lineAheadFace = faceOf[aheadSlot];
 		}
 		if (behindSlot >= 0) {
-			this.behindT = behind;
-			this.behindFace = faceOf[behindSlot];
+			this.lineBehindT = behind;
+			this.lineBehindFace = faceOf[behindSlot];
+		}
+	}
+
+	/**
+	 * Results of the last castSamples, per line k (0: the first origin): nearest accepted hit ahead
+	 * (+d) and behind (−d), distance and face (Infinity, −1 for none within the window).
+	 */
+	readonly aheadT = new Float64Array(4);
+	readonly aheadFace = new Int32Array(4);
+	readonly behindT = new Float64Array(4);
+	readonly behindFace = new Int32Array(4);
+	/**
+	 * Input of castSamples, written by the caller: origins (x, y, z per line, up to 4), then the
+	 * unit direction d and the windows ahead and behind. Through a Float64Array, so the traversal
+	 * always sees doubles: an argument that is sometimes a small integer (an axis-aligned normal's
+	 * 0) made the JIT throw its code away and rebuild it, which measured up to twice the whole run
+	 * on a cold process.
+	 */
+	readonly line = new Float64Array(17);
+	private readonly stackHi = new Float64Array(STACK_SIZE);
+	private readonly aheadSlot = new Int32Array(4);
+	private readonly behindSlot = new Int32Array(4);
+
+	/**
+	 * Both ways along `lines` parallel lines o_k + t·d (1 to 4, origins and d in `line`) in one
+	 * traversal: for each, the nearest hit ahead that enters a solid (a gap when d is the outward
+	 * normal) and the nearest hit behind that leaves one (the wall), each by the rules of cast();
+	 * both ask n·d ≤ −cos 60°. A face's samples share the boxes they open: the traversal follows
+	 * the first line with every box grown by the other origins' offset from it on each axis (a
+	 * point of line k at t lies that offset from the first line's point at t, so a box line k
+	 * crosses at t, grown so, is crossed by the first line at t), and each face reached is tested
+	 * against every line. Every line meets all the faces its own traversal would, so each line's
+	 * nearest hit is the one a traversal of its own finds (on an exact tie between two faces at one
+	 * distance, the lower face number). Results in aheadT/aheadFace, behindT/behindFace.
+	 */
+	castSamples(lines: number, skipA: number, skipB: number, skipC: number): void {
+		const r = this.line;
+		const o3 = 3 * lines;
+		const dx = r[12], dy = r[13], dz = r[14], tMaxAhead = r[15], tMaxBehind = r[16];
+		const ox = r[0], oy = r[1], oz = r[2];
+		const { bvh, verts, vids, normals, faceOf, tMin } = this.rb;
+		const { firstChild, bounds, start, count } = bvh;
+		// Float32 normals are off by ~1e-7; the margin keeps the prefilter from rejecting a face the exact test accepts.
+		const preCos = -this.minCos + 1e-4;
+		const aheadT = this.aheadT, behindT = this.behindT, aheadSlot = this.aheadSlot, behindSlot = this.behindSlot;
+		for (let k = 0; k < 4; k++) {
+			aheadT[k] = tMaxAhead; behindT[k] = tMaxBehind; aheadSlot[k] = -1; behindSlot[k] = -1;
+		}
+		if (bvh.nodeCount === 0 || count[0] === 0) {
+			this.finishSamples();
+			return;
+		}
+		// Each box grows by the largest offset of an origin from the first on each axis, plus tMin
+		// for rounding (0 + tMin for one line).
+		let gx = 0, gy = 0, gz = 0;
+		for (let k = 3; k < o3; k += 3) {
+			gx = Math.max(gx, Math.abs(r[k] - ox)); gy = Math.max(gy, Math.abs(r[k + 1] - oy)); gz = Math.max(gz, Math.abs(r[k + 2] - oz));
+		}
+		gx += tMin; gy += tMin; gz += tMin;
+		const ix = Math.abs(dx) > 1e-300 ? 1 / dx : dx < 0 || Object.is(dx, -0) ? -1e300 : 1e300;
+		const iy = Math.abs(dy) > 1e-300 ? 1 / dy : dy < 0 || Object.is(dy, -0) ? -1e300 : 1e300;
+		const iz = Math.abs(dz) > 1e-300 ? 1 / dz : dz < 0 || Object.is(dz, -0) ? -1e300 : 1e300;
+		const minCos = this.minCos;
+		const stack = this.stack, sLo = this.stackT, sHi = this.stackHi;
+		// Signed search window (−behind, ahead), the widest over the lines; a box matters while its
+		// interval along the first line overlaps it.
+		let ahead = tMaxAhead, behind = tMaxBehind;
+		let sp = 0;
+		{
+			let t0 = (bounds[0] - gx - ox) * ix, t1 = (bounds[3] + gx - ox) * ix;
+			let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
+			t0 = (bounds[1] - gy - oy) * iy; t1 = (bounds[4] + gy - oy) * iy;
+			lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+			t0 = (bounds[2] - gz - oz) * iz; t1 = (bounds[5] + gz - oz) * iz;
+			lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+			if (hi < lo || lo > ahead || hi < -behind) {
+				this.finishSamples();
+				return;
+			}
+			stack[sp] = 0; sLo[sp] = lo; sHi[sp++] = hi;
+		}
+		while (sp > 0) {
+			--sp;
+			if (sLo[sp] > ahead || sHi[sp] < -behind) continue;
+			const node = stack[sp];
+			const fc = firstChild[node];
+			if (fc >= 0) {
+				// Push the child farther from o first (distance from 0 to its interval).
+				let loA = 0, hiA = 0, loB = 0, hiB = 0, okA = false, okB = false;
+				let o = 6 * fc;
+				{
+					let t0 = (bounds[o] - gx - ox) * ix, t1 = (bounds[o + 3] + gx - ox) * ix;
+					let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
+					t0 = (bounds[o + 1] - gy - oy) * iy; t1 = (bounds[o + 4] + gy - oy) * iy;
+					lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+					t0 = (bounds[o + 2] - gz - oz) * iz; t1 = (bounds[o + 5] + gz - oz) * iz;
+					lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+					if (hi >= lo && lo <= ahead && hi >= -behind) { okA = true; loA = lo; hiA = hi; }
+				}
+				o += 6;
+				{
+					let t0 = (bounds[o] - gx - ox) * ix, t1 = (bounds[o + 3] + gx - ox) * ix;
+					let lo = t0 < t1 ? t0 : t1, hi = t0 < t1 ? t1 : t0;
+					t0 = (bounds[o + 1] - gy - oy) * iy; t1 = (bounds[o + 4] + gy - oy) * iy;
+					lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+					t0 = (bounds[o + 2] - gz - oz) * iz; t1 = (bounds[o + 5] + gz - oz) * iz;
+					lo = Math.max(lo, t0 < t1 ? t0 : t1); hi = Math.min(hi, t0 < t1 ? t1 : t0);
+					if (hi >= lo && lo <= ahead && hi >= -behind) { okB = true; loB = lo; hiB = hi; }
+				}
+				if (sp + 2 > STACK_SIZE) throw new Error('ray traversal stack overflow');
+				const dA = loA > 0 ? loA : hiA < 0 ? -hiA : 0, dB = loB > 0 ? loB : hiB < 0 ? -hiB : 0;
+				if (okA && okB) {
+					if (dA <= dB) {
+						stack[sp] = fc + 1; sLo[sp] = loB; sHi[sp++] = hiB;
+						stack[sp] = fc; sLo[sp] = loA; sHi[sp++] = hiA;
+					} else {
+						stack[sp] = fc; sLo[sp] = loA; sHi[sp++] = hiA;
+						stack[sp] = fc + 1; sLo[sp] = loB; sHi[sp++] = hiB;
+					}
+				} else if (okA) {
+					stack[sp] = fc; sLo[sp] = loA; sHi[sp++] = hiA;
+				} else if (okB) {
+					stack[sp] = fc + 1; sLo[sp] = loB; sHi[sp++] = hiB;
+				}
+				continue;
+			}
+			for (let s = start[node], end = s + count[node]; s < end; s++) {
+				// Faces turned the wrong way (the measured face's own neighbours, mostly) leave here.
+				const s3 = 3 * s;
+				if (normals[s3] * dx + normals[s3 + 1] * dy + normals[s3 + 2] * dz > preCos) continue;
+				const va = vids[s3], vb = vids[s3 + 1], vc = vids[s3 + 2];
+				if (va === skipA || va === skipB || va === skipC || vb === skipA || vb === skipB || vb === skipC || vc === skipA || vc === skipB || vc === skipC) continue;
+				const o9 = 9 * s;
+				const ax = verts[o9], ay = verts[o9 + 1], az = verts[o9 + 2];
+				const e1x = verts[o9 + 3] - ax, e1y = verts[o9 + 4] - ay, e1z = verts[o9 + 5] - az;
+				const e2x = verts[o9 + 6] - ax, e2y = verts[o9 + 7] - ay, e2z = verts[o9 + 8] - az;
+				// Möller-Trumbore (1997); det = −d·(e1 × e2), the same for every line.
+				const px = dy * e2z - dz * e2y, py = dz * e2x - dx * e2z, pz = dx * e2y - dy * e2x;
+				const det = e1x * px + e1y * py + e1z * pz;
+				// n·d = −det must be ≤ −cos 60° · |n| on both sides: a cheap sign test first.
+				if (det <= 0) continue;
+				const nx = e1y * e2z - e1z * e2y, ny = e1z * e2x - e1x * e2z, nz = e1x * e2y - e1y * e2x;
+				if (det < minCos * Math.sqrt(nx * nx + ny * ny + nz * nz)) continue;
+				const inv = 1 / det;
+				let changed = false;
+				for (let k = 0, k3 = 0; k3 < o3; k++, k3 += 3) {
+					const qx = r[k3] - ax, qy = r[k3 + 1] - ay, qz = r[k3 + 2] - az;
+					const u = (qx * px + qy * py + qz * pz) * inv;
+					if (u < 0 || u > 1) continue;
+					const rx = qy * e1z - qz * e1y, ry = qz * e1x - qx * e1z, rz = qx * e1y - qy * e1x;
+					const v = (dx * rx + dy * ry + dz * rz) * inv;
+					if (v < 0 || u + v > 1) continue;
+					const t = (e2x * rx + e2y * ry + e2z * rz) * inv;
+					const at = t < 0 ? -t : t;
+					if (at < tMin) continue;
+					if (t > 0 ? t > aheadT[k] || (t === aheadT[k] && (aheadSlot[k] < 0 || faceOf[s] > faceOf[aheadSlot[k]])) : at > behindT[k] || (at === behindT[k] && (behindSlot[k] < 0 || faceOf[s] > faceOf[behindSlot[k]]))) continue;
+					if (t > 0) {
+						aheadT[k] = t;
+						aheadSlot[k] = s;
+					} else {
+						behindT[k] = at;
+						behindSlot[k] = s;
+					}
+					changed = true;
+				}
+				if (changed) {
+					ahead = aheadT[0]; behind = behindT[0];
+					for (let k = 1; k < lines; k++) {
+						if (aheadT[k] > ahead) ahead = aheadT[k];
+						if (behindT[k] > behind) behind = behindT[k];
+					}
+				}
+			}
+		}
+		this.finishSamples();
+	}
+
+	/** Slots to faces; Infinity for a line with no hit inside its window. */
+	private finishSamples(): void {
+		for (let k = 0; k < 4; k++) {
+			const a = this.aheadSlot[k], b = this.behindSlot[k];
+			if (a < 0) this.aheadT[k] = Infinity;
+			this.aheadFace[k] = a < 0 ? -1 : this.rb.faceOf[a];
+			if (b < 0) this.behindT[k] = Infinity;
+			this.behindFace[k] = b < 0 ? -1 : this.rb.faceOf[b];
 		}
 	}
 }
@@ -458,7 +646,7 @@ function emptyDistances(n: number): FaceDistances {
 
 /**
  * Wall thickness and gap of every face in one pass: one line query per sample along the normal
- * (RayQuery.castLine), the same values as faceDistances 'inward' and 'outward'. `rays` counts
+ * (RayQuery.castSamples), the same values as faceDistances 'inward' and 'outward'. `rays` counts
  * line queries (each serves both); `ms` of each result is the shared time.
  */
 export function faceDistancesBoth(mesh: MeshBuffers, opts: FaceDistanceOptions): { thickness: FaceDistances; gap: FaceDistances } {
@@ -485,6 +673,7 @@ export type DistanceArrays = Pick<FaceDistances, 'value' | 'hitFace' | 'from'>;
  */
 export function distancesBothRange(rb: RayBvh, s0: number, s1: number, cellSize: number, tMax: number, th: DistanceArrays, gp: DistanceArrays): number {
 	const q = new RayQuery(rb);
+	const line = q.line;
 	const cell2 = cellSize * cellSize;
 	let rays = 0;
 	const { verts, vids, faceOf } = rb;
@@ -498,21 +687,31 @@ export function distancesBothRange(rb: RayBvh, s0: number, s1: number, cellSize:
 		if (!(len > 0)) continue;
 		nx /= len; ny /= len; nz /= len;
 		const gx = (ax + bx + cx) / 3, gy = (ay + by + cy) / 3, gz = (az + bz + cz) / 3;
-		q.castLine(gx, gy, gz, nx, ny, nz, tMax, tMax, a, b, c);
-		rays++;
-		let gT = q.aheadT, gF = q.aheadFace, gX = gx, gY = gy, gZ = gz;
-		let wT = q.behindT, wF = q.behindFace, wX = gx, wY = gy, wZ = gz;
 		const e3x = cx - bx, e3y = cy - by, e3z = cz - bz;
 		const longest2 = Math.max(e1x * e1x + e1y * e1y + e1z * e1z, e2x * e2x + e2y * e2y + e2z * e2z, e3x * e3x + e3y * e3y + e3z * e3z);
+		// The centroid, and for a face longer than a cell the points halfway to its corners, in one traversal.
+		let gT: number, gF: number, gX = gx, gY = gy, gZ = gz;
+		let wT: number, wF: number, wX = gx, wY = gy, wZ = gz;
 		if (longest2 > cell2) {
-			for (let k = 0; k < 3; k++) {
-				const vx = k === 0 ? ax : k === 1 ? bx : cx, vy = k === 0 ? ay : k === 1 ? by : cy, vz = k === 0 ? az : k === 1 ? bz : cz;
-				const sx = (gx + vx) / 2, sy = (gy + vy) / 2, sz = (gz + vz) / 2;
-				q.castLine(sx, sy, sz, nx, ny, nz, Math.min(tMax, gT), Math.min(tMax, wT), a, b, c);
-				rays++;
-				if (q.aheadT < gT) { gT = q.aheadT; gF = q.aheadFace; gX = sx; gY = sy; gZ = sz; }
-				if (q.behindT < wT) { wT = q.behindT; wF = q.behindFace; wX = sx; wY = sy; wZ = sz; }
+			line[0] = gx; line[1] = gy; line[2] = gz;
+			line[3] = (gx + ax) / 2; line[4] = (gy + ay) / 2; line[5] = (gz + az) / 2;
+			line[6] = (gx + bx) / 2; line[7] = (gy + by) / 2; line[8] = (gz + bz) / 2;
+			line[9] = (gx + cx) / 2; line[10] = (gy + cy) / 2; line[11] = (gz + cz) / 2;
+			line[12] = nx; line[13] = ny; line[14] = nz; line[15] = tMax; line[16] = tMax;
+			q.castSamples(4, a, b, c);
+			rays += 4;
+			// The smallest over the samples, the first sample on a tie.
+			gT = q.aheadT[0]; gF = q.aheadFace[0];
+			wT = q.behindT[0]; wF = q.behindFace[0];
+			for (let k = 1; k < 4; k++) {
+				if (q.aheadT[k] < gT) { gT = q.aheadT[k]; gF = q.aheadFace[k]; gX = line[3 * k]; gY = line[3 * k + 1]; gZ = line[3 * k + 2]; }
+				if (q.behindT[k] < wT) { wT = q.behindT[k]; wF = q.behindFace[k]; wX = line[3 * k]; wY = line[3 * k + 1]; wZ = line[3 * k + 2]; }
 			}
+		} else {
+			q.castLine(gx, gy, gz, nx, ny, nz, tMax, tMax, a, b, c);
+			rays++;
+			gT = q.lineAheadT; gF = q.lineAheadFace;
+			wT = q.lineBehindT; wF = q.lineBehindFace;
 		}
 		if (gF >= 0) {
 			gp.value[t] = gT; gp.hitFace[t] = gF;

@@ -191,6 +191,9 @@ describe('advice that fits the mesh', () => {
 		expect(r.selfIntersectingPairs).toBeGreaterThan(0);
 		expect(r.selfIntersectionSample.every((x) => x.shells[0] !== x.shells[1])).toBe(true);
 		expect(r.hints.map((h) => h.kind)).toEqual(['separate-bodies', 'overlapping-bodies']);
+		// Not "if this is an assembly, that is expected": these bodies cross.
+		expect(r.hints[0].message).not.toContain('that is expected');
+		expect(r.hints[0].message).toContain('pass into each other');
 		const o = evaluateGate(r, DEFAULT_GATE_RULES, ctx).find((x) => x.rule === 'no-self-intersections')!;
 		expect(o.passed).toBe(false);
 		expect(o.explanation).toContain('2 separate bodies pass into each other');

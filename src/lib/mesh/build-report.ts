@@ -7,7 +7,7 @@ import { analyseTopology, collapsedFaces, type TopologyResult } from './topology
 import type { EdgeTable } from './edges';
 import { measureEdges, measureFaces, type FaceMeasures } from './quality';
 import { frontalArea, REFINE, type SilhouetteScratch } from './projection';
-import { buildHints, overlappingBodiesHint } from './hints';
+import { buildHints, overlappingBodiesHint, SEPARATE_BODIES_ASSEMBLY, SEPARATE_BODIES_OVERLAPPING } from './hints';
 import { exactWeldMap } from './weld';
 import { DEFAULT_TOLERANCES } from './tolerances';
 import {
@@ -187,6 +187,8 @@ export function attachSelfIntersections(report: InspectionReport, si: SelfInters
 	if (hint) {
 		const after = report.hints.findIndex((h) => h.kind === 'separate-bodies');
 		report.hints.splice(after < 0 ? report.hints.length : after + 1, 0, hint);
+		// "If this is an assembly, that is expected" is not true of bodies that cross.
+		if (after >= 0) report.hints[after].message = report.hints[after].message.replace(SEPARATE_BODIES_ASSEMBLY, SEPARATE_BODIES_OVERLAPPING);
 	}
 }
 

@@ -142,7 +142,7 @@ export function buildHints(inp: HintInput): Hint[] {
 			for (let s = 0; s < areas.length; s++) if (!speckSet.has(s)) bodyArea += areas[s];
 			hints.push({
 				kind: 'separate-bodies',
-				message: `The mesh is made of ${int(bodies)} separate bodies that share no edge; the largest holds ${pct(largest / total)} of the area and the others ${pct((bodyArea - largest) / total)}. Each becomes a body of its own in the flow. If they are meant to be one part, join them upstream; if this is an assembly, that is expected.`,
+				message: `The mesh is made of ${int(bodies)} separate bodies that share no edge; the largest holds ${pct(largest / total)} of the area and the others ${pct((bodyArea - largest) / total)}. Each becomes a body of its own in the flow. ${SEPARATE_BODIES_ASSEMBLY}`,
 				count: bodies,
 				areaShare: (bodyArea - largest) / total
 			});
@@ -268,6 +268,10 @@ export function buildHints(inp: HintInput): Hint[] {
 	}
 	return hints;
 }
+
+/** The separate-bodies hint's last sentence, and what replaces it when the bodies also pass into each other. */
+export const SEPARATE_BODIES_ASSEMBLY = 'If they are meant to be one part, join them upstream; if this is an assembly, that is expected.';
+export const SEPARATE_BODIES_OVERLAPPING = 'If they are meant to be one part, join them upstream; an assembly has bodies of its own, but these pass into each other (next hint).';
 
 /**
  * Separate bodies that pass into each other: listed crossing pairs whose two faces lie in different

@@ -32,6 +32,15 @@ describe('engine threads kept between tasks', () => {
 		expect(pool.idleCount).toBe(1);
 	});
 
+	it('refuses bytes already handed to a thread (detached) with a clear error, and keeps the thread', async () => {
+		const bytes = writeBinaryStl(unitCube());
+		await pool.run(check(bytes), limits, () => {});
+		await expect(pool.run(check(bytes), limits, () => {})).rejects.toThrow(/fresh copy/);
+		expect(pool.idleCount).toBe(1);
+		const again = await pool.run<InspectionReport>(check(writeBinaryStl(unitCube())), limits, () => {});
+		expect(again.faces).toBe(12);
+	});
+
 	it.runIf(process.platform === 'linux')('lowers the engine thread priority by the configured niceness', async () => {
 		await pool.run(check(writeBinaryStl(unitCube())), limits, () => {});
 		expect(Math.max(...threadNiceValues())).toBeGreaterThanOrEqual(7);

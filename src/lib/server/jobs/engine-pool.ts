@@ -157,6 +157,13 @@ export class EnginePool {
 			w.on('exit', onExit);
 			w.ref();
 			if (input.bytes.byteLength >= (this.opts.retireBytes ?? DEFAULT_RETIRE_BYTES)) slot.big = true;
+			// Bytes handed over once are detached here (a caller reusing them): postMessage would drop
+			// the task without a word and the check would wait out its time limit. The thread never
+			// sees it and stays kept.
+			if (isDetached(input.bytes.buffer)) {
+				finish(true, () => reject(new Error('The mesh bytes were already handed to an engine thread; pass a fresh copy.')));
+				return;
+			}
 			w.postMessage({ id, input } satisfies EngineRequest, [input.bytes.buffer as ArrayBuffer]);
 		});
 	}
@@ -236,5 +243,15 @@ export class EnginePool {
 			slot.idleTimer.unref();
 		}
 		this.idle.push(slot);
+	}
+}
+
+/** Whether a buffer was transferred away (slice throws on a detached ArrayBuffer). */
+function isDetached(buf: ArrayBufferLike): boolean {
+	try {
+		buf.slice(0, 0);
+		return false;
+	} catch {
+		return true;
 	}
 }

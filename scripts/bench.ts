@@ -29,7 +29,10 @@ interface SizeSpec {
 }
 
 const SIZES: SizeSpec[] = [
+	{ id: '10k', targetTris: 10_000, shape: () => towBody(1) },
+	{ id: '20k', targetTris: 20_000, shape: () => towBody(1) },
 	{ id: '35k', targetTris: 35_000, shape: () => towBody(1) },
+	{ id: '60k', targetTris: 60_000, shape: () => towBody(1) },
 	{ id: '90k', targetTris: 90_000, shape: () => towBody(1) },
 	{ id: '100k', targetTris: 100_000, shape: () => towBody(1) },
 	{ id: '200k', targetTris: 200_000, shape: () => towBody(1) },
@@ -37,21 +40,27 @@ const SIZES: SizeSpec[] = [
 	{ id: '2m', targetTris: 2_000_000, shape: () => towBody(1) }
 ];
 
-/** 100k stays available (BENCH_SIZES=100k) for the figures quoted beside the cell-size checks. */
+/**
+ * 100k stays available (BENCH_SIZES=100k) for the figures quoted beside the cell-size checks;
+ * 10k, 20k and 60k for where the command line's worker beside its other stages pays.
+ */
 const DEFAULT_SIZES = ['35k', '90k', '200k', '1m', '2m'];
 
 /**
  * cli-1t and cli-workers: the command line with the self-intersections forced onto the calling
  * thread alone or onto worker threads, at the sizes around the switch between them
- * (SELF_INTERSECT_WORKER_MIN_FACES, inspect-node.ts), to show where workers pay.
+ * (SELF_INTERSECT_WORKER_MIN_FACES, inspect-node.ts), to show where workers pay; cli-alongside:
+ * on one worker beside the other stages from any size (SELF_INTERSECT_ALONGSIDE_MIN_FACES).
  */
 const CLI_VARIANTS: Record<string, { args: string[]; sizes: string[] }> = {
 	cli: { args: [], sizes: [] },
-	'cli-1t': { args: ['--threads', '0'], sizes: ['35k', '90k', '200k'] },
-	'cli-workers': { args: ['--worker-min-faces', '0'], sizes: ['35k', '90k', '200k'] }
+	'cli-1t': { args: ['--threads', '0'], sizes: ['10k', '20k', '35k', '60k', '90k', '200k'] },
+	'cli-workers': { args: ['--worker-min-faces', '0'], sizes: ['35k', '90k', '200k'] },
+	// One worker for the self-intersections beside the other stages from any size (when a core looks free).
+	'cli-alongside': { args: ['--alongside-min-faces', '0'], sizes: ['10k', '20k', '35k', '60k', '90k', '200k'] }
 };
 
-const CASE_ORDER = ['cli', 'cli-1t', 'cli-workers', 'report', 'report-warm', 'check-warm', 'server-start', 'self-intersect-1t', 'self-intersect-2w'];
+const CASE_ORDER = ['cli', 'cli-1t', 'cli-workers', 'cli-alongside', 'report', 'report-warm', 'check-warm', 'server-start', 'self-intersect-1t', 'self-intersect-2w'];
 
 /** Bump when the generator or shapes change, so cached meshes in bench-out/ are rebuilt. */
 const GEN_VERSION = 2;

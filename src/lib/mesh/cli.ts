@@ -1,21 +1,21 @@
 /**
- * `npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--worker-min-faces N] [--no-self-intersections]`
+ * `npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--worker-min-faces N] [--alongside-min-faces N] [--no-self-intersections]`
  * Prints a readable summary, or one JSON report on stdout with --json. Exit 0 when the file was
  * read and inspected, 2 with the message on stderr when not.
  */
 import { readFileSync, writeSync } from 'node:fs';
 import { isMainThread } from 'node:worker_threads';
-import { inspectFileNode, type InspectNodeOptions } from './inspect-node';
+import { inspectFileNode, SELF_INTERSECT_ALONGSIDE_MIN_FACES, type InspectNodeOptions } from './inspect-node';
 import { volumeReasonText, type InspectionReport, type Vec3 } from './report-types';
 
-const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--worker-min-faces N] [--no-self-intersections]';
+const USAGE = 'usage: npm run -s inspect -- FILE [--json] [--flow x,y,z] [--min-edge L] [--cell-size H] [--max-faces N] [--threads N] [--worker-min-faces N] [--alongside-min-faces N] [--no-self-intersections]';
 
 class UsageError extends Error {}
 
 function parseArgs(argv: string[]): { file: string; json: boolean; opts: InspectNodeOptions } {
 	let file: string | null = null;
 	let json = false;
-	const opts: InspectNodeOptions = {};
+	const opts: InspectNodeOptions = { alongsideMinFaces: SELF_INTERSECT_ALONGSIDE_MIN_FACES };
 	const num = (flag: string, v: string | undefined): number => {
 		const n = Number(v);
 		if (v === undefined || v.trim() === '' || !Number.isFinite(n)) throw new UsageError(`${flag} needs a number, got ${v === undefined ? 'nothing' : `'${v}'`}`);
@@ -34,6 +34,7 @@ function parseArgs(argv: string[]): { file: string; json: boolean; opts: Inspect
 		else if (a === '--max-faces') opts.maxFaces = num('--max-faces', argv[++i]);
 		else if (a === '--threads') opts.threads = num('--threads', argv[++i]);
 		else if (a === '--worker-min-faces') opts.workerMinFaces = num('--worker-min-faces', argv[++i]);
+		else if (a === '--alongside-min-faces') opts.alongsideMinFaces = num('--alongside-min-faces', argv[++i]);
 		else if (a === '--help' || a === '-h') throw new UsageError(USAGE);
 		else if (a.startsWith('--')) throw new UsageError(`unknown option ${a}\n${USAGE}`);
 		else if (file === null) file = a;

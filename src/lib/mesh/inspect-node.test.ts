@@ -37,6 +37,22 @@ describe('inspectFileNode', () => {
 		expect(strip(one)).toEqual(strip(workers));
 	});
 
+	it('counts on one worker beside the other stages when a core is free (alongsideMinFaces), with the same report, and not when none is', async () => {
+		const a = icosphere(3);
+		const b = icosphere(3);
+		for (let i = 0; i < b.positions.length; i += 3) b.positions[i] += 1;
+		const bytes = writeBinaryStl(concat(a, b));
+		const one = await inspectFileNode(bytes, 'pods.stl', { threads: 0 });
+		const beside = await inspectFileNode(bytes, 'pods.stl', { alongsideMinFaces: 0, coreIsFree: () => true });
+		const busy = await inspectFileNode(bytes, 'pods.stl', { alongsideMinFaces: 0, coreIsFree: () => false });
+		const small = await inspectFileNode(bytes, 'pods.stl', { alongsideMinFaces: 1e6, coreIsFree: () => true });
+		expect(beside.timings.selfIntersectionsWait).toBeDefined();
+		for (const r of [one, busy, small]) expect(r.timings.selfIntersectionsWait).toBeUndefined();
+		expect(beside.selfIntersectingPairs).toBeGreaterThan(0);
+		const strip = (r: typeof one) => ({ ...r, timings: {}, selfIntersectionSample: r.selfIntersectionSample.length });
+		for (const r of [beside, busy, small]) expect(strip(r)).toEqual(strip(one));
+	});
+
 	it('gives the same report with the wall-and-gap rays on a kept worker beside the report, and hands the worker back', async () => {
 		// 48,000 faces: more than one chunk of rays, so the worker takes part.
 		const bytes = writeBinaryStl(concat(torus(200, 120, 2, 0.4), icosphere(3, 1)));

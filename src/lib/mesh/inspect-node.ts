@@ -3,7 +3,7 @@
  * projections run on the calling thread, which then joins the self-intersection traversal for
  * whatever is left of it; the report is the same as inspectBytes gives.
  */
-import { availableParallelism } from 'node:os';
+import { availableParallelism, loadavg } from 'node:os';
 import { readMesh } from './read';
 import { findSelfIntersections } from './self-intersect';
 import { startSelfIntersections, warmSelfIntersectPool } from './self-intersect-node';
@@ -35,6 +35,16 @@ export interface InspectNodeOptions extends InspectRunOptions {
 	 * warm-up starts it), never a cold one. Same results.
 	 */
 	wallsAlongside?: boolean;
+	/**
+	 * Below the worker switch, from this many faces, count the self-intersections on one worker
+	 * thread while this thread builds the rest of the report, when a core looks free (the
+	 * one-minute load average under the cores less a half: a worker on a busy machine only adds
+	 * its start-up). Off unless set (the command line sets SELF_INTERSECT_ALONGSIDE_MIN_FACES; a
+	 * kept engine thread runs its wall-and-gap rays alongside instead). Same results.
+	 */
+	alongsideMinFaces?: number;
+	/** Whether a core is free for alongsideMinFaces (default: the load average test above). */
+	coreIsFree?: () => boolean;
 	/** Stage names: read, topology, measures, shells, projection, hints, self-intersections, done. */
 	onProgress?: (stage: string, percent: number) => void;
 	signal?: AbortSignal;
@@ -46,15 +56,20 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 	const maxThreads = opts.threads ?? defaultSelfIntersectThreads();
 	const minFaces = opts.workerMinFaces ?? SELF_INTERSECT_WORKER_MIN_FACES;
 	const sampleLimit = opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT;
+	const alongsideMin = opts.alongsideMinFaces ?? Infinity;
+	const alongside = !opts.skipSelfIntersections && maxThreads > 0 && alongsideMin < minFaces && (opts.coreIsFree ?? coreLooksFree)();
 	// Worker start-up (module loading in each thread) then overlaps reading the file, when the
 	// file can hold enough faces to use them.
-	if (!opts.skipSelfIntersections && maxThreads > 0 && maxFacesIn(bytes, fileName) >= minFaces) warmSelfIntersectPool(maxThreads);
+	const bound = maxFacesIn(bytes, fileName);
+	if (!opts.skipSelfIntersections && maxThreads > 0 && bound >= minFaces) warmSelfIntersectPool(maxThreads);
+	else if (alongside && bound >= alongsideMin) warmSelfIntersectPool(1);
 	progress('read', 0);
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
 	const parsed = readMesh(bytes, fileName, { maxFaces });
 	const timings: Record<string, number> = { ...(opts.timings ?? {}), read: performance.now() - t0 };
 	validateMesh(parsed, { maxFaces });
-	const threads = parsed.indices.length / 3 >= minFaces ? maxThreads : 0;
+	const faceCount = parsed.indices.length / 3;
+	const threads = faceCount >= minFaces ? maxThreads : alongside && faceCount >= alongsideMin ? 1 : 0;
 	// Started before the synchronous analysis below so the workers run alongside it. A rejection
 	// is caught here and rethrown at the await, so it never goes unhandled meanwhile.
 	const siRun = opts.skipSelfIntersections || threads === 0 ? null : startSelfIntersections(parsed, { sampleLimit, threads, signal: opts.signal });
@@ -126,6 +141,17 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 	report.timings.total = performance.now() - t0;
 	progress('done', 100);
 	return report;
+}
+
+/**
+ * Faces from which the command line counts self-intersections on one worker thread beside its
+ * other stages when a core looks free (InspectNodeOptions.alongsideMinFaces): README, "Engine bench".
+ */
+export const SELF_INTERSECT_ALONGSIDE_MIN_FACES = 20_000;
+
+/** A core is likely idle: the one-minute load average is under the cores less a half. */
+function coreLooksFree(): boolean {
+	return loadavg()[0] < availableParallelism() - 0.5;
 }
 
 /** One self-intersection worker per core. */

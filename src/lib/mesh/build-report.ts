@@ -214,7 +214,8 @@ export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = 
 
 	progress('measures', 45);
 	t0 = performance.now();
-	const fm = measureFaces(parsed.positions, parsed.indices, collapsed.mask);
+	const allReferenced = topo.referencedVertices === vertCount;
+	const fm = measureFaces(parsed.positions, parsed.indices, collapsed.mask, allReferenced);
 	const em = measureEdges(parsed.positions, topo.edges, tol.minEdgeLength);
 	timings.measures = performance.now() - t0;
 
@@ -280,7 +281,7 @@ export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = 
 
 	progress('projection', 70);
 	t0 = performance.now();
-	const scratch: SilhouetteScratch = { proj: new Float64Array(0), grid: new Uint8Array(0) };
+	const scratch: SilhouetteScratch = { proj: new Float64Array(0), grid: new Uint8Array(0), allReferenced };
 	const oneSided = new Uint8Array(triCount);
 	closedShellFaces(sh.faceShell, sh.boundaryEdges, sh.nonManifoldEdges, sh.inconsistentEdges, oneSided);
 	const cells = tol.rasterCells;

@@ -127,17 +127,29 @@ export function exactWeldPreview(parsed: ParsedMesh): ExactWeldPreview | null {
 }
 
 /**
- * Per shell: area, signed volume and bbox ([x0, y0, z0, x1, y1, z1] per shell, set to ±Infinity
- * beforehand). A function of its own, so a fresh process optimises this loop alone rather than
- * all of buildReport.
+ * Per shell: area and signed volume (the bbox: shellBoxes). A function of its own, so a fresh
+ * process optimises this loop alone rather than all of buildReport.
  */
-function shellSums(p: Float64Array, idx: Uint32Array, faceShell: Int32Array, faceArea: Float64Array, faceVolume: Float64Array, sArea: Float64Array, sVol: Float64Array, sBox: Float64Array): void {
+function shellSums(faceShell: Int32Array, faceArea: Float64Array, faceVolume: Float64Array, sArea: Float64Array, sVol: Float64Array): void {
 	const triCount = faceShell.length;
 	for (let t = 0; t < triCount; t++) {
 		const s = faceShell[t];
 		if (s < 0) continue;
 		sArea[s] += faceArea[t];
 		sVol[s] += faceVolume[t];
+	}
+}
+
+/**
+ * Per shell bbox through the corners of its faces, [x0, y0, z0, x1, y1, z1] per shell, set to
+ * ±Infinity beforehand (a function of its own, as shellSums). Not needed for a single shell
+ * holding every vertex: its bbox is then the mesh's.
+ */
+function shellBoxes(p: Float64Array, idx: Uint32Array, faceShell: Int32Array, sBox: Float64Array): void {
+	const triCount = faceShell.length;
+	for (let t = 0; t < triCount; t++) {
+		const s = faceShell[t];
+		if (s < 0) continue;
 		const b6 = 6 * s;
 		for (let k = 0; k < 3; k++) {
 			const v3 = 3 * idx[3 * t + k];
@@ -216,7 +228,8 @@ export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = 
 
 	progress('measures', 45);
 	t0 = performance.now();
-	const fm = measureFaces(parsed.positions, parsed.indices, collapsed.mask);
+	const allReferenced = topo.referencedVertices === vertCount;
+	const fm = measureFaces(parsed.positions, parsed.indices, collapsed.mask, allReferenced);
 	const em = measureEdges(parsed.positions, topo.edges, tol.minEdgeLength);
 	timings.measures = performance.now() - t0;
 
@@ -231,7 +244,15 @@ export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = 
 		sBox[6 * s + 3] = sBox[6 * s + 4] = sBox[6 * s + 5] = -Infinity;
 	}
 	const p = parsed.positions, idx = parsed.indices;
-	shellSums(p, idx, sh.faceShell, fm.faceArea, fm.faceVolume, sArea, sVol, sBox);
+	shellSums(sh.faceShell, fm.faceArea, fm.faceVolume, sArea, sVol);
+	// One shell and every vertex used by an active face (so by that shell): the same set of
+	// coordinates as the mesh's bbox, which the measures already found.
+	if (shellCount === 1 && allReferenced) {
+		for (let a = 0; a < 3; a++) {
+			sBox[a] = fm.bbox.min[a];
+			sBox[3 + a] = fm.bbox.max[a];
+		}
+	} else shellBoxes(p, idx, sh.faceShell, sBox);
 	const shells: ShellInfo[] = [];
 	let genusSum: number | null = 0, wettedArea = 0;
 	let reason: VolumeUndefinedReason | null = null;
@@ -282,7 +303,7 @@ export function buildReportParts(parsed: ParsedMesh, opts: BuildReportOptions = 
 
 	progress('projection', 70);
 	t0 = performance.now();
-	const scratch: SilhouetteScratch = { proj: new Float64Array(0), grid: new Uint8Array(0) };
+	const scratch: SilhouetteScratch = { proj: new Float64Array(0), grid: new Uint8Array(0), allReferenced };
 	const oneSided = new Uint8Array(triCount);
 	closedShellFaces(sh.faceShell, sh.boundaryEdges, sh.nonManifoldEdges, sh.inconsistentEdges, oneSided);
 	const cells = tol.rasterCells;

@@ -110,6 +110,11 @@ export interface SilhouetteScratch {
 	fine?: Uint8Array;
 	/** The slabs' buffers. */
 	slabs?: SlabScratch;
+	/**
+	 * Every vertex is used by a face (topology's referencedVertices equals the vertex count): the
+	 * projected box is then taken over the projected vertices in order, not through the corners.
+	 */
+	allReferenced?: boolean;
 }
 
 export function silhouetteArea(
@@ -132,7 +137,7 @@ export function silhouetteArea(
 	const [u, w] = basisFor(direction);
 	const proj = scratch && scratch.proj.length >= 2 * vertCount ? scratch.proj : new Float64Array(2 * vertCount);
 	projectVertices(positions, vertCount, u[0], u[1], u[2], w[0], w[1], w[2], proj);
-	const box = projectedBox(proj, indices, BOX);
+	const box = scratch?.allReferenced ? pointBox(proj, vertCount, BOX) : projectedBox(proj, indices, BOX);
 	const x0 = box[0], y0 = box[1], x1 = box[2], y1 = box[3];
 	if (!(x1 > x0) || !(y1 > y0)) return { area: 0, errorBound: 0, cellsX: 0, cellsY: 0, cellSize: 0 };
 	const h = Math.max(x1 - x0, y1 - y0) / cells;
@@ -221,6 +226,27 @@ function projectedBox(proj: Float64Array, indices: Uint32Array, out: Float64Arra
 	for (let i = 0; i < indices.length; i++) {
 		const v2 = 2 * indices[i];
 		const a = proj[v2], b = proj[v2 + 1];
+		if (a < x0) out[0] = x0 = a;
+		if (a > x1) out[2] = x1 = a;
+		if (b < y0) out[1] = y0 = b;
+		if (b > y1) out[3] = y1 = b;
+	}
+	return out;
+}
+
+/**
+ * Bounds of all projected vertices, out = [x0, y0, x1, y1]: projectedBox's result when every
+ * vertex is used by a face (the same values in another order; at most the sign of a zero bound
+ * differs, which no later step can see).
+ */
+function pointBox(proj: Float64Array, vertCount: number, out: Float64Array): Float64Array {
+	let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+	out[0] = x0;
+	out[1] = y0;
+	out[2] = x1;
+	out[3] = y1;
+	for (let v = 0; v < vertCount; v++) {
+		const a = proj[2 * v], b = proj[2 * v + 1];
 		if (a < x0) out[0] = x0 = a;
 		if (a > x1) out[2] = x1 = a;
 		if (b < y0) out[1] = y0 = b;

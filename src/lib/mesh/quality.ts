@@ -3,7 +3,7 @@
  * edge-length and face-quality histograms. One pass each, O(F + E).
  */
 import { isDegenerateTriangle } from './predicates';
-import { indexedBounds } from './bounds';
+import { indexedBounds, pointBounds } from './bounds';
 import type { EdgeTable } from './edges';
 import type { Bbox, Histogram } from './report-types';
 import { EDGE_LENGTH_BINS as EDGE_LENGTH_BINS_IMPORT, FACE_QUALITY_BINS as FACE_QUALITY_BINS_IMPORT } from './tolerances';
@@ -29,16 +29,23 @@ export interface FaceMeasures {
 	faceVolume: Float64Array;
 }
 
-/** Bbox of the vertices the faces reference (unreferenced vertices do not count). */
-export function referencedBbox(positions: Float64Array, indices: Uint32Array): Bbox {
-	const [x0, y0, z0, x1, y1, z1] = indexedBounds(positions, indices);
+/**
+ * Bbox of the vertices the faces reference (unreferenced vertices do not count). With
+ * `allReferenced` (the caller knows every vertex is used by a face, e.g. topology's
+ * referencedVertices equals the vertex count) the vertices are scanned in order instead of through
+ * the corners: the same set of values, so the same bounds, from a sixth of the reads and none of
+ * them scattered.
+ */
+export function referencedBbox(positions: Float64Array, indices: Uint32Array, allReferenced = false): Bbox {
+	const [x0, y0, z0, x1, y1, z1] = allReferenced ? pointBounds(positions) : indexedBounds(positions, indices);
 	if (x0 > x1) return { min: [0, 0, 0], max: [0, 0, 0] };
 	return { min: [x0, y0, z0], max: [x1, y1, z1] };
 }
 
-export function measureFaces(positions: Float64Array, indices: Uint32Array, skipFace: Uint8Array): FaceMeasures {
+/** `allReferenced`: every vertex is used by a face (see referencedBbox); only makes the bbox faster. */
+export function measureFaces(positions: Float64Array, indices: Uint32Array, skipFace: Uint8Array, allReferenced = false): FaceMeasures {
 	const triCount = (indices.length / 3) | 0;
-	const bbox = referencedBbox(positions, indices);
+	const bbox = referencedBbox(positions, indices, allReferenced);
 	// Volume about the bbox centre: translation-invariant for closed shells, smaller rounding.
 	const ox = 0.5 * (bbox.min[0] + bbox.max[0]);
 	const oy = 0.5 * (bbox.min[1] + bbox.max[1]);

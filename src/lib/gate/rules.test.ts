@@ -199,6 +199,11 @@ describe('advice that fits the mesh', () => {
 		expect(o.explanation).toContain('2 separate bodies pass into each other');
 		expect(o.explanation).toContain('boolean union');
 		expect(o.explanation).not.toContain('folds through itself');
+		// The shell rule does not offer "raise the shell limit" for bodies that cross.
+		const shells = evaluateGate(r, { ...DEFAULT_GATE_RULES, maxShells: 1 }, ctx).find((x) => x.rule === 'max-shells')!;
+		expect(shells.passed).toBe(false);
+		expect(shells.explanation).toContain('pass into each other');
+		expect(shells.explanation).not.toContain('raise this project');
 	});
 
 	it('keeps the fold advice for a surface pushed through itself (one shell)', () => {

@@ -296,7 +296,7 @@ export function evaluateGate(r: InspectionReport, rules: GateRules, ctx: GateCon
 					: `The mesh has ${plural(r.components, 'separate surface')} where at most ${rules.maxShells} ${rules.maxShells === 1 ? 'is' : 'are'} expected. ${tiny ? tiny.message + ' ' : ''}${
 						tiny
 							? 'Loose specks become extra bodies in the flow and waste cells; removing them (a repair step, or filtering small components upstream) changes the shape very little.'
-							: `The shells other than the largest make up ${fmtPercent(restShare)} of the area (the smallest is ${fmtArea(smallest, u, { scale: size })}), so they look like separate bodies rather than specks: each becomes its own body in the flow. If the case is meant to have one body, join them upstream; if it is an assembly, raise this project's shell limit.`
+							: `The shells other than the largest make up ${fmtPercent(restShare)} of the area (the smallest is ${fmtArea(smallest, u, { scale: size })}), so they look like separate bodies rather than specks: each becomes its own body in the flow. ${r.hints.some((h) => h.kind === 'overlapping-bodies') ? 'They also pass into each other (see the self-intersection rule), so raising the shell limit would not make this a clean assembly: unite them or move them apart upstream.' : "If the case is meant to have one body, join them upstream; if it is an assembly, raise this project's shell limit."}`
 					}`,
 			location: null
 		});

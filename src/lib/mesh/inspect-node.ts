@@ -18,9 +18,9 @@ import { startFaceDistancesParallel, type DistanceRun } from './thickness-node';
 
 export interface InspectNodeOptions extends InspectRunOptions {
 	/**
-	 * Worker threads for self-intersections beside the calling thread; default one per core. The
-	 * calling thread also joins the traversal once its own stages are done. 0: the calling thread
-	 * alone, after its other stages.
+	 * Worker threads for self-intersections beside the calling thread; default one per core less
+	 * the calling thread's own (defaultSelfIntersectThreads). The calling thread also joins the
+	 * traversal once its own stages are done. 0: the calling thread alone, after its other stages.
 	 */
 	threads?: number;
 	/**
@@ -131,7 +131,9 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 		const t1 = walls ? wallsT0 : performance.now();
 		const tJoin = performance.now();
 		const thinCells = opts.thinCells ?? DEFAULT_THIN_CELLS;
-		const run = walls ?? startFaceDistancesParallel(parsed, { cellSize, maxDistance, threads: Math.max(1, threads) });
+		// On the worker path the rays take the same threads in all: the workers and this one.
+		const rayThreads = faceCount >= minFaces ? threads + 1 : 1;
+		const run = walls ?? startFaceDistancesParallel(parsed, { cellSize, maxDistance, threads: rayThreads });
 		const distances = await run.finish();
 		if (walls) report.timings.wallsWait = performance.now() - tJoin;
 		const res = analyseCellSize(parsed, { cellSize, thinCells, maxDistance, distances, edges: byproducts.edges });
@@ -154,9 +156,14 @@ function coreLooksFree(): boolean {
 	return loadavg()[0] < availableParallelism() - 0.5;
 }
 
-/** One self-intersection worker per core. */
+/**
+ * One self-intersection worker per core beside the calling thread's own (at least one): the
+ * calling thread spends the stage building the rest of the report, so one worker per core
+ * oversubscribes the cores until it is done. On 2 cores, 1 M triangles, whole process: 1 worker
+ * against 2, 0.89× the wall (README, "Engine bench").
+ */
 export function defaultSelfIntersectThreads(): number {
-	return availableParallelism();
+	return Math.max(1, availableParallelism() - 1);
 }
 
 /**

@@ -52,10 +52,11 @@ export const config = {
 	},
 	/**
 	 * Worker threads one check starts for its self-intersection stage, beside the engine thread
-	 * (which joins the traversal once its own stages are done). Default: one per core.
+	 * (which joins the traversal once its own stages are done). Default: one per core beside the
+	 * engine thread's own, at least one (the engine's defaultSelfIntersectThreads, inspect-node.ts).
 	 */
 	get checkThreads() {
-		return Math.max(1, num('CHECK_THREADS', availableParallelism()));
+		return Math.max(1, num('CHECK_THREADS', availableParallelism() - 1));
 	},
 	/**
 	 * Nice value added to the engine threads (Linux), so the web process and MariaDB keep the CPU

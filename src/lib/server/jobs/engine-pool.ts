@@ -38,7 +38,7 @@ export interface EnginePoolOptions {
 	idleMs: number;
 	/** Threads kept started and warm while idle, once warm() was called (default 0). */
 	keepWarm?: number;
-	/** Worker threads a check of a kept thread starts (the `threads` of its check tasks): the warm-up runs on as many. Default one per core. */
+	/** Worker threads a check of a kept thread starts (the `threads` of its check tasks): the warm-up runs on as many. Default one per core less the engine thread (defaultSelfIntersectThreads). */
 	warmThreads?: number;
 	/** A task input this large marks its thread for retirement when next idle (default 24 MB, about 500 k faces of binary STL). */
 	retireBytes?: number;

@@ -3,6 +3,7 @@
  * projections run on the calling thread, which then joins the self-intersection traversal for
  * whatever is left of it; the report is the same as inspectBytes gives.
  */
+import { readFileSync } from 'node:fs';
 import { availableParallelism, loadavg } from 'node:os';
 import { readMesh } from './read';
 import { findSelfIntersections } from './self-intersect';
@@ -37,13 +38,12 @@ export interface InspectNodeOptions extends InspectRunOptions {
 	wallsAlongside?: boolean;
 	/**
 	 * Below the worker switch, from this many faces, count the self-intersections on one worker
-	 * thread while this thread builds the rest of the report, when a core looks free (the
-	 * one-minute load average under the cores less a half: a worker on a busy machine only adds
-	 * its start-up). Off unless set (the command line sets SELF_INTERSECT_ALONGSIDE_MIN_FACES; a
+	 * thread while this thread builds the rest of the report, when a core looks free (coreLooksFree:
+	 * a worker on a busy machine only adds its start-up). Off unless set (the command line sets SELF_INTERSECT_ALONGSIDE_MIN_FACES; a
 	 * kept engine thread runs its wall-and-gap rays alongside instead). Same results.
 	 */
 	alongsideMinFaces?: number;
-	/** Whether a core is free for alongsideMinFaces (default: the load average test above). */
+	/** Whether a core is free for alongsideMinFaces (default coreLooksFree). */
 	coreIsFree?: () => boolean;
 	/** Stage names: read, topology, measures, shells, projection, hints, self-intersections, done. */
 	onProgress?: (stage: string, percent: number) => void;
@@ -57,12 +57,12 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 	const minFaces = opts.workerMinFaces ?? SELF_INTERSECT_WORKER_MIN_FACES;
 	const sampleLimit = opts.sampleLimit ?? DEFAULT_SAMPLE_LIMIT;
 	const alongsideMin = opts.alongsideMinFaces ?? Infinity;
-	const alongside = !opts.skipSelfIntersections && maxThreads > 0 && alongsideMin < minFaces && (opts.coreIsFree ?? coreLooksFree)();
 	// Worker start-up (module loading in each thread) then overlaps reading the file, when the
 	// file can hold enough faces to use them.
 	const bound = maxFacesIn(bytes, fileName);
+	const alongside = !opts.skipSelfIntersections && maxThreads > 0 && alongsideMin < minFaces && bound >= alongsideMin && (opts.coreIsFree ?? coreLooksFree)();
 	if (!opts.skipSelfIntersections && maxThreads > 0 && bound >= minFaces) warmSelfIntersectPool(maxThreads);
-	else if (alongside && bound >= alongsideMin) warmSelfIntersectPool(1);
+	else if (alongside) warmSelfIntersectPool(1);
 	progress('read', 0);
 	const maxFaces = opts.maxFaces ?? DEFAULT_MAX_FACES;
 	const parsed = readMesh(bytes, fileName, { maxFaces });
@@ -151,9 +151,36 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
  */
 export const SELF_INTERSECT_ALONGSIDE_MIN_FACES = 20_000;
 
-/** A core is likely idle: the one-minute load average is under the cores less a half. */
-function coreLooksFree(): boolean {
-	return loadavg()[0] < availableParallelism() - 0.5;
+/**
+ * A core is likely idle beside this thread: on Linux, no more threads runnable right now (besides
+ * this one) than the cores less one, the least of three looks half a millisecond apart (so a
+ * momentary burst does not count); elsewhere, the one-minute load average under the cores less a
+ * half. The load average lags by a minute: a run of commands one after another raised it to 1.3–1.8
+ * on 2 cores while each found the other core idle, and the worker was then left unused.
+ */
+export function coreLooksFree(): boolean {
+	const cores = availableParallelism();
+	const others = otherRunnableThreads();
+	return others === null ? loadavg()[0] < cores - 0.5 : others <= cores - 2;
+}
+
+/** Runnable threads on the machine besides this one (/proc/loadavg, fourth field), or null when unknown. */
+function otherRunnableThreads(): number | null {
+	let least = Infinity;
+	const pause = new Int32Array(new SharedArrayBuffer(4));
+	for (let i = 0; i < 3; i++) {
+		if (i > 0) Atomics.wait(pause, 0, 0, 0.5);
+		let text: string;
+		try {
+			text = readFileSync('/proc/loadavg', 'latin1');
+		} catch {
+			return null;
+		}
+		const m = /^\S+ \S+ \S+ (\d+)\//.exec(text);
+		if (!m) return null;
+		least = Math.min(least, Number(m[1]) - 1);
+	}
+	return Math.max(0, least);
 }
 
 /**

@@ -128,8 +128,8 @@ function writeAll(fd: number, text: string): void {
 	}
 }
 
-// The built command line is one bundle that its worker threads load too (module-worker-node.ts):
-// only the main thread runs the command. Set the exit code and let Node leave once stdout has
+// Only the main thread runs the command (the built command line's worker threads load the
+// workers bundle, scripts/build-cli.mjs). Set the exit code and let Node leave once stdout has
 // drained; process.exit() would cut a piped report short.
 if (isMainThread) {
 	main().then((code) => {

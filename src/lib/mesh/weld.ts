@@ -84,9 +84,9 @@ function weldHalfwords(
 ): { result: WeldResult; firstNonFinite: number } {
 	const indices = new Uint32Array(cornerCount);
 	// Meshes have about half as many vertices as triangles (a sixth of the corners); start there.
-	const guess = Math.max(16, Math.ceil(cornerCount / 6));
-	const size = tableSizeFor(guess);
-	const wt: WeldTable = { table: new Uint32Array(size), words: new Uint32Array(3 * guess), vertCount: 0, cornerCount };
+	const size = tableSizeFor(Math.max(16, Math.ceil(cornerCount / 6)));
+	// Words for as many vertices as the table takes before it grows (half its slots), so the two grow together.
+	const wt: WeldTable = { table: new Uint32Array(size), words: new Uint32Array(3 * Math.min(cornerCount, size / 2)), vertCount: 0, cornerCount };
 	const recent = new Uint32Array(4 * (RECENT_MASK + 1));
 	// The corner loop and the positions loop are functions of their own: in a fresh process code
 	// after an optimised loop that has not run yet makes V8 drop the loop's code at its exit.

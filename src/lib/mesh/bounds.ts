@@ -1,6 +1,7 @@
 /**
  * The one bounding-box scan: axis-aligned bounds of xyz triples, as
- * [minX, minY, minZ, maxX, maxY, maxZ] (min = +Infinity, max = −Infinity when there are no points).
+ * [minX, minY, minZ, maxX, maxY, maxZ] (min = +Infinity, max = −Infinity when there are no points),
+ * and of projected xy pairs as [minX, minY, maxX, maxY] (planeBounds, indexedPlaneBounds).
  */
 export type Bounds6 = Float64Array;
 
@@ -42,5 +43,40 @@ function setBounds(out: Bounds6, x0: number, y0: number, z0: number, x1: number,
 	out[3] = x1;
 	out[4] = y1;
 	out[5] = z1;
+	return out;
+}
+
+/** Bounds of the first `count` pairs of `xy` (stride 2), out = [x0, y0, x1, y1] (written as they change). */
+export function planeBounds(xy: Float64Array, count: number, out: Float64Array = new Float64Array(4)): Float64Array {
+	let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+	out[0] = x0;
+	out[1] = y0;
+	out[2] = x1;
+	out[3] = y1;
+	for (let v = 0; v < count; v++) {
+		const a = xy[2 * v], b = xy[2 * v + 1];
+		if (a < x0) out[0] = x0 = a;
+		if (a > x1) out[2] = x1 = a;
+		if (b < y0) out[1] = y0 = b;
+		if (b > y1) out[3] = y1 = b;
+	}
+	return out;
+}
+
+/** Bounds of the pairs `xy[2 * ids[i] ..]` for every i (e.g. the projected corners faces use), as planeBounds. */
+export function indexedPlaneBounds(xy: Float64Array, ids: Uint32Array, out: Float64Array = new Float64Array(4)): Float64Array {
+	let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+	out[0] = x0;
+	out[1] = y0;
+	out[2] = x1;
+	out[3] = y1;
+	for (let i = 0; i < ids.length; i++) {
+		const v2 = 2 * ids[i];
+		const a = xy[v2], b = xy[v2 + 1];
+		if (a < x0) out[0] = x0 = a;
+		if (a > x1) out[2] = x1 = a;
+		if (b < y0) out[1] = y0 = b;
+		if (b > y1) out[3] = y1 = b;
+	}
 	return out;
 }

@@ -10,6 +10,7 @@
  * An unmarked cell holds no outline, so it is wholly in or out and its centre sample is exact.
  * O(F + E + covered cells + refined samples).
  */
+import { indexedPlaneBounds, planeBounds } from './bounds';
 import type { EdgeTable } from './edges';
 import { newSlabScratch, slabSilhouetteArea, type SlabScratch } from './projection-slabs';
 import { unionSilhouetteArea } from './projection-union';
@@ -137,7 +138,9 @@ export function silhouetteArea(
 	const [u, w] = basisFor(direction);
 	const proj = scratch && scratch.proj.length >= 2 * vertCount ? scratch.proj : new Float64Array(2 * vertCount);
 	projectVertices(positions, vertCount, u[0], u[1], u[2], w[0], w[1], w[2], proj);
-	const box = scratch?.allReferenced ? pointBox(proj, vertCount, BOX) : projectedBox(proj, indices, BOX);
+	// Every vertex used by a face: the same box over the vertices in order (at most the sign of a
+	// zero bound differs, which no later step can see), instead of through the corners.
+	const box = scratch?.allReferenced ? planeBounds(proj, vertCount, BOX) : indexedPlaneBounds(proj, indices, BOX);
 	const x0 = box[0], y0 = box[1], x1 = box[2], y1 = box[3];
 	if (!(x1 > x0) || !(y1 > y0)) return { area: 0, errorBound: 0, cellsX: 0, cellsY: 0, cellSize: 0 };
 	const h = Math.max(x1 - x0, y1 - y0) / cells;
@@ -214,45 +217,6 @@ function projectVertices(positions: Float64Array, vertCount: number, u0: number,
 		proj[2 * v] = px * u0 + py * u1 + pz * u2;
 		proj[2 * v + 1] = px * w0 + py * w1 + pz * w2;
 	}
-}
-
-/** Bounds of the projected corners that faces use: out = [x0, y0, x1, y1] (written as they change). */
-function projectedBox(proj: Float64Array, indices: Uint32Array, out: Float64Array): Float64Array {
-	let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-	out[0] = x0;
-	out[1] = y0;
-	out[2] = x1;
-	out[3] = y1;
-	for (let i = 0; i < indices.length; i++) {
-		const v2 = 2 * indices[i];
-		const a = proj[v2], b = proj[v2 + 1];
-		if (a < x0) out[0] = x0 = a;
-		if (a > x1) out[2] = x1 = a;
-		if (b < y0) out[1] = y0 = b;
-		if (b > y1) out[3] = y1 = b;
-	}
-	return out;
-}
-
-/**
- * Bounds of all projected vertices, out = [x0, y0, x1, y1]: projectedBox's result when every
- * vertex is used by a face (the same values in another order; at most the sign of a zero bound
- * differs, which no later step can see).
- */
-function pointBox(proj: Float64Array, vertCount: number, out: Float64Array): Float64Array {
-	let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-	out[0] = x0;
-	out[1] = y0;
-	out[2] = x1;
-	out[3] = y1;
-	for (let v = 0; v < vertCount; v++) {
-		const a = proj[2 * v], b = proj[2 * v + 1];
-		if (a < x0) out[0] = x0 = a;
-		if (a > x1) out[2] = x1 = a;
-		if (b < y0) out[1] = y0 = b;
-		if (b > y1) out[3] = y1 = b;
-	}
-	return out;
 }
 
 /** Pixel-centre raster of every projected triangle (of one facing where oneSided[t] = 1) onto grid. */

@@ -155,24 +155,28 @@ export function silhouetteArea(
 	}
 	const inv = 1 / h;
 	const one = oneSided ?? NO_ONE_SIDED;
-	rasterCoarse(proj, indices, triCount, skipFace, one, oneSided !== undefined, x0, y0, inv, nx, ny, grid);
-	// Outline candidates: mark every cell they meet (each cell once). An unmarked cell holds no
+	const useOne = oneSided !== undefined;
+	// Outline candidates first: mark every cell they meet (each cell once). An unmarked cell holds no
 	// piece of the outline, so it lies wholly inside or wholly outside and its centre sample is right.
+	// The marks depend on the edges alone, so they come before the triangle pass, which can then
+	// sample the marked cells' sub-cells in the same pass over the triangles.
 	const mark = scratch && scratch.mark && scratch.mark.length >= need ? scratch.mark.subarray(0, need) : new Uint8Array(need);
 	mark.fill(0);
 	if (scratch && (!scratch.mark || scratch.mark.length < need)) scratch.mark = mark;
 	const cand: number[] = [];
 	markCandidates(et, proj, indices, x0, y0, inv, nx, ny, mark, cand);
 	const marked = countOnes(mark);
-	const covered = countOutside(grid, mark, need);
 	const cellArea = h * h;
-	if (marked === 0) return { area: covered * cellArea, errorBound: 0, cellsX: nx, cellsY: ny, cellSize: h };
-
 	// Refine only the marked cells: k × k sub-cells each, sampled at their centres, and bound the
 	// error by the sub-cells the candidates meet. The bound shrinks about k-fold.
 	let k = REFINE;
 	while (k > 1 && marked * k * k > REFINE_SAMPLE_CAP) k >>= 1;
-	if (k === 1) return { area: (covered + countMarkedCovered(grid, mark, need)) * cellArea, errorBound: marked * cellArea, cellsX: nx, cellsY: ny, cellSize: h };
+	if (marked === 0 || k === 1) {
+		rasterCoarse(proj, indices, triCount, skipFace, one, useOne, x0, y0, inv, nx, ny, grid);
+		const covered = countOutside(grid, mark, need);
+		if (marked === 0) return { area: covered * cellArea, errorBound: 0, cellsX: nx, cellsY: ny, cellSize: h };
+		return { area: (covered + countMarkedCovered(grid, mark, need)) * cellArea, errorBound: marked * cellArea, cellsX: nx, cellsY: ny, cellSize: h };
+	}
 	const kk = k * k;
 	// Marked cells in row-major order: slot of each, and per row the sorted columns.
 	const slot = new Int32Array(need).fill(-1);
@@ -185,12 +189,13 @@ export function silhouetteArea(
 	const fine = fineBoth.subarray(0, marked * kk);
 	const fineEdge = fineBoth.subarray(marked * kk);
 	const invF = inv * k;
-	// Marked cells per rectangle in O(1) (summed-area table), so the fine pass skips every triangle
-	// whose box meets no marked cell: only those can set a sub-cell, so the result is the same, and
-	// the pass costs the triangles near the outline instead of all of them.
+	// Marked cells per rectangle in O(1) (summed-area table), so the sub-cell sampling skips every
+	// triangle whose box meets no marked cell: only those can set a sub-cell, so the result is the
+	// same, and it costs the triangles near the outline instead of all of them.
 	const sat = new Int32Array((nx + 1) * (ny + 1));
 	summedArea(mark, nx, ny, sat);
-	rasterFine(proj, indices, triCount, skipFace, one, oneSided !== undefined, x0, y0, invF, k, nx, ny, sat, rowStart, cols, fine);
+	rasterBoth(proj, indices, triCount, skipFace, one, useOne, x0, y0, inv, nx, ny, grid, invF, k, sat, rowStart, cols, fine);
+	const covered = countOutside(grid, mark, need);
 	const fineBound = markFineEdges(cand, et.edgeLo, et.edgeHi, proj, x0, y0, invF, k, nx, ny, slot, fineEdge, STRAY);
 	const stray = STRAY[0];
 	const fineCovered = countOnes(fine);
@@ -407,8 +412,13 @@ function summedArea(mark: Uint8Array, nx: number, ny: number, sat: Int32Array): 
 	}
 }
 
-/** Pixel-centre raster on k × k sub-cells of the marked cells only, into fine (per slot, row-major). */
-function rasterFine(
+/**
+ * One pass over the triangles for both rasters: the pixel-centre raster of each (of one facing
+ * where oneSided[t] = 1) onto grid, as rasterCoarse, and on k × k sub-cells of the marked cells
+ * only, into fine (per slot, row-major). The two share the loads of a triangle's corners; each
+ * scale keeps its own coordinates and its own facing test, so each gives what a pass of its own gives.
+ */
+function rasterBoth(
 	proj: Float64Array,
 	indices: Uint32Array,
 	triCount: number,
@@ -417,10 +427,12 @@ function rasterFine(
 	useOneSided: boolean,
 	x0: number,
 	y0: number,
-	invF: number,
-	k: number,
+	inv: number,
 	nx: number,
 	ny: number,
+	grid: Uint8Array,
+	invF: number,
+	k: number,
 	sat: Int32Array,
 	rowStart: Int32Array,
 	cols: Int32Array,
@@ -432,12 +444,28 @@ function rasterFine(
 		if (skipFace[t]) continue;
 		const t3 = 3 * t;
 		const a2 = 2 * indices[t3], b2 = 2 * indices[t3 + 1], c2 = 2 * indices[t3 + 2];
-		const ax = (proj[a2] - x0) * invF - 0.5, ay = (proj[a2 + 1] - y0) * invF - 0.5;
-		const bx = (proj[b2] - x0) * invF - 0.5, by = (proj[b2 + 1] - y0) * invF - 0.5;
-		const cx = (proj[c2] - x0) * invF - 0.5, cy = (proj[c2 + 1] - y0) * invF - 0.5;
+		const pax = proj[a2], pay = proj[a2 + 1], pbx = proj[b2], pby = proj[b2 + 1], pcx = proj[c2], pcy = proj[c2 + 1];
+		const one = useOneSided && oneSided[t] === 1;
+		{
+			// The cells (as rasterCoarse).
+			const ax = (pax - x0) * inv - 0.5, ay = (pay - y0) * inv - 0.5;
+			const bx = (pbx - x0) * inv - 0.5, by = (pby - y0) * inv - 0.5;
+			const cx = (pcx - x0) * inv - 0.5, cy = (pcy - y0) * inv - 0.5;
+			const cross = (bx - ax) * (cy - ay) - (by - ay) * (cx - ax);
+			if (cross !== 0 && !(cross < 0 && one)) {
+				let r0 = Math.ceil(Math.min(ay, by, cy)) + 0, r1 = Math.floor(Math.max(ay, by, cy));
+				if (r0 < 0) r0 = 0;
+				if (r1 > ny - 1) r1 = ny - 1;
+				if (r1 >= r0) coarseRows(ax, ay, bx, by, cx, cy, r0, r1, nx, grid);
+			}
+		}
+		// The sub-cells of the marked cells.
+		const ax = (pax - x0) * invF - 0.5, ay = (pay - y0) * invF - 0.5;
+		const bx = (pbx - x0) * invF - 0.5, by = (pby - y0) * invF - 0.5;
+		const cx = (pcx - x0) * invF - 0.5, cy = (pcy - y0) * invF - 0.5;
 		const cross = (bx - ax) * (cy - ay) - (by - ay) * (cx - ax);
 		if (cross === 0) continue;
-		if (cross < 0 && useOneSided && oneSided[t] === 1) continue;
+		if (cross < 0 && one) continue;
 		// The triangle's cells, widened by one on each side against rounding.
 		let q0 = Math.floor(Math.min(ax, bx, cx) * kInv) - 1, q1 = Math.floor(Math.max(ax, bx, cx) * kInv) + 2;
 		let p0 = Math.floor(Math.min(ay, by, cy) * kInv) - 1, p1 = Math.floor(Math.max(ay, by, cy) * kInv) + 2;
@@ -454,8 +482,20 @@ function rasterFine(
 	}
 }
 
+/** rasterCoarse's rows r0 .. r1 of one triangle (grid units, pixel centres at integers) set in grid. */
+function coarseRows(ax: number, ay: number, bx: number, by: number, cx: number, cy: number, r0: number, r1: number, nx: number, grid: Uint8Array): void {
+	for (let r = r0; r <= r1; r++) {
+		rowSpan(ax, ay, bx, by, cx, cy, r, SPAN);
+		let c0 = Math.ceil(SPAN[0]) + 0, c1 = Math.floor(SPAN[1]);
+		if (c0 < 0) c0 = 0;
+		if (c1 > nx - 1) c1 = nx - 1;
+		const row = r * nx;
+		if (c1 >= c0) grid.fill(1, row + c0, row + c1 + 1);
+	}
+}
+
 /**
- * rasterFine for one triangle (grid units of the sub-cells, pixel centres at integers), sub-rows
+ * The sub-cell raster for one triangle (grid units of the sub-cells, pixel centres at integers), sub-rows
  * r0 .. r1, its cells q0 .. q1 − 1. A function of its own: a fresh process may first optimise
  * this loop inside one large triangle, and the code after it has then never run.
  */

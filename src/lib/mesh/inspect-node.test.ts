@@ -1,5 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { inspectFileNode } from './inspect-node';
+import { availableParallelism } from 'node:os';
+import { Worker } from 'node:worker_threads';
+import { coreLooksFree, defaultSelfIntersectThreads, inspectFileNode } from './inspect-node';
 import { inspectBytes } from './inspect';
 import { writeBinaryStl } from './write';
 import { concat, icosphere, torus, unitCube } from './testing/test-meshes';
@@ -88,5 +90,20 @@ describe('inspectFileNode', () => {
 
 	it('rejects with the reader message when the bytes are no mesh', async () => {
 		await expect(inspectFileNode(new Uint8Array([1, 2, 3]), 'junk.bin')).rejects.toThrow(/junk\.bin/);
+	});
+
+	it('sees no free core while every core runs a busy thread, and leaves the calling thread a core of its own', async () => {
+		const cores = availableParallelism();
+		expect(defaultSelfIntersectThreads()).toBe(Math.max(1, cores - 1));
+		if (process.platform !== 'linux') return;
+		// One spinning thread per core: with this one, more runnable threads than cores, whatever else runs.
+		const spin = 'const end = Date.now() + 3000; require("node:worker_threads").parentPort.postMessage(1); while (Date.now() < end) {}';
+		const busy = Array.from({ length: cores }, () => new Worker(spin, { eval: true }));
+		try {
+			await Promise.all(busy.map((w) => new Promise((ok) => w.once('message', ok))));
+			expect(coreLooksFree()).toBe(false);
+		} finally {
+			await Promise.all(busy.map((w) => w.terminate()));
+		}
 	});
 });

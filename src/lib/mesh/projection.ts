@@ -252,19 +252,11 @@ function rasterCoarse(
 		// A line along the direction that meets a closed, consistently oriented shell crosses it
 		// as often forwards as backwards, so the faces of one facing cover that shell's shadow.
 		if (cross < 0 && useOneSided && oneSided[t] === 1) continue;
-		const ymin = Math.min(ay, by, cy), ymax = Math.max(ay, by, cy);
 		// + 0 turns a −0 from ceil into 0, so compiled code needs no minus-zero check here.
-		let r0 = Math.ceil(ymin) + 0, r1 = Math.floor(ymax);
+		let r0 = Math.ceil(Math.min(ay, by, cy)) + 0, r1 = Math.floor(Math.max(ay, by, cy));
 		if (r0 < 0) r0 = 0;
 		if (r1 > ny - 1) r1 = ny - 1;
-		for (let r = r0; r <= r1; r++) {
-			rowSpan(ax, ay, bx, by, cx, cy, r, SPAN);
-			let c0 = Math.ceil(SPAN[0]) + 0, c1 = Math.floor(SPAN[1]);
-			if (c0 < 0) c0 = 0;
-			if (c1 > nx - 1) c1 = nx - 1;
-			const row = r * nx;
-			if (c1 >= c0) grid.fill(1, row + c0, row + c1 + 1);
-		}
+		if (r1 >= r0) coarseRows(ax, ay, bx, by, cx, cy, r0, r1, nx, grid);
 	}
 }
 

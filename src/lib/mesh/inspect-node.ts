@@ -152,7 +152,7 @@ export async function inspectFileNode(bytes: Uint8Array, fileName: string, opts:
 export const SELF_INTERSECT_ALONGSIDE_MIN_FACES = 20_000;
 
 /**
- * A core is likely idle beside this thread: on Linux, no more threads runnable right now (besides
+ * A core is likely idle beside this thread: on Linux, fewer threads runnable right now (besides
  * this one) than the cores less one, the least of three looks half a millisecond apart (so a
  * momentary burst does not count); elsewhere, the one-minute load average under the cores less a
  * half. The load average lags by a minute: a run of commands one after another raised it to 1.3–1.8

@@ -56,7 +56,7 @@ if (!process.argv.includes('--if-stale') || stale()) {
 		// bundle runs; V8 flags are per process, so its worker threads have it too.
 		banner: {
 			// "use strict" first, as the sources are ES modules (strict code) and the banner comes before esbuild's own.
-			js: ['"use strict";', `require('node:v8').setFlagsFromString('--no-concurrent-osr');`, `const __shellgateModuleUrl = ${WORKERS_URL};`].join('\n')
+			js: ['"use strict";', `if (require('node:worker_threads').isMainThread) require('node:v8').setFlagsFromString('--no-concurrent-osr');`, `const __shellgateModuleUrl = ${WORKERS_URL};`].join('\n')
 		},
 		legalComments: 'none',
 		logLevel: 'warning'

@@ -243,21 +243,30 @@ function rasterCoarse(
 		if (skipFace[t]) continue;
 		const t3 = 3 * t;
 		const a2 = 2 * indices[t3], b2 = 2 * indices[t3 + 1], c2 = 2 * indices[t3 + 2];
-		// Grid units, cell centres at integer + 0.5 → shift by 0.5 so centres are integers.
-		const ax = (proj[a2] - x0) * inv - 0.5, ay = (proj[a2 + 1] - y0) * inv - 0.5;
-		const bx = (proj[b2] - x0) * inv - 0.5, by = (proj[b2 + 1] - y0) * inv - 0.5;
-		const cx = (proj[c2] - x0) * inv - 0.5, cy = (proj[c2 + 1] - y0) * inv - 0.5;
-		const cross = (bx - ax) * (cy - ay) - (by - ay) * (cx - ax);
-		if (cross === 0) continue; // edge-on: no area
-		// A line along the direction that meets a closed, consistently oriented shell crosses it
-		// as often forwards as backwards, so the faces of one facing cover that shell's shadow.
-		if (cross < 0 && useOneSided && oneSided[t] === 1) continue;
-		// + 0 turns a −0 from ceil into 0, so compiled code needs no minus-zero check here.
-		let r0 = Math.ceil(Math.min(ay, by, cy)) + 0, r1 = Math.floor(Math.max(ay, by, cy));
-		if (r0 < 0) r0 = 0;
-		if (r1 > ny - 1) r1 = ny - 1;
-		if (r1 >= r0) coarseRows(ax, ay, bx, by, cx, cy, r0, r1, nx, grid);
+		const one = useOneSided && oneSided[t] === 1;
+		coarseTriangle(proj[a2], proj[a2 + 1], proj[b2], proj[b2 + 1], proj[c2], proj[c2 + 1], one, x0, y0, inv, nx, ny, grid);
 	}
+}
+
+/**
+ * One projected triangle's cells whose centres it covers, set in grid; none when it is edge-on, or
+ * when it faces away and `one` (of one facing) is set.
+ */
+function coarseTriangle(pax: number, pay: number, pbx: number, pby: number, pcx: number, pcy: number, one: boolean, x0: number, y0: number, inv: number, nx: number, ny: number, grid: Uint8Array): void {
+	// Grid units, cell centres at integer + 0.5 → shift by 0.5 so centres are integers.
+	const ax = (pax - x0) * inv - 0.5, ay = (pay - y0) * inv - 0.5;
+	const bx = (pbx - x0) * inv - 0.5, by = (pby - y0) * inv - 0.5;
+	const cx = (pcx - x0) * inv - 0.5, cy = (pcy - y0) * inv - 0.5;
+	const cross = (bx - ax) * (cy - ay) - (by - ay) * (cx - ax);
+	if (cross === 0) return; // edge-on: no area
+	// A line along the direction that meets a closed, consistently oriented shell crosses it
+	// as often forwards as backwards, so the faces of one facing cover that shell's shadow.
+	if (cross < 0 && one) return;
+	// + 0 turns a −0 from ceil into 0, so compiled code needs no minus-zero check here.
+	let r0 = Math.ceil(Math.min(ay, by, cy)) + 0, r1 = Math.floor(Math.max(ay, by, cy));
+	if (r0 < 0) r0 = 0;
+	if (r1 > ny - 1) r1 = ny - 1;
+	if (r1 >= r0) coarseRows(ax, ay, bx, by, cx, cy, r0, r1, nx, grid);
 }
 
 /**
@@ -438,19 +447,7 @@ function rasterBoth(
 		const a2 = 2 * indices[t3], b2 = 2 * indices[t3 + 1], c2 = 2 * indices[t3 + 2];
 		const pax = proj[a2], pay = proj[a2 + 1], pbx = proj[b2], pby = proj[b2 + 1], pcx = proj[c2], pcy = proj[c2 + 1];
 		const one = useOneSided && oneSided[t] === 1;
-		{
-			// The cells (as rasterCoarse).
-			const ax = (pax - x0) * inv - 0.5, ay = (pay - y0) * inv - 0.5;
-			const bx = (pbx - x0) * inv - 0.5, by = (pby - y0) * inv - 0.5;
-			const cx = (pcx - x0) * inv - 0.5, cy = (pcy - y0) * inv - 0.5;
-			const cross = (bx - ax) * (cy - ay) - (by - ay) * (cx - ax);
-			if (cross !== 0 && !(cross < 0 && one)) {
-				let r0 = Math.ceil(Math.min(ay, by, cy)) + 0, r1 = Math.floor(Math.max(ay, by, cy));
-				if (r0 < 0) r0 = 0;
-				if (r1 > ny - 1) r1 = ny - 1;
-				if (r1 >= r0) coarseRows(ax, ay, bx, by, cx, cy, r0, r1, nx, grid);
-			}
-		}
+		coarseTriangle(pax, pay, pbx, pby, pcx, pcy, one, x0, y0, inv, nx, ny, grid);
 		// The sub-cells of the marked cells.
 		const ax = (pax - x0) * invF - 0.5, ay = (pay - y0) * invF - 0.5;
 		const bx = (pbx - x0) * invF - 0.5, by = (pby - y0) * invF - 0.5;
@@ -474,7 +471,7 @@ function rasterBoth(
 	}
 }
 
-/** rasterCoarse's rows r0 .. r1 of one triangle (grid units, pixel centres at integers) set in grid. */
+/** coarseTriangle's rows r0 .. r1 of one triangle (grid units, pixel centres at integers) set in grid. */
 function coarseRows(ax: number, ay: number, bx: number, by: number, cx: number, cy: number, r0: number, r1: number, nx: number, grid: Uint8Array): void {
 	for (let r = r0; r <= r1; r++) {
 		rowSpan(ax, ay, bx, by, cx, cy, r, SPAN);

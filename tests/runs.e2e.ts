@@ -159,3 +159,17 @@ test('the upload page asks how several files relate, names each part from its fi
 	await page.getByTestId('upload-run-link').click();
 	await expect(page.getByTestId('run-summary')).toContainText('Iterations of one design · 3 revisions in 1 part · iterations 1–3');
 });
+
+test('files chosen while the upload page is still starting are taken up once its script runs', async ({ page }) => {
+	await signInAs(page, 'designer');
+	// Hold the page's scripts back for a second, so the files are chosen before it is interactive.
+	await page.route('**/_app/immutable/**/*.js', async (route) => {
+		await new Promise((r) => setTimeout(r, 1000));
+		await route.continue();
+	});
+	await page.goto('/upload?project=keel-bulbs', { waitUntil: 'commit' });
+	const files = [0, 1].map((i) => ({ name: `Early_${i}.stl`, mimeType: 'model/stl', buffer: Buffer.from(writeBinaryStl(icosphere(1, 0.2 + i / 50))) }));
+	await page.getByLabel('Files').setInputFiles(files);
+	await expect(page.getByTestId('batch-mode')).toContainText('How do these 2 files relate?');
+	await expect(page.getByRole('button', { name: 'Upload 2 files' })).toBeVisible();
+});
